@@ -1,0 +1,1 @@
+"""Scene files: load, validate and convert to SI; no field math here."""

@@ -1,0 +1,1 @@
+"""Command line, renders, exports and reports."""
