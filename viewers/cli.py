@@ -1,0 +1,65 @@
+"""`trapscape` command line: one sub-command per module in viewers/commands/.
+
+Exit codes: 0 done, 2 bad input (one clear line on stderr), 1 a bug.
+"""
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+
+from scene.errors import SceneError
+
+COMMANDS = {
+    "check": "validate a scene and list its parts, volumes and moments",
+    "field": "B, H and |B| at points, along a line or on a plane",
+    "traps": "equilibria of the probe with their classification",
+    "hold": "pull of the magnets on steel plates against the gap",
+    "render": "the 3D view, off-screen to a PNG or in a window",
+    "export": "open-format data (.vti, .vtp, .stl) and an offline interactive view (.html)",
+    "demo": "the whole job on a bundled sample",
+}
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):  # argparse's own usage errors are bad input too: exit 2
+        self.print_usage(sys.stderr)
+        raise SceneError(f"{self.prog}: {message}")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    from importlib.metadata import PackageNotFoundError, version
+
+    try:
+        tool_version = version("trapscape")
+    except PackageNotFoundError:
+        tool_version = "unknown"
+    parser = _Parser(prog="trapscape", description="Magnet traps: where small parts are caught.")
+    parser.add_argument("--version", action="version", version=f"trapscape {tool_version}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    for name, help_text in COMMANDS.items():
+        module = importlib.import_module(f"viewers.commands.{name}")
+        command_parser = sub.add_parser(name, help=help_text, description=help_text)
+        module.add_arguments(command_parser)
+        command_parser.set_defaults(run=module.run)
+    return parser
+
+
+def main(argv=None) -> int:
+    try:
+        parser = build_parser()
+        args = parser.parse_args(argv)
+        if not getattr(args, "run", None):
+            parser.print_help(sys.stderr)
+            return 2
+        return int(args.run(args) or 0)
+    except SceneError as error:
+        print(f"trapscape: {error}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("trapscape: interrupted", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":
+    sys.exit(main())
