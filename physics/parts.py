@@ -1,0 +1,188 @@
+"""From a scene's Magnet to its field sources, magnetisation and geometry in the world frame."""
+from __future__ import annotations
+
+import numpy as np
+
+from physics.sources import Source, magnetization_vector
+
+NEAR_ZONE_CELLS = 4.0  # a dipole set is replaced by the exact form closer than this (in cells)
+EXACT_TRIANGLE_LIMIT = 200  # meshes with fewer triangles are evaluated exactly everywhere
+RADIAL_CELLS_PER_WALL = 8  # radial parts have no closed form here: a finer dipole set
+
+
+def body_bounds(magnet) -> tuple[np.ndarray, np.ndarray]:
+    """Body-frame bounding box (lower, upper) in m."""
+    d = magnet.dims
+    if magnet.shape == "box":
+        half = np.asarray(d, dtype=float) / 2.0
+        return -half, half
+    if magnet.shape in ("cylinder", "sphere"):
+        r = d[0] / 2.0
+        h = d[1] / 2.0 if magnet.shape == "cylinder" else r
+        return np.array([-r, -r, -h]), np.array([r, r, h])
+    if magnet.shape == "ring":
+        r, h = d[0] / 2.0, d[2] / 2.0
+        return np.array([-r, -r, -h]), np.array([r, r, h])
+    vertices = body_mesh(magnet)[0]
+    return vertices.min(axis=0), vertices.max(axis=0)
+
+
+def body_mesh(magnet):
+    """(vertices, faces) of a mesh or arc part in its body frame."""
+    if magnet.shape == "mesh":
+        return np.asarray(magnet.mesh_vertices, float), np.asarray(magnet.mesh_faces, np.int64)
+    if magnet.shape == "arc":
+        from physics.arc import arc_mesh
+
+        return arc_mesh(*magnet.dims)
+    raise ValueError(f"{magnet.shape} has no mesh")
+
+
+def part_volume(magnet) -> float:
+    """Closed-form volume of a primitive; a mesh's by the divergence theorem (sum of signed
+    tetrahedra from the origin), m^3."""
+    d = magnet.dims
+    if magnet.shape == "box":
+        return float(np.prod(d))
+    if magnet.shape == "cylinder":
+        return np.pi * d[0] ** 2 * d[1] / 4.0
+    if magnet.shape == "ring":
+        return np.pi * (d[0] ** 2 - d[1] ** 2) * d[2] / 4.0
+    if magnet.shape == "arc":
+        return d[3] / 2.0 * ((d[0] / 2.0) ** 2 - (d[1] / 2.0) ** 2) * d[2]
+    if magnet.shape == "sphere":
+        return np.pi * d[0] ** 3 / 6.0
+    triangles = body_mesh(magnet)[0][body_mesh(magnet)[1]]
+    return float(np.einsum("ij,ij->i", triangles[:, 0],
+                           np.cross(triangles[:, 1], triangles[:, 2])).sum() / 6.0)
+
+
+def smallest_dimension(magnet) -> float:
+    """The thinnest extent of a part (a ring's or arc's wall counts), m."""
+    d = magnet.dims
+    if magnet.shape in ("ring", "arc"):
+        return min((d[0] - d[1]) / 2.0, d[2])
+    if magnet.shape == "box":
+        return float(min(d))
+    if magnet.shape == "cylinder":
+        return float(min(d))
+    if magnet.shape == "sphere":
+        return float(d[0])
+    lower, upper = body_bounds(magnet)
+    vertices, faces = body_mesh(magnet)
+    triangles = vertices[faces]
+    area = 0.5 * np.linalg.norm(
+        np.cross(triangles[:, 1] - triangles[:, 0], triangles[:, 2] - triangles[:, 0]), axis=1).sum()
+    return float(min((upper - lower).min(), 6.0 * part_volume(magnet) / area))
+
+
+def largest_dimension(magnet) -> float:
+    lower, upper = body_bounds(magnet)
+    return float(np.linalg.norm(upper - lower))
+
+
+def part_sdf(magnet, points) -> np.ndarray:
+    from physics.geometry import shape_sdf
+
+    body = (np.asarray(points, float) - magnet.position) @ magnet.rotation
+    mesh = body_mesh(magnet) if magnet.shape == "mesh" else None
+    return shape_sdf(magnet.shape, magnet.dims, body, mesh=mesh)
+
+
+def part_magnetization(magnet, points) -> np.ndarray:
+    """World-frame M (A/m) of the part at world points assumed inside it."""
+    body = (np.asarray(points, float) - magnet.position) @ magnet.rotation
+    return body_magnetization(magnet, body) @ magnet.rotation.T
+
+
+def body_magnetization(magnet, body_points) -> np.ndarray:
+    scale = magnet.remanence / (4e-7 * np.pi)
+    if magnet.radial is None:
+        return np.broadcast_to(magnetization_vector(magnet.remanence, magnet.north), body_points.shape).copy()
+    radial = body_points.copy()
+    radial[:, 2] = 0.0
+    norm = np.linalg.norm(radial, axis=1, keepdims=True)
+    direction = np.divide(radial, norm, out=np.zeros_like(radial), where=norm > 0)
+    sign = 1.0 if magnet.radial == "radial-out" else -1.0
+    return sign * scale * direction
+
+
+def _placed(magnet, index, kind, params, magnetization, **extra) -> Source:
+    volume = part_volume(magnet)
+    if magnetization is not None:
+        moment = magnet.rotation @ (magnetization * volume)
+    else:
+        moment = np.zeros(3)
+    return Source(
+        name=magnet.name, part=index, kind=kind, params=params,
+        center=np.asarray(magnet.position, float), matrix=np.asarray(magnet.rotation, float),
+        magnetization=magnetization, size=largest_dimension(magnet), moment=moment, **extra,
+    )
+
+
+def _exact_source(magnet, index) -> Source:
+    M = magnetization_vector(magnet.remanence, magnet.north)
+    d = magnet.dims
+    if magnet.shape == "box":
+        return _placed(magnet, index, "box", (np.asarray(d, float),), M)
+    if magnet.shape in ("cylinder", "ring", "sphere"):
+        return _placed(magnet, index, magnet.shape, tuple(float(v) for v in d), M)
+    return _placed(magnet, index, "polyhedron", body_mesh(magnet), M)
+
+
+def default_cell_size(magnet, accuracy: float) -> float:
+    if magnet.cell_size:
+        return float(magnet.cell_size)
+    from physics.dipoles import cell_size_for
+
+    per_wall = RADIAL_CELLS_PER_WALL if magnet.radial else None
+    cell = cell_size_for(accuracy, smallest_dimension(magnet))
+    return min(cell, smallest_dimension(magnet) / per_wall) if per_wall else cell
+
+
+def _dipole_source(magnet, index, accuracy, with_near_zone: bool) -> Source:
+    from physics.dipoles import discretise
+    from physics.geometry import shape_sdf
+
+    mesh = body_mesh(magnet) if magnet.shape == "mesh" else None
+
+    def sdf(body_points):
+        return shape_sdf(magnet.shape, magnet.dims, body_points, mesh=mesh)
+
+    def inside(body_points):
+        return sdf(body_points) < 0.0
+
+    cell = default_cell_size(magnet, accuracy)
+    lower, upper = body_bounds(magnet)
+    uniform = magnet.radial is None
+    M = magnetization_vector(magnet.remanence, magnet.north) if uniform else None
+    field_of_cells = M if uniform else (lambda p: body_magnetization(magnet, p))
+    positions, moments, _ = discretise(inside, lower, upper, cell, field_of_cells,
+                                       part_volume(magnet), sdf=sdf)
+    R = np.asarray(magnet.rotation, float)
+    extra = {}
+    if with_near_zone and uniform:
+        margin = NEAR_ZONE_CELLS * cell
+        extra = dict(near=_exact_source(magnet, index), near_lower=lower - margin,
+                     near_upper=upper + margin)
+    source = _placed(magnet, index, "dipoles", (), M,
+                     dipole_positions=positions @ R.T + magnet.position,
+                     dipole_moments=moments @ R.T, **extra)
+    if not uniform:
+        from dataclasses import replace
+
+        source = replace(source, moment=source.dipole_moments.sum(axis=0))
+    return source
+
+
+def part_sources(magnet, index, accuracy=1e-3) -> list[Source]:
+    """The sources that make up one magnet: exact where a closed form exists, else dipoles."""
+    if magnet.radial is not None:
+        return [_dipole_source(magnet, index, accuracy, with_near_zone=False)]
+    if magnet.method == "dipoles":
+        return [_dipole_source(magnet, index, accuracy, with_near_zone=False)]
+    if magnet.method == "exact" or magnet.shape != "mesh":
+        return [_exact_source(magnet, index)]
+    if len(magnet.mesh_faces) < EXACT_TRIANGLE_LIMIT:
+        return [_exact_source(magnet, index)]
+    return [_dipole_source(magnet, index, accuracy, with_near_zone=True)]

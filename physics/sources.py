@@ -1,0 +1,140 @@
+"""Field sources: each magnet of a scene (and each of its images in a steel plate) as a placed
+body-frame closed form or a dipole set.
+
+A source maps a world point x to its body frame by x_b = R^T (x - c), evaluates the body-frame
+field there and rotates it back, H = R H_b, dH/dx = R (dH_b/dx_b) R^T. R may be a reflection
+(det -1): that is how plate images are placed.
+"""
+from __future__ import annotations
+
+import importlib
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from physics.constants import MU0
+
+# shape -> (module, function stem) of the body-frame closed form (DEVELOPERS.md, Closed forms)
+CLOSED_FORMS = {
+    "sphere": ("physics.sphere", "sphere"),
+    "box": ("physics.cuboid", "cuboid"),
+    "cylinder": ("physics.cylinder", "cylinder"),
+    "ring": ("physics.cylinder", "ring"),
+    "polyhedron": ("physics.polyhedron", "polyhedron"),
+}
+
+# Beyond this many part sizes from its centre a part is replaced by its dipole: the closed forms
+# lose digits there (their terms cancel as (size/r)^3), while the dipole's own error is of order
+# (size / 2r)^2 < 1e-4 for a centrosymmetric part (its quadrupole vanishes; derived here).
+FAR_FIELD_SIZES = 50.0
+
+
+def closed_form(kind: str, gradient: bool = False):
+    module_name, stem = CLOSED_FORMS[kind]
+    module = importlib.import_module(module_name)
+    return getattr(module, f"{stem}_H_gradient" if gradient else f"{stem}_H")
+
+
+@dataclass(frozen=True, eq=False)
+class Source:
+    """One placed field source.
+
+    kind: a key of CLOSED_FORMS, or "dipoles". params: the body-frame dims passed to the closed
+    form before the magnetisation (for "polyhedron": vertices, faces). For "dipoles" the world
+    positions and moments are in dipole_positions / dipole_moments, and a polyhedron may be kept
+    in `near` to evaluate exactly inside the body-frame box [near_lower, near_upper].
+    """
+
+    name: str
+    part: int  # index of the magnet in the scene
+    kind: str
+    params: tuple
+    center: np.ndarray
+    matrix: np.ndarray  # body -> world, orthogonal (det +1, or -1 for an image)
+    magnetization: np.ndarray | None  # body frame, A/m (uniform parts)
+    size: float  # largest dimension, m
+    moment: np.ndarray  # world, A m^2
+    is_image: bool = False
+    dipole_positions: np.ndarray | None = None
+    dipole_moments: np.ndarray | None = None
+    near: "Source | None" = None
+    near_lower: np.ndarray | None = None
+    near_upper: np.ndarray | None = None
+
+    def to_body(self, points: np.ndarray) -> np.ndarray:
+        return (points - self.center) @ self.matrix
+
+    def is_far(self, points: np.ndarray) -> np.ndarray:
+        distance = np.linalg.norm(points - self.center, axis=1)
+        return distance > FAR_FIELD_SIZES * self.size
+
+    def in_near_zone(self, points: np.ndarray) -> np.ndarray:
+        body = self.to_body(points)
+        return np.all((body >= self.near_lower) & (body <= self.near_upper), axis=1)
+
+    def closed_form_H(self, points: np.ndarray, gradient: bool):
+        """H (and dH/dx) of a closed-form source at world points, dipole far away."""
+        H = np.zeros_like(points)
+        G = np.zeros((len(points), 3, 3)) if gradient else None
+        far = self.is_far(points)
+        if far.any():
+            H[far], G_far = point_dipole(points[far], self.center, self.moment, gradient)
+            if gradient:
+                G[far] = G_far
+        near = ~far
+        if near.any():
+            body = self.to_body(points[near])
+            R = self.matrix
+            H[near] = closed_form(self.kind)(body, *self.params, self.magnetization) @ R.T
+            if gradient:
+                G_body = closed_form(self.kind, True)(body, *self.params, self.magnetization)
+                G[near] = np.einsum("ij,njk,lk->nil", R, G_body, R)
+        return H, G
+
+
+def point_dipole(points, center, moment, gradient=False):
+    """Field of a point dipole (Jackson, Classical Electrodynamics, eq. 5.56) and its gradient."""
+    from physics.sphere import sphere_H, sphere_H_gradient
+
+    # A sphere of vanishing size is exactly a point dipole outside; reuse its tested formula.
+    tiny = 1e-12
+    volume = np.pi * tiny**3 / 6.0
+    M = np.asarray(moment) / volume
+    H = sphere_H(points - center, tiny, M)
+    G = sphere_H_gradient(points - center, tiny, M) if gradient else None
+    return H, G
+
+
+def mirrored(source: Source, point: np.ndarray, normal: np.ndarray, name_suffix: str) -> Source:
+    """The image of a source in a perfectly permeable plane (textbook image method): geometry
+    reflected, normal component of the magnetisation kept, tangential components reversed."""
+    P = np.eye(3) - 2.0 * np.outer(normal, normal)
+
+    def reflect(x):
+        return (x - point) @ P.T + point
+
+    image = replace(
+        source,
+        name=source.name + name_suffix,
+        center=reflect(source.center),
+        matrix=P @ source.matrix,
+        moment=-(P @ source.moment),
+        is_image=True,
+    )
+    if source.magnetization is not None:
+        # world M' = -P M; in the image's body frame (R' = P R): R'^T (-P R M_b) = -M_b
+        image = replace(image, magnetization=-source.magnetization)
+    if source.dipole_positions is not None:
+        image = replace(
+            image,
+            dipole_positions=reflect(source.dipole_positions),
+            dipole_moments=-(source.dipole_moments @ P.T),
+        )
+    if source.near is not None:
+        image = replace(image, near=mirrored(source.near, point, normal, name_suffix))
+    return image
+
+
+def magnetization_vector(remanence: float, north: np.ndarray) -> np.ndarray:
+    """M = Br / mu0 along north (DESIGN.md, Physics: rigid magnets, recoil permeability 1)."""
+    return remanence / MU0 * np.asarray(north, dtype=float)
