@@ -39,22 +39,9 @@ def body_mesh(magnet):
 
 
 def part_volume(magnet) -> float:
-    """Closed-form volume of a primitive; a mesh's by the divergence theorem (sum of signed
-    tetrahedra from the origin), m^3."""
-    d = magnet.dims
-    if magnet.shape == "box":
-        return float(np.prod(d))
-    if magnet.shape == "cylinder":
-        return np.pi * d[0] ** 2 * d[1] / 4.0
-    if magnet.shape == "ring":
-        return np.pi * (d[0] ** 2 - d[1] ** 2) * d[2] / 4.0
-    if magnet.shape == "arc":
-        return d[3] / 2.0 * ((d[0] / 2.0) ** 2 - (d[1] / 2.0) ** 2) * d[2]
-    if magnet.shape == "sphere":
-        return np.pi * d[0] ** 3 / 6.0
-    triangles = body_mesh(magnet)[0][body_mesh(magnet)[1]]
-    return float(np.einsum("ij,ij->i", triangles[:, 0],
-                           np.cross(triangles[:, 1], triangles[:, 2])).sum() / 6.0)
+    from scene.measures import volume
+
+    return volume(magnet)
 
 
 def smallest_dimension(magnet) -> float:
