@@ -48,6 +48,7 @@ class Magnet:
     method: str = "auto"  # auto | exact | dipoles
     cell_size: float | None = None  # metres, for dipole sets; None = from the accuracy target
     origin: str = ""  # where it was defined, for messages: "scene.toml, [[magnet]] 3"
+    density: float | None = None  # kg/m^3, from the grade or the magnet's density key; None unknown
 
     @property
     def north_world(self) -> np.ndarray | None:

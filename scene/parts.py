@@ -1,0 +1,274 @@
+"""[[magnet]] tables -> placed, validated Magnet objects (patterns expanded), SI units."""
+from __future__ import annotations
+
+import warnings
+from pathlib import Path
+
+import numpy as np
+
+from scene import patterns, reading
+from scene.errors import SceneError, SceneWarning
+from scene.grades import find_grade
+from scene.meshes import read_mesh
+from scene.model import SHAPES, Magnet, frozen_array
+from scene.reading import Context
+from scene.units import unit_scale
+
+MAX_PARTS = 10000  # more parts than any assembly we model; also bounds the pairwise checks
+
+# the dims of each shape, in the order of `size = [...]`; "angle" is in degrees, not a length
+NAMED_DIMS = {
+    "box": ("x_size", "y_size", "z_size"),
+    "cylinder": ("diameter", "height"),
+    "ring": ("outer_diameter", "inner_diameter", "height"),
+    "arc": ("outer_diameter", "inner_diameter", "height", "angle"),
+    "sphere": ("diameter",),
+}
+SIZE_EXAMPLES = {
+    "box": "size = [10, 10, 5] (edge lengths along body x, y, z)",
+    "cylinder": "size = [10, 5] (diameter, height) or diameter = 10 and height = 5",
+    "ring": "size = [20, 10, 5] (outer diameter, inner diameter, height)",
+    "arc": "size = [40, 30, 10, 45] (outer and inner diameter, height, angle in degrees)",
+    "sphere": "size = 10 or diameter = 10",
+}
+COMMON_KEYS = ("name", "shape", "position", "rotation", "north", "grade", "remanence",
+               "pattern", "method", "cell_size", "density")
+SHAPE_KEYS = {shape: ("size",) + (names if shape != "box" else ())
+              for shape, names in NAMED_DIMS.items()}
+SHAPE_KEYS["mesh"] = ("file", "file_units")
+AXIS_WORDS = {f"{sign}{axis}": (1.0 if sign != "-" else -1.0) * np.eye(3)[k]
+              for k, axis in enumerate("xyz") for sign in ("+", "-", "")}
+RADIAL = ("radial-out", "radial-in")
+PATTERN_KEYS = {
+    "circular": ("kind", "count", "axis", "center", "polarity"),
+    "linear": ("kind", "count", "step", "polarity"),
+    "grid": ("kind", "counts", "steps", "polarity"),
+}
+
+
+def read_magnets(ctx: Context, entries: list, grades: dict, base_dir: Path,
+                 mesh_files: list) -> list:
+    """All magnets of the file, each pattern expanded into its copies; names unique."""
+    if not entries:
+        raise SceneError(f"{ctx.shown}: the scene has no magnets; add a [[magnet]] table with "
+                         f"shape, size and grade.")
+    magnets, meshes = [], {}
+    for index, entry in enumerate(entries, start=1):
+        magnets.extend(_read_entry(ctx, entry, index, grades, base_dir, mesh_files, meshes))
+        if len(magnets) > MAX_PARTS:
+            raise SceneError(f"{ctx.shown}, [[magnet]] {index}: the scene would hold more than "
+                             f"{MAX_PARTS} parts; use fewer or smaller patterns.")
+    seen = {}
+    for magnet in magnets:
+        if magnet.name in seen:
+            raise SceneError(f"{ctx.shown}: two parts are named '{magnet.name}' ({seen[magnet.name]}"
+                             f" and {magnet.origin}); give each [[magnet]] its own name.")
+        seen[magnet.name] = magnet.origin
+    return magnets
+
+
+def _read_entry(ctx, entry, index, grades, base_dir, mesh_files, meshes) -> list:
+    where = f"{ctx.shown}, [[magnet]] {index}"
+    shape = reading.word(entry, "shape", where, SHAPES)
+    name = reading.text(entry, "name", where, default=f"{shape}-{index}")
+    where = f"{where} '{name}'"
+    _check_magnet_keys(entry, shape, where)
+    if shape == "mesh":
+        dims = ()
+        vertices, faces = _mesh(ctx, entry, where, base_dir, mesh_files, meshes)
+    else:
+        dims, vertices, faces = _dims(ctx, entry, shape, where), None, None
+    north, radial = _north(ctx, entry, shape, where)
+    remanence, grade_name, density = _material(ctx, entry, grades, where)
+    method = reading.word(entry, "method", where, ("auto", "exact", "dipoles"), default="auto")
+    cell_size = reading.number(ctx, entry, "cell_size", where, default=None, length=True,
+                               positive=True)
+    position = reading.vector(ctx, entry, "position", where, default=[0, 0, 0], length=True)
+    rotation = patterns.rotation_from_degrees(
+        reading.vector(ctx, entry, "rotation", where, default=[0, 0, 0]))
+    placements = _placements(ctx, entry, position, rotation, where)
+    parts = []
+    for k, (place, turn, polarity) in enumerate(placements, start=1):
+        copy_north = None if north is None else polarity * north
+        copy_radial = radial if radial is None or polarity > 0 else _flip_radial(radial)
+        parts.append(Magnet(
+            name=name if "pattern" not in entry else f"{name}-{k}", shape=shape,
+            dims=dims, position=frozen_array(place, (3,)), rotation=frozen_array(turn, (3, 3)),
+            north=None if copy_north is None else frozen_array(copy_north, (3,)),
+            radial=copy_radial, remanence=remanence, grade=grade_name, mesh_vertices=vertices,
+            mesh_faces=faces, method=method, cell_size=cell_size,
+            origin=f"{ctx.shown}, [[magnet]] {index}", density=density))
+    return parts
+
+
+def _check_magnet_keys(entry, shape, where):
+    allowed = COMMON_KEYS + SHAPE_KEYS[shape]
+    elsewhere = {}
+    for other, keys in SHAPE_KEYS.items():
+        for key in keys:
+            if key not in allowed:
+                elsewhere.setdefault(key, f"a {shape} takes " + (
+                    SIZE_EXAMPLES[shape] if shape != "mesh" else "file = \"parts/a.stl\"")
+                    + f", while '{key}' is for a {other}")
+    reading.check_keys(entry, allowed, where, elsewhere)
+
+
+def _dims(ctx, entry, shape, where) -> tuple:
+    names = NAMED_DIMS[shape]
+    named = [k for k in names if k in entry and k != "size"]
+    if "size" in entry and named:
+        raise SceneError(f"{where}: both size and {named[0]} are given; keep one way of giving "
+                         f"the dimensions: {SIZE_EXAMPLES[shape]}.")
+    if "size" in entry:
+        raw = entry["size"]
+        if shape == "sphere" and not isinstance(raw, list):
+            raw = [raw]
+        if not isinstance(raw, list) or len(raw) != len(names):
+            got = f"{len(raw)} values" if isinstance(raw, list) else "a single value"
+            raise SceneError(f"{where}, size: a {shape} takes {len(names)} value(s), got {got}; "
+                             f"write {SIZE_EXAMPLES[shape]}.")
+        values = [reading.scalar(ctx, v, f"{where}, size") for v in raw]
+        labels = ["size"] * len(names)
+    elif shape != "box" and all(k in entry for k in names):
+        values = [reading.scalar(ctx, entry[k], f"{where}, {k}") for k in names]
+        labels = list(names)
+    else:
+        missing = "size" if shape == "box" else next(k for k in names if k not in entry)
+        raise SceneError(f"{where}: the key '{missing}' is missing; give the dimensions as "
+                         f"{SIZE_EXAMPLES[shape]}.")
+    for value, label, dim in zip(values, labels, names):
+        if value <= 0:
+            raise SceneError(f"{where}, {label}: the {dim.replace('_', ' ')} must be positive, "
+                             f"got {value:g}; give a size above zero.")
+    dims = [reading.checked_length(ctx, v, f"{where}, {label}") if dim != "angle" else v
+            for v, label, dim in zip(values, labels, names)]
+    if shape in ("ring", "arc") and dims[1] >= dims[0]:
+        raise SceneError(f"{where}: the inner diameter ({values[1]:g} {ctx.units}) must be "
+                         f"smaller than the outer diameter ({values[0]:g} {ctx.units}); swap "
+                         f"or correct them.")
+    if shape == "arc":
+        if dims[3] > 360.0:
+            raise SceneError(f"{where}: the arc's angle must be at most 360 degrees, got "
+                             f"{dims[3]:g}; give the angle it spans in degrees.")
+        dims[3] = float(np.radians(dims[3]))
+    return tuple(float(d) for d in dims)
+
+
+def _mesh(ctx, entry, where, base_dir, mesh_files, meshes):
+    relative = reading.text(entry, "file", where)
+    units = entry.get("file_units")
+    path = (base_dir / relative).resolve()
+    if units is not None:
+        scale = unit_scale(units, f"{where}, file_units")
+    elif path.suffix.lower() == ".3mf":
+        scale = None  # a 3MF file states its unit
+    else:
+        scale = ctx.scale
+    key = (str(path), scale)
+    if key not in meshes:
+        meshes[key] = read_mesh(path, relative, scale, where)
+        if path not in mesh_files:
+            mesh_files.append(path)
+    return meshes[key]
+
+
+def _north(ctx, entry, shape, where):
+    """(unit north in the body frame or None, radial word or None)."""
+    value = entry.get("north", "+z")
+    key_where = f"{where}, north"
+    if isinstance(value, str):
+        word = value.strip().lower()
+        if word in RADIAL:
+            if shape not in ("ring", "arc"):
+                raise SceneError(f"{key_where}: \"{value}\" is for rings and arcs only; give a "
+                                 f"{shape} a direction such as \"+z\" or [0, 0, 1].")
+            return None, word
+        if word in AXIS_WORDS:
+            return AXIS_WORDS[word].copy(), None
+        from scene.names import did_you_mean
+
+        hint = did_you_mean(word, list(AXIS_WORDS) + list(RADIAL))
+        raise SceneError(f"{key_where}: \"{value}\" is not a direction{hint}; write an axis "
+                         f"such as \"+z\" or \"-x\", a vector [0, 0, 1]"
+                         f"{', or radial-out / radial-in' if shape in ('ring', 'arc') else ''}.")
+    raw = reading.vector_value(ctx, value, key_where)
+    norm = float(np.linalg.norm(raw))
+    if norm == 0.0 or not np.isfinite(norm):
+        raise SceneError(f"{key_where}: the north vector is zero, so it points nowhere; give the "
+                         f"direction the north pole faces, e.g. [0, 0, 1].")
+    return raw / norm, None
+
+
+def _material(ctx, entry, grades, where):
+    """(remanence T, grade name or None, density kg/m^3 or None)."""
+    if "grade" in entry and "remanence" in entry:
+        raise SceneError(f"{where}: both grade and remanence are given; keep one (remanence "
+                         f"overrides what the grade would give, so it would be ambiguous).")
+    density = reading.number(ctx, entry, "density", where, default=None, positive=True)
+    if "grade" in entry:
+        grade = find_grade(entry["grade"], grades, f"{where}, grade")
+        return grade.remanence, grade.name, density if density is not None else grade.density
+    if "remanence" not in entry:
+        raise SceneError(f"{where}: neither grade nor remanence is given; add grade = \"N42\" "
+                         f"or remanence = 1.3 (tesla).")
+    remanence = reading.number(ctx, entry, "remanence", where, positive=True)
+    check_remanence(remanence, f"{where}, remanence")
+    return remanence, None, density
+
+
+def check_remanence(remanence: float, where: str) -> None:
+    if remanence > 2.0:
+        raise SceneError(f"{where}: {remanence:g} T is above any permanent magnet (about 1.5 T "
+                         f"at most); give it in tesla, not millitesla.")
+
+
+def _flip_radial(radial: str) -> str:
+    return "radial-in" if radial == "radial-out" else "radial-out"
+
+
+def _placements(ctx, entry, position, rotation, where) -> list:
+    if "pattern" not in entry:
+        return [(position, rotation, 1)]
+    where = f"{where}, pattern"
+    pattern = reading.sub_table(entry["pattern"], where,
+                                "pattern = { kind = \"circular\", count = 8 }")
+    kind = reading.word(pattern, "kind", where, tuple(PATTERN_KEYS))
+    reading.check_keys(pattern, PATTERN_KEYS[kind], f"{where} ({kind})")
+    alternate = reading.word(pattern, "polarity", where, ("same", "alternate"),
+                             default="same") == "alternate"
+    if kind == "circular":
+        count = reading.integer(ctx, pattern, "count", where, 1, MAX_PARTS)
+        axis = reading.unit_vector(ctx, pattern, "axis", where, default=[0, 0, 1])
+        center = reading.vector(ctx, pattern, "center", where, default=[0, 0, 0], length=True)
+        if alternate and count % 2:
+            warnings.warn(SceneWarning(
+                f"{where}: alternate polarity around a circle of {count} (an odd count) puts two "
+                f"like poles side by side where the circle closes; use an even count."),
+                stacklevel=2)
+        return patterns.circular(position, rotation, count, axis, center, alternate)
+    if kind == "linear":
+        count = reading.integer(ctx, pattern, "count", where, 1, MAX_PARTS)
+        step = reading.vector(ctx, pattern, "step", where, length=True,
+                              example="step = [12, 0, 0]")
+        return patterns.linear(position, rotation, count, step, alternate)
+    return _grid(ctx, pattern, position, rotation, alternate, where)
+
+
+def _grid(ctx, pattern, position, rotation, alternate, where) -> list:
+    counts_raw = pattern.get("counts")
+    steps_raw = pattern.get("steps")
+    if counts_raw is None or steps_raw is None:
+        missing = "counts" if counts_raw is None else "steps"
+        raise SceneError(f"{where}: the key '{missing}' is missing; a grid takes counts = [4, 3] "
+                         f"and steps = [[12, 0, 0], [0, 12, 0]].")
+    if not isinstance(counts_raw, list) or len(counts_raw) not in (2, 3):
+        raise SceneError(f"{where}, counts: must list 2 or 3 whole numbers, e.g. [4, 3].")
+    counts = [reading.whole(ctx, c, f"{where}, counts", 1, MAX_PARTS) for c in counts_raw]
+    if not isinstance(steps_raw, list) or len(steps_raw) != len(counts):
+        raise SceneError(f"{where}, steps: must list one step vector per count ({len(counts)}), "
+                         f"e.g. [[12, 0, 0], [0, 12, 0]].")
+    steps = [reading.vector_value(ctx, s, f"{where}, steps", length=True) for s in steps_raw]
+    if int(np.prod(counts)) > MAX_PARTS:
+        raise SceneError(f"{where}: the grid would hold {int(np.prod(counts))} parts, more than "
+                         f"{MAX_PARTS}; use smaller counts.")
+    return patterns.grid(position, rotation, counts, steps, alternate)
