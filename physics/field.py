@@ -90,6 +90,14 @@ class FieldModel:
         else:
             H[near] += exact[0] - approx
 
+    def acting_on(self, index: int, images_only: bool = False) -> "FieldModel":
+        """The model of the sources that act on part `index`: all but the part's own charges
+        (its images in the plates stay: they pull it to the plate); with images_only, the plate
+        images alone (what acts on the rigid assembly as a whole). Used by physics/forces.py."""
+        keep = [s for s in self.sources
+                if s.is_image or (not images_only and s.part != index)]
+        return FieldModel(self.scene, keep)
+
     def H(self, points, progress=None):
         return self.applied_H(points, progress=progress)
 
