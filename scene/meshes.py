@@ -39,27 +39,30 @@ def read_mesh(path: Path, shown: str, scale: float | None, where: str):
     if scale is None:
         scale = file_scale
     if len(mesh.faces) == 0:
-        raise SceneError(f"{where}: {shown} holds no triangles; export the solid body, not "
-                         f"points or curves.")
+        if path.stat().st_size == 0:
+            raise SceneError(f"{where}: {shown} is empty (0 bytes); export the part again.")
+        raise SceneError(f"{where}: cannot read {shown} as {kind.upper()} (no triangles found in "
+                         f"it: damaged, or not that format); export the solid body again.")
     if not mesh.is_watertight:
         raise SceneError(f"{where}: {shown} is not closed (it has holes or open edges, so it "
                          f"has no inside); {REPAIR_HINT}.")
     if not mesh.is_winding_consistent:
         raise SceneError(f"{where}: {shown} has faces that point in and out at random (its "
-                         f"winding is inconsistent); {REPAIR_HINT}.")
-    vertices = np.asarray(mesh.vertices, float) * scale
-    faces = np.asarray(mesh.faces, dtype=np.int64)
-    enclosed = mesh_volume(vertices, faces)
-    box_volume = float(np.prod(np.ptp(vertices, axis=0)))
+                         f"winding is inconsistent); make the normals consistent in a mesh tool "
+                         f"('recalculate' or 'unify normals') or export it again from CAD.")
+    enclosed = mesh_volume(np.asarray(mesh.vertices, float), np.asarray(mesh.faces))
+    box_volume = float(np.prod(np.ptp(mesh.vertices, axis=0)))
     if box_volume == 0.0 or abs(enclosed) <= 1e-9 * box_volume:
         raise SceneError(f"{where}: {shown} encloses zero volume (it is flat or degenerate); "
                          f"export the solid body, not a surface.")
     if enclosed < 0:
+        mesh.invert()  # reverses every face: exact for a closed, consistently wound mesh
         warnings.warn(SceneWarning(
             f"{where}: {shown} is inside-out (its faces point inward); trimesh reversed every "
-            f"face, which is exact for a closed mesh like this one - export it again with "
+            f"face, which is safe for a closed mesh like this one - export it again with "
             f"outward normals to silence this warning."), stacklevel=2)
-        faces = faces[:, ::-1].copy()
+    vertices = np.asarray(mesh.vertices, float) * scale
+    faces = np.array(mesh.faces, dtype=np.int64)
     vertices.setflags(write=False)
     faces.setflags(write=False)
     return vertices, faces

@@ -28,17 +28,22 @@ def _wedge_depth(x, y, angle):
     return np.where(inside, nearest, -nearest)
 
 
+def _in_hull(magnet, p) -> np.ndarray:
+    """Body points inside the mesh's convex hull (outside it is outside the mesh)."""
+    from scipy.spatial import ConvexHull
+
+    hull = ConvexHull(magnet.mesh_vertices).equations
+    size = float(np.ptp(magnet.mesh_vertices, axis=0).max())
+    return np.all(p @ hull[:, :3].T + hull[:, 3] <= 1e-9 * size, axis=1)
+
+
 def _mesh_depth(magnet, p):
     """Distance to the surface inside (winding number > 1/2), -1 outside (only the sign counts)."""
     import trimesh
 
-    from scipy.spatial import ConvexHull
-
     triangles = magnet.mesh_vertices[magnet.mesh_faces]
     depth = np.full(len(p), -1.0)
-    hull = ConvexHull(magnet.mesh_vertices).equations  # outside the hull is outside the mesh
-    size = float(np.ptp(magnet.mesh_vertices, axis=0).max())
-    in_hull = np.nonzero(np.all(p @ hull[:, :3].T + hull[:, 3] <= 1e-9 * size, axis=1))[0]
+    in_hull = np.nonzero(_in_hull(magnet, p))[0]
     inside = in_hull[winding_number(triangles, p[in_hull]) > 0.5]
     per_chunk = max(1, 200000 // len(triangles))
     for start in range(0, len(inside), per_chunk):
@@ -47,6 +52,13 @@ def _mesh_depth(magnet, p):
         closest = trimesh.triangles.closest_point(np.tile(triangles, (len(rows), 1, 1)), pairs)
         depth[rows] = np.linalg.norm(closest - pairs, axis=1).reshape(len(rows), -1).min(axis=1)
     return depth
+
+
+def _maybe_inside(magnet, points) -> np.ndarray:
+    """A cheap superset of the points inside the part (its convex hull for a mesh)."""
+    if magnet.shape != "mesh":
+        return depth_inside(magnet, points) > 0
+    return _in_hull(magnet, (points - magnet.position) @ magnet.rotation)
 
 
 def winding_number(triangles: np.ndarray, points: np.ndarray) -> np.ndarray:
@@ -93,8 +105,6 @@ def depth_inside(magnet, points: np.ndarray) -> np.ndarray:
 
 def overlap_depth(first, second, boxes) -> float:
     """Overlap depth of two parts in m (0 when they do not share volume)."""
-    if first.shape == "mesh" and second.shape != "mesh":  # the cheap test first
-        first, second = second, first
     low = np.maximum(boxes[0][0], boxes[1][0])
     high = np.minimum(boxes[0][1], boxes[1][1])
     tolerance = 1e-9 + 1e-6 * min(smallest_dimension(first), smallest_dimension(second))
@@ -102,11 +112,10 @@ def overlap_depth(first, second, boxes) -> float:
         return 0.0
     axes = [np.linspace(lo, hi, LATTICE) for lo, hi in zip(low, high)]
     points = np.stack(np.meshgrid(*axes, indexing="ij"), axis=-1).reshape(-1, 3)
-    depth_first = depth_inside(first, points)
-    candidates = depth_first > tolerance
-    if not candidates.any():
+    points = points[_maybe_inside(first, points) & _maybe_inside(second, points)]
+    if len(points) == 0:
         return 0.0
-    both = np.minimum(depth_first[candidates], depth_inside(second, points[candidates]))
+    both = np.minimum(depth_inside(first, points), depth_inside(second, points))
     deepest = 2.0 * float(both.max())
     return deepest if deepest > 2.0 * tolerance else 0.0
 

@@ -140,7 +140,8 @@ def _dims(ctx, entry, shape, where) -> tuple:
         if value <= 0:
             raise SceneError(f"{where}, {label}: the {dim.replace('_', ' ')} must be positive, "
                              f"got {value:g}; give a size above zero.")
-    dims = [reading.checked_length(ctx, v, f"{where}, {label}") if dim != "angle" else v
+    dims = [reading.checked_length(ctx, v, f"{where}, {label}", is_size=True) if dim != "angle"
+            else v
             for v, label, dim in zip(values, labels, names)]
     if shape in ("ring", "arc") and dims[1] >= dims[0]:
         raise SceneError(f"{where}: the inner diameter ({values[1]:g} {ctx.units}) must be "

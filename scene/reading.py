@@ -69,15 +69,16 @@ def number(ctx: Context, table: dict, key: str, where: str, default=REQUIRED,
         unit = f" {ctx.units}" if length else ""
         raise SceneError(f"{where}, {key}: must be positive, got {value:g}{unit}; give a size "
                          f"above zero.")
-    return checked_length(ctx, value, f"{where}, {key}") if length else value
+    return checked_length(ctx, value, f"{where}, {key}", is_size=positive) if length else value
 
 
-def checked_length(ctx: Context, value: float, where: str) -> float:
+def checked_length(ctx: Context, value: float, where: str, is_size: bool = False) -> float:
+    """value (file units) in metres; no length is a kilometre, no size below a nanometre."""
     metres = value * ctx.scale
     if abs(metres) > LARGEST_LENGTH:
         raise SceneError(f"{where}: {value:g} {ctx.units} is more than a kilometre; check the "
                          f"value and the file's units.")
-    if 0 < abs(metres) < SMALLEST_LENGTH:
+    if is_size and 0 < abs(metres) < SMALLEST_LENGTH:
         raise SceneError(f"{where}: {value:g} {ctx.units} is below a nanometre; check the value "
                          f"and the file's units.")
     return metres
