@@ -5,7 +5,7 @@ depression filling, Barnes et al., Computers & Geosciences 62, 117 (2014)).
 The flood starts at the well's cell and always grows into the lowest reachable neighbour along
 the grid axes (the allowed directions). It stops at the first cell that is an exit: one on the
 box boundary, one next to a magnet (for a free well: the probe touches it and is caught), one of
-a deeper well, or one lower than the well's bottom (another basin). The level at that moment is
+another well, or one lower than the well's bottom (another basin). The level at that moment is
 the barrier; the cells flooded below it are the well's extent; the parents give the path.
 """
 from __future__ import annotations
@@ -17,8 +17,8 @@ import numba
 import numpy as np
 
 ADMISSIBLE, AT_MAGNET, OUTSIDE_BOX = 0, 1, 2  # cell states
-EXIT_NONE, EXIT_BOX, EXIT_MAGNET, EXIT_DEEPER = 0, 1, 2, 3
-EXIT_NAMES = {EXIT_NONE: None, EXIT_BOX: "box", EXIT_MAGNET: "magnet", EXIT_DEEPER: "deeper well"}
+EXIT_NONE, EXIT_BOX, EXIT_MAGNET, EXIT_WELL = 0, 1, 2, 3
+EXIT_NAMES = {EXIT_NONE: None, EXIT_BOX: "box", EXIT_MAGNET: "magnet", EXIT_WELL: "another well"}
 
 
 @dataclass(frozen=True, eq=False)
@@ -26,7 +26,7 @@ class Flood:
     """What the flood from one cell found (indices into the flattened grid)."""
 
     level: float  # J, the barrier level on the grid (inf when no exit was reached)
-    exit_kind: str | None  # "box" | "magnet" | "deeper well" | None (closed in)
+    exit_kind: str | None  # "box" | "magnet" | "another well" | None (closed in)
     exit_cell: int  # the last cell of the path, -1 when none
     path: np.ndarray  # (P,) cells from the start to the exit
     flooded: np.ndarray  # (N,) bool: cells reached below the barrier level (the well)
@@ -38,7 +38,7 @@ def flood_from(energy, state, shape, start: int, bottom: float, exit_cells=None,
 
     energy: (N,) J on the flattened grid (C order); state: (N,) ADMISSIBLE | AT_MAGNET |
     OUTSIDE_BOX; bottom: the well's exact bottom energy (cells below it are another basin);
-    exit_cells: (N,) bool, extra exits (deeper wells); magnets_are_exits: False for a well that
+    exit_cells: (N,) bool, extra exits (the other wells' cells); magnets_are_exits: False for a well that
     is itself a contact with a magnet (the magnet is then a wall)."""
     energy = np.ascontiguousarray(energy, dtype=np.float64)
     state = np.ascontiguousarray(state, dtype=np.int8)
@@ -79,7 +79,7 @@ def _flood(energy, state, exits, dims, start, bottom, magnets_are_exits):
             continue
         done[cell] = True
         if cell != start and (exits[cell] or energy[cell] < bottom):
-            return level, EXIT_DEEPER, cell, levels, parent, done
+            return level, EXIT_WELL, cell, levels, parent, done
         for a in range(k):
             coordinate = (cell // strides[a]) % dims[a]
             for step in (-1, 1):

@@ -93,6 +93,7 @@ def relative_energy_correction(point_probe, averaged_probe, points) -> np.ndarra
 # -- the exact response of a linear sphere ------------------------------------------------------
 
 DEFAULT_MAX_DEGREE = 12
+SAMPLE_DEPTH = 1e-6  # relative depth below the probe's surface where the field is sampled
 
 
 def multipole_susceptibility(chi: float, degree: int) -> float:
@@ -137,7 +138,11 @@ class MultipoleProbe(ProbeModel):
             raise ValueError("MultipoleProbe is for soft and weak probes")
         self.max_degree = max_degree
         self.radius = law.diameter / 2.0
+        # Sample just inside the surface, so that a probe touching a magnet never samples the
+        # magnet's inside; the coefficients are carried out to r = a as (a / rho)^(l - 1).
+        self.sample_radius = self.radius * (1.0 - SAMPLE_DEPTH)
         self.directions, self.harmonics, self.degrees = _surface_harmonics(max_degree)
+        self.harmonics = self.harmonics * ((1.0 / (1.0 - SAMPLE_DEPTH)) ** (self.degrees - 1))[:, None]
         self.weights = np.array([multipole_susceptibility(law.susceptibility, l) / l
                                  for l in self.degrees])
         self.description = (f"exact linear sphere: applied field's multipoles up to degree "
@@ -148,7 +153,7 @@ class MultipoleProbe(ProbeModel):
 
         points = np.asarray(points, float).reshape(-1, 3)
         n, q = len(points), len(self.directions)
-        samples = (points[:, None, :] + self.radius * self.directions[None]).reshape(-1, 3)
+        samples = (points[:, None, :] + self.sample_radius * self.directions[None]).reshape(-1, 3)
         if gradient:
             H, G = self.field_model.applied_H(samples, gradient=True)
         else:
@@ -176,7 +181,7 @@ class MultipoleProbe(ProbeModel):
         h, _ = self._coefficients(points, gradient=False)
         points = np.asarray(points, float).reshape(-1, 3)
         n, q = len(points), len(self.directions)
-        samples = (points[:, None, :] + self.radius * self.directions[None]).reshape(-1, 3)
+        samples = (points[:, None, :] + self.sample_radius * self.directions[None]).reshape(-1, 3)
         H = self.field_model.applied_H(samples).reshape(n, q, 3)
         H_r = np.einsum("nqi,qi->nq", H, self.directions)
         _, weights = lebedev_rule(next(o for o in LEBEDEV_ORDERS if o >= 2 * self.max_degree + 1))

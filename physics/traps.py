@@ -59,8 +59,8 @@ class Contact:
 @dataclass(frozen=True, eq=False)
 class Escape:
     energy_J: float  # lowest barrier out of the well
-    force_N: float  # largest projected force met along the escape path
-    exit: str | None  # "box" | "magnet" | "deeper well" | None (closed in: no escape)
+    force_N: float  # largest projected force met on the escape path up to the barrier
+    exit: str | None  # "box" | "magnet" | "another well" | None (closed in: no escape)
     pass_position: np.ndarray  # (3,) m, where the barrier is (the refined saddle if one is there)
     path: np.ndarray  # (P, 3) m, grid points from the well to the exit
 
@@ -648,7 +648,8 @@ def _unique(points, distance) -> np.ndarray:
 def _merge_families(equilibria, spacing):
     """Marginal equilibria of one class and energy within reach of each other (a circle of
     equilibria in an axisymmetric scene) become one entry with family_size."""
-    marginal = [i for i, e in enumerate(equilibria) if e.classification == "marginal"]
+    marginal = [i for i, e in enumerate(equilibria)
+                if e.classification == "marginal" or _is_field_zero(e)]
     if len(marginal) < 2:
         return equilibria
     parent = {i: i for i in marginal}
@@ -663,7 +664,8 @@ def _merge_families(equilibria, spacing):
     for a, b in sorted(tree.query_pairs(2.5 * spacing)):
         ea, eb = equilibria[marginal[a]], equilibria[marginal[b]]
         scale = max(abs(ea.energy_J), abs(eb.energy_J), 1e-300)
-        same_kind = (ea.contact is None) == (eb.contact is None)
+        same_kind = ((ea.contact is None) == (eb.contact is None)
+                     and _is_field_zero(ea) == _is_field_zero(eb))
         if same_kind and abs(ea.energy_J - eb.energy_J) <= 1e-6 * scale:
             parent[root(marginal[a])] = root(marginal[b])
     groups = {}
@@ -674,13 +676,17 @@ def _merge_families(equilibria, spacing):
     for members in groups.values():
         members.sort(key=lambda i: tuple(equilibria[i].position))
         first = members[0]
+        note = (f"one of {len(members)} neighbouring equilibria of equal energy (a curve or "
+                "sheet of equilibria along its marginal directions)")
+        old = equilibria[first].note
         result[first] = replace(equilibria[first], family_size=len(members),
-                                note=equilibria[first].note or
-                                f"one of {len(members)} neighbouring equilibria of equal "
-                                "energy (a curve of equilibria; the marginal direction runs "
-                                "along it)")
+                                note=f"{old}; {note}" if old else note)
         drop.update(members[1:])
     return [e for i, e in enumerate(result) if i not in drop]
+
+
+def _is_field_zero(eq) -> bool:
+    return bool(eq.stiffness_N_per_m) and eq.stiffness_N_per_m[0] is None
 
 
 # -- escape ---------------------------------------------------------------------------------------
@@ -694,9 +700,10 @@ def _has_well(eq) -> bool:
     return False
 
 
-def _with_escapes(equilibria, grid, basis, scene, energy_at):
-    """Escape figures for each well; energy_at(points) gives the model's energy for the
-    refinement of the barrier's ends."""
+def _with_escapes(equilibria, grid, basis, scene, energy_at, grid_energy_at):
+    """Escape figures for each well. The flood runs on the grid's (point-model) energies with
+    the bottom in the same model (grid_energy_at); energy_at(points), the final model's energy,
+    gives the barrier from its two ends."""
     state = _flood_state(grid)
     admissible_cells = np.flatnonzero(grid.admissible)
     if len(admissible_cells) == 0:
@@ -712,12 +719,13 @@ def _with_escapes(equilibria, grid, basis, scene, energy_at):
     result = list(equilibria)
     for i in wells:
         eq = equilibria[i]
-        deeper = np.zeros(len(grid.points), bool)
+        others = np.zeros(len(grid.points), bool)  # reaching another well is leaving this one
         for j in wells:
-            if j != i and equilibria[j].energy_J < eq.energy_J:
-                deeper[start_cells[j]] = True
-        flood = escape.flood_from(grid.energy_J, state, grid.shape, start_cells[i], eq.energy_J,
-                                  exit_cells=deeper, magnets_are_exits=eq.contact is None)
+            if j != i and start_cells[j] != start_cells[i]:
+                others[start_cells[j]] = True
+        bottom = float(grid_energy_at(eq.position[None])[0])
+        flood = escape.flood_from(grid.energy_J, state, grid.shape, start_cells[i], bottom,
+                                  exit_cells=others, magnets_are_exits=eq.contact is None)
         result[i] = replace(eq, escape=_escape_figures(eq, flood, grid, F_along, passes,
                                                         pass_tree, reach, energy_at, basis),
                             well=_well(flood, grid, scene))
@@ -729,14 +737,14 @@ def _escape_figures(eq, flood, grid, F_along, passes, pass_tree, reach, energy_a
     if flood.exit_kind is None:
         return Escape(energy_J=None, force_N=None, exit=None, pass_position=eq.position.copy(),
                       path=path_points)
-    top = flood.path[np.argmax(grid.energy_J[flood.path])]
-    pass_position = grid.points[top]
+    top_index = int(np.argmax(grid.energy_J[flood.path]))
+    pass_position = grid.points[flood.path[top_index]]
     if pass_tree is not None:
         distance, j = pass_tree.query(pass_position)
         if distance <= reach:
             pass_position = passes[j].position
     bottom, top_energy = energy_at(np.array([eq.position, pass_position]))
-    force = float(np.max(F_along[flood.path]))
+    force = float(np.max(F_along[flood.path[:top_index + 1]]))  # restoring: up to the pass
     if eq.contact is not None:
         force = max(force, float(np.linalg.norm(eq.force_N @ basis.T @ basis)))
     return Escape(energy_J=float(max(top_energy - bottom, 0.0)), force_N=force,
@@ -848,7 +856,7 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
         equilibria = _resolve_finite(finite, geometry, equilibria, basis, scene)
     equilibria = [replace(e, finite_probe_correction=float(c))
                   for e, c in zip(equilibria, corrections)]
-    equilibria = _with_escapes(equilibria, grid, basis, scene, final_model.energy)
+    equilibria = _with_escapes(equilibria, grid, basis, scene, final_model.energy, model.energy)
     equilibria = _sorted(equilibria, scene)
     return TrapReport(
         probe_kind=law.kind, constraint_kind=scene.constraint.kind, free_directions=len(basis),
