@@ -42,7 +42,8 @@ def _walk(node, names):
         return _walk(node.body, names)
     if isinstance(node, ast.Constant):
         if isinstance(node.value, bool) or not isinstance(node.value, (int, float)):
-            raise _Bad(f"{node.value!r} is not a number")
+            raise _Bad(f"{node.value!r} is not a number; write numbers without quotes inside "
+                       f"an expression")
         return float(node.value)  # floats throughout: 10**10**10 overflows at once, never hangs
     if isinstance(node, ast.BinOp) and type(node.op) in BINARY:
         return BINARY[type(node.op)](_walk(node.left, names), _walk(node.right, names))
@@ -56,10 +57,11 @@ def _walk(node, names):
         raise _Unknown(node.id)
     if isinstance(node, ast.Call) and isinstance(node.func, ast.Name) and not node.keywords:
         if node.func.id not in FUNCTIONS:
-            raise _Bad(f"{node.func.id}() is not an allowed function (allowed: "
-                       f"{', '.join(sorted(FUNCTIONS))})")
+            raise _Bad(f"{node.func.id}() is not an allowed function; the allowed ones are "
+                       f"{', '.join(sorted(FUNCTIONS))}")
         return float(FUNCTIONS[node.func.id](*[_walk(a, names) for a in node.args]))
-    raise _Bad(f"'{ast.unparse(node)}' is not plain arithmetic")
+    raise _Bad(f"'{ast.unparse(node)}' is not plain arithmetic; use numbers, parameter names, "
+               f"+ - * / ** % and parentheses")
 
 
 def evaluate(text: str, names: dict, where: str, later: tuple = ()) -> float:
@@ -89,8 +91,7 @@ def evaluate(text: str, names: dict, where: str, later: tuple = ()) -> float:
         raise SceneError(f"{where}: \"{source}\" uses the unknown parameter "
                          f"'{unknown.name}'{hint}; define it in [params].") from None
     except _Bad as bad:
-        raise SceneError(f"{where}: in \"{source}\", {bad}; use numbers, parameter names, "
-                         f"+ - * / ** and {', '.join(sorted(FUNCTIONS))}.") from None
+        raise SceneError(f"{where}: in \"{source}\", {bad}.") from None
     except ZeroDivisionError:
         raise SceneError(f"{where}: \"{source}\" divides by zero; check the parameters "
                          f"it uses.") from None

@@ -23,7 +23,8 @@ Choices beyond DESIGN.md, documented here:
   chip or ball). A soft probe's density defaults to 7850 and its chi to 1000 (steel: chi_eff
   is ~3 whatever chi is), a magnet probe's density to its grade's or 7500 (sintered NdFeB).
 - [search_box] defaults: the magnets' bounding box plus a margin of the largest magnet
-  dimension, and resolution = 80 points along its longest side.
+  dimension (cut at the face of any steel plate whose normal is along an axis: the model
+  holds in front of the face only), and resolution = 80 points along its longest side.
 - A [[steel_plate]] needs point, normal and thickness; saturation defaults to 2.0 T (low-carbon
   steel, from memory); names default to "plate-1", "plate-2", ...
 - The digest is sha256 over the scene file's bytes, every mesh file's bytes, the materials
@@ -130,7 +131,7 @@ def _build(raw: bytes, base_dir: Path, shown: str, path_text: str, overrides: di
     hashed.extend(_file_bytes(p) for p in mesh_files)
     plates = _plates(ctx, document, magnets)
     probe, constraint = _probe(ctx, document.get("probe"), grades)
-    box = _search_box(ctx, document.get("search_box", {}), magnets)
+    box = _search_box(ctx, document.get("search_box", {}), magnets, plates)
     _warn_overlaps(shown, magnets, scale, units)
     _warn_constraint_outside(shown, constraint, box, probe)
     return Scene(
@@ -305,7 +306,7 @@ def _constraint(ctx, table, where) -> Constraint:
                                                    default=[0, 0, 1]), (3,)))
 
 
-def _search_box(ctx: Context, table, magnets) -> SearchBox:
+def _search_box(ctx: Context, table, magnets, plates) -> SearchBox:
     where = f"{ctx.shown}, [search_box]"
     table = reading.sub_table(table, where, "[search_box] with margin = 10")
     reading.check_keys(table, ("min", "max", "margin", "spacing", "resolution"), where)
@@ -324,7 +325,7 @@ def _search_box(ctx: Context, table, magnets) -> SearchBox:
         if margin < 0:
             raise SceneError(f"{where}, margin: must not be negative, got "
                              f"{margin / ctx.scale:g} {ctx.units}.")
-        low, high = low - margin, high + margin
+        low, high = _in_front_of_plates(low - margin, high + margin, plates)
     extent = high - low
     if np.any(extent <= 0):
         axis = "xyz"[int(np.argmin(extent))]
@@ -335,6 +336,20 @@ def _search_box(ctx: Context, table, magnets) -> SearchBox:
     spacing = _spacing(ctx, table, extent, where)
     _check_memory(ctx, extent, spacing, where)
     return SearchBox(min=frozen_array(low, (3,)), max=frozen_array(high, (3,)), spacing=spacing)
+
+
+def _in_front_of_plates(low, high, plates):
+    """A default box stops at the face of a plate whose normal is along an axis."""
+    low, high = low.copy(), high.copy()
+    for plate in plates:
+        axis = int(np.argmax(np.abs(plate.normal)))
+        if abs(plate.normal[axis]) < 1.0 - 1e-12:
+            continue
+        if plate.normal[axis] > 0:
+            low[axis] = max(low[axis], plate.point[axis])
+        else:
+            high[axis] = min(high[axis], plate.point[axis])
+    return low, high
 
 
 def _spacing(ctx, table, extent, where) -> float:

@@ -15,6 +15,8 @@ from scene.expressions import evaluate, type_word
 from scene.names import did_you_mean, listing
 
 REQUIRED = object()
+# keys of the file's top level: written after a [table] header, TOML puts them in that table
+TOP_LEVEL = ("version", "title", "units", "gravity", "materials")
 LARGEST_LENGTH = 1000.0  # m: nothing trapscape models is a kilometre across
 SMALLEST_LENGTH = 1e-9  # m
 
@@ -36,6 +38,10 @@ def check_keys(table: dict, allowed, where: str, elsewhere: dict | None = None) 
             continue
         if elsewhere and key in elsewhere:
             raise SceneError(f"{where}: the key '{key}' does not belong here; {elsewhere[key]}.")
+        if key in TOP_LEVEL:
+            raise SceneError(f"{where}: '{key}' is a top-level key, but it comes after a [table] "
+                             f"header, so TOML puts it in that table; move it above the first "
+                             f"[table] or [[table]].")
         raise SceneError(f"{where}: unknown key '{key}'{did_you_mean(key, allowed)}; the keys "
                          f"here are {listing(sorted(allowed))}.")
 

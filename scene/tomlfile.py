@@ -35,8 +35,13 @@ def _syntax_message(detail: str, shown: str, text: str) -> str:
     reason = re.sub(r"\s*\(at [^)]*\)", "", detail).strip()
     if reason.startswith("Cannot overwrite a value") or reason.startswith("Cannot declare"):
         doubled = _first_doubled_key(text)
+        if doubled and doubled[0] == "table":
+            _, name, first, second = doubled
+            return (f"{shown}, lines {first} and {second}: the table [{name}] is declared twice; "
+                    f"for a list of entries write [[{name}]] (double brackets) before each one, "
+                    f"otherwise merge the two tables.")
         if doubled:
-            key, first, second = doubled
+            _, key, first, second = doubled
             return (f"{shown}, lines {first} and {second}: the key '{key}' is given twice in "
                     f"the same table; keep one of them.")
         return (f"{shown}{place}: a key or table is given twice (TOML allows each key once per "
@@ -50,18 +55,24 @@ _KEY = re.compile(r"^\s*([A-Za-z0-9_\-\"'. ]+?)\s*=")
 
 
 def _first_doubled_key(text: str):
-    """(key, first line, second line) of the first key given twice in one table, if any."""
+    """("key" or "table", name, first line, second line) of the first thing given twice."""
     seen: dict = {}
+    tables: dict = {}
     table = ("", 0)
     for number, line in enumerate(text.splitlines(), start=1):
         header = _HEADER.match(line)
         if header:
-            table = (header.group(2), number if header.group(1) == "[[" else 0)
+            single = header.group(1) == "["
+            if single and header.group(2) in tables:
+                return "table", header.group(2), tables[header.group(2)], number
+            if single:
+                tables[header.group(2)] = number
+            table = (header.group(2), 0 if single else number)
             continue
         key = _KEY.match(line)
         if key:
             name = key.group(1).strip().strip("\"'")
             if (table, name) in seen:
-                return name, seen[(table, name)], number
+                return "key", name, seen[(table, name)], number
             seen[(table, name)] = number
     return None

@@ -59,6 +59,8 @@ BAD = {
     "no remanence or grade": (BASE.replace('grade = "N42"\n', ""), [], "neither grade nor remanence", None),
     "grade and remanence": (BASE + "remanence = 1.2\n", [], "both grade and remanence are given", None),
     "size twice": (BASE + "size = [1, 1, 1]\n", [], "the key 'size' is given twice", None),
+    "table declared twice": (BASE.replace("[[magnet]]", "[magnet]") + "[magnet]\nshape = \"box\"\n", [], "the table [magnet] is declared twice; for a list of entries write [[magnet]]", None),
+    "top-level key after a table": (BASE + "gravity = [0, 0, 0]\n", [], "'gravity' is a top-level key, but it comes after a [table] header", None),
     "size and diameter": (RING.replace("ring", "cylinder").replace("[20, 10, 5]", "[20, 5]") + "diameter = 4\n", [], "both size and diameter are given", None),
     "wrong type": (BASE.replace('position = [0, 0, "gap"]', "position = 5"), [], "must be a list of 3 numbers, got a number", None),
     "wrong type bool": (BASE.replace("[10, 10, 5]", "[10, true, 5]"), [], "must be a number or an expression in quotes, got true/false", None),

@@ -234,3 +234,11 @@ def test_spheres_overlap_depth_is_twice_radius_minus_distance():
     # 2 r - d = 10 - 7 = 3 mm (derived in scene/overlaps.py); the lattice step is 3/20 mm
     depth = float(str(caught[0].message).split("by about ")[1].split(" mm")[0])
     assert depth == pytest.approx(3.0, abs=0.15)
+
+
+def test_default_search_box_stops_at_a_plate_face():
+    scene = load_scene_text(scene_text(
+        '[[magnet]]\nshape = "box"\nsize = [10, 10, 4]\nposition = [0, 0, 3]\nremanence = 1',
+        tail='[[steel_plate]]\npoint = [0, 0, 0]\nnormal = [0, 0, 1]\nthickness = 5\n'))
+    assert scene.search_box.min[2] == 0.0  # the plate's face, not 1 - 10 mm below it
+    assert scene.search_box.max[2] == pytest.approx(0.015)

@@ -74,7 +74,8 @@ def pytest_approx(value):
 
 
 BASE_TEXTS = {name: (SAMPLES / name).read_text() for name in
-              ("level_gauge.toml", "bead_chip.toml", "holding_plate.toml", "arc_rotor.toml")}
+              ("level_gauge.toml", "bead_chip.toml", "holding_plate.toml", "arc_rotor.toml",
+               "graphite_stage.toml", "separator_grate.toml")}
 REPLACEMENTS = ["0", "-1", "nan", "inf", "-inf", '"x"', "[]", "{}", "true", "1e400", '"1/0"',
                 "9999999", '"gap"', "[0, 0, 0]", '"radial-out"', "[[1]]", "1e-300", '""',
                 '"sqrt(-1)"', "[1, 2]"]

@@ -35,9 +35,9 @@ def run(args) -> int:
             warnings.showwarning(warning.message, warning.category, warning.filename,
                                  warning.lineno)
     summary = summarise(scene)
-    print(format_table(scene, summary))
-    if args.json:
+    if args.json:  # first, so the file is there even if the table's reader goes away
         write_json(args.json, stamp(scene, summary))
+    print(format_table(scene, summary))
     return 0
 
 
