@@ -137,6 +137,11 @@ def _dims(ctx, entry, shape, where) -> tuple:
         raise SceneError(f"{where}: the key '{missing}' is missing; give the dimensions as "
                          f"{SIZE_EXAMPLES[shape]}.")
     for value, label, dim in zip(values, labels, names):
+        if value == 0 and dim == "inner_diameter":
+            if shape == "arc":
+                continue  # a pie-shaped sector
+            raise SceneError(f"{where}, {label}: a ring with inner diameter 0 is a solid "
+                             f"cylinder; write shape = \"cylinder\" with its diameter and height.")
         if value <= 0:
             raise SceneError(f"{where}, {label}: the {dim.replace('_', ' ')} must be positive, "
                              f"got {value:g}; give a size above zero.")

@@ -36,6 +36,7 @@ def corners_world(magnet) -> set:
     ('shape = "ring"\nouter_diameter = 20\ninner_diameter = 10\nheight = 5', "ring",
      (0.020, 0.010, 0.005)),
     ('shape = "arc"\nsize = [40, 30, 10, 90]', "arc", (0.040, 0.030, 0.010, np.pi / 2)),
+    ('shape = "arc"\nsize = [40, 0, 10, 30]', "arc", (0.040, 0.0, 0.010, np.pi / 6)),  # a pie
     ('shape = "sphere"\nsize = 8', "sphere", (0.008,)),
     ('shape = "sphere"\ndiameter = 8', "sphere", (0.008,)),
 ])
@@ -242,3 +243,8 @@ def test_default_search_box_stops_at_a_plate_face():
         tail='[[steel_plate]]\npoint = [0, 0, 0]\nnormal = [0, 0, 1]\nthickness = 5\n'))
     assert scene.search_box.min[2] == 0.0  # the plate's face, not 1 - 10 mm below it
     assert scene.search_box.max[2] == pytest.approx(0.015)
+
+
+def test_a_ring_with_no_hole_is_sent_to_the_cylinder():
+    with pytest.raises(SceneError, match='inner diameter 0 is a solid cylinder; write shape = "cylinder"'):
+        one('shape = "ring"\nsize = [20, 0, 5]\nremanence = 1')
