@@ -401,6 +401,27 @@ def test_face_and_wall_points_take_the_outer_side():
         assert np.abs(a - b).max() < 1e-8 * M0
 
 
+def test_jump_across_faces_and_walls_is_the_surface_charge():
+    # boundary conditions at a magnetised surface: H_out - H_in = (M . n) n, the tangential part of
+    # H continuous (Jackson, Classical Electrodynamics 3rd ed., sections 5.9 and 5.10)
+    c, s = np.cos(0.6), np.sin(0.6)
+    on = np.array([[R * c, R * s, 0.1 * L], [0, -R, -0.7 * L], [0.4 * R, 0.2 * R, L], [-0.3 * R, 0, -L]])
+    normal = np.array([[c, s, 0], [0, -1, 0], [0, 0, 1], [0, 0, -1]])
+    delta = 1e-9 * R
+    for M in DIRECTIONS:
+        Mv = M0 * M
+        jump = cylinder_H(on + delta * normal, 2 * R, 2 * L, Mv) - cylinder_H(on - delta * normal, 2 * R, 2 * L, Mv)
+        np.testing.assert_allclose(jump, (normal @ Mv)[:, None] * normal, rtol=0, atol=1e-7 * M0)
+    # a ring's bore wall: the material lies outside its radius, so n points to the axis
+    on = np.array([[RI * c, RI * s, 0.2 * L], [0, RI, -0.5 * L]])
+    normal = -on * [1, 1, 0] / RI
+    for M in DIRECTIONS:
+        Mv = M0 * M
+        jump = (ring_H(on + delta * normal, 2 * R, 2 * RI, 2 * L, Mv)
+                - ring_H(on - delta * normal, 2 * R, 2 * RI, 2 * L, Mv))
+        np.testing.assert_allclose(jump, (normal @ Mv)[:, None] * normal, rtol=0, atol=1e-7 * M0)
+
+
 def test_rim_points_are_pushed_outward():
     # DESIGN.md Conventions: a point on an edge is pushed outward by 1e-9 of the part size
     push = RIM_PUSH * 2 * R / np.sqrt(2)
