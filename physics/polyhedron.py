@@ -209,15 +209,16 @@ def _locate(px, py, pz, V, EV, elen, r, R, dot, q, s):
 @njit(cache=True)
 def _locate_pushed(px, py, pz, V, EV, elen, vpush, epush, r, R, dot, q, s):
     """_locate, pushing the point off a vertex or an edge first. Returns the point used."""
-    for _ in range(3):
+    push = EDGE_PUSH
+    while True:
         kind, idx = _locate(px, py, pz, V, EV, elen, r, R, dot, q, s)
         if kind == 0:
-            break
+            return px, py, pz
         d = vpush[idx] if kind == 1 else epush[idx]
-        px += EDGE_PUSH * d[0]
-        py += EDGE_PUSH * d[1]
-        pz += EDGE_PUSH * d[2]
-    return px, py, pz
+        px += push * d[0]
+        py += push * d[1]
+        pz += push * d[2]
+        push *= 10.0  # only a degenerate mesh (two coincident edges) lands on another one
 
 
 @njit(cache=True)
