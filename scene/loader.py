@@ -403,7 +403,7 @@ def _warn_overlaps(shown, magnets, scale, units) -> None:
     for i, j, depth in pairs[:10]:
         warnings.warn(SceneWarning(
             f"{shown}: magnets '{magnets[i].name}' and '{magnets[j].name}' overlap by about "
-            f"{depth / scale:.3g} {units}; move them apart (solid parts cannot share space)."),
+            f"{depth / scale:.2g} {units}; move them apart (solid parts cannot share space)."),
             stacklevel=3)
     if len(pairs) > 10:
         warnings.warn(SceneWarning(f"{shown}: {len(pairs) - 10} more pairs of magnets overlap; "

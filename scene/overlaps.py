@@ -5,7 +5,7 @@ inside both, where depth is the distance to the part's surface (derived here). I
 two spheres (2r - centre distance) and for two boxes pressed face into face (the slab's
 thickness). It is found on a lattice of points in the two bounding boxes' intersection, so it is
 good to about one lattice step, and an overlap thinner than ~1/20 of that intersection between
-tilted parts can be missed. Touching parts (shared faces) do not count as overlapping.
+tilted parts can be missed (for meshes of many triangles the lattice is thinned further). Touching parts (shared faces) do not count as overlapping.
 """
 from __future__ import annotations
 
@@ -14,6 +14,9 @@ import numpy as np
 from scene.measures import bounding_box, smallest_dimension
 
 LATTICE = 21  # points per axis (odd, so the centre of the intersection is on it)
+PAIR_BUDGET = 4e6  # point-triangle pairs of winding numbers per mesh test (~0.3 s of numpy)
+MAX_HULL_FACES = 2000
+MAX_SURFACE_SAMPLES = 200000
 
 
 def _wedge_depth(x, y, angle):
@@ -29,28 +32,77 @@ def _wedge_depth(x, y, angle):
 
 
 def _in_hull(magnet, p) -> np.ndarray:
-    """Body points inside the mesh's convex hull (outside it is outside the mesh)."""
-    from scipy.spatial import ConvexHull
+    """Body points inside the mesh's convex hull (outside it is outside the mesh).
 
-    hull = ConvexHull(magnet.mesh_vertices).equations
+    A hull of many faces is not worth it (the test would cost as much as the winding number):
+    then every point passes.
+    """
+    hull = _cached(magnet, "hull", lambda: _hull_equations(magnet.mesh_vertices))
+    if hull is None:
+        return np.ones(len(p), dtype=bool)
     size = float(np.ptp(magnet.mesh_vertices, axis=0).max())
     return np.all(p @ hull[:, :3].T + hull[:, 3] <= 1e-9 * size, axis=1)
 
 
-def _mesh_depth(magnet, p):
-    """Distance to the surface inside (winding number > 1/2), -1 outside (only the sign counts)."""
-    import trimesh
+def _hull_equations(vertices):
+    from scipy.spatial import ConvexHull
 
+    equations = ConvexHull(vertices).equations
+    return equations if len(equations) <= MAX_HULL_FACES else None
+
+
+_CACHE: dict = {}
+
+
+def _cached(magnet, what, make):
+    """Per-mesh helpers, kept while the mesh's vertex array lives (patterns share one array)."""
+    key = (id(magnet.mesh_vertices), what)
+    if key not in _CACHE or _CACHE[key][0] is not magnet.mesh_vertices:
+        if len(_CACHE) > 64:
+            _CACHE.clear()
+        _CACHE[key] = (magnet.mesh_vertices, make())
+    return _CACHE[key][1]
+
+
+def surface_samples(triangles: np.ndarray, spacing: float) -> np.ndarray:
+    """Points on every triangle, a barycentric grid no coarser than `spacing` (with corners)."""
+    edges = np.linalg.norm(triangles - np.roll(triangles, 1, axis=1), axis=2).max(axis=1)
+    steps = np.clip(np.ceil(edges / spacing).astype(int), 1, 64)
+    samples = [triangles.reshape(-1, 3)]
+    for n in np.unique(steps[steps > 1]):
+        i, j = np.meshgrid(np.arange(n + 1), np.arange(n + 1), indexing="ij")
+        keep = i + j <= n
+        weights = np.column_stack([i[keep], j[keep], n - i[keep] - j[keep]]) / n
+        chosen = triangles[steps == n]
+        samples.append(np.einsum("wk,tkd->twd", weights, chosen).reshape(-1, 3))
+    return np.vstack(samples)
+
+
+def _surface_tree(magnet):
+    from scipy.spatial import cKDTree
+
+    triangles = magnet.mesh_vertices[magnet.mesh_faces]
+    size = float(np.ptp(magnet.mesh_vertices, axis=0).max())
+    area = float(np.linalg.norm(np.cross(triangles[:, 1] - triangles[:, 0],
+                                         triangles[:, 2] - triangles[:, 0]), axis=1).sum() / 2)
+    spacing = max(size / 100.0, np.sqrt(area / MAX_SURFACE_SAMPLES))
+    return cKDTree(surface_samples(triangles, spacing))
+
+
+def _mesh_depth(magnet, p):
+    """Distance to the surface inside (winding number > 1/2), -1 outside (only the sign counts).
+
+    The distance is to the nearest of dense surface samples (about 1/100 of the part's size
+    apart), so it is good to that spacing, like the lattice it is evaluated on.
+    """
     triangles = magnet.mesh_vertices[magnet.mesh_faces]
     depth = np.full(len(p), -1.0)
     in_hull = np.nonzero(_in_hull(magnet, p))[0]
+    stride = max(1, int(np.ceil(len(in_hull) * len(triangles) / PAIR_BUDGET)))
+    in_hull = in_hull[::stride]  # a big mesh gets a thinner lattice, never minutes of work
     inside = in_hull[winding_number(triangles, p[in_hull]) > 0.5]
-    per_chunk = max(1, 200000 // len(triangles))
-    for start in range(0, len(inside), per_chunk):
-        rows = inside[start:start + per_chunk]
-        pairs = np.repeat(p[rows], len(triangles), axis=0)
-        closest = trimesh.triangles.closest_point(np.tile(triangles, (len(rows), 1, 1)), pairs)
-        depth[rows] = np.linalg.norm(closest - pairs, axis=1).reshape(len(rows), -1).min(axis=1)
+    if len(inside):
+        depth[inside] = _cached(magnet, "surface", lambda: _surface_tree(magnet)).query(p[inside])[0]
     return depth
 
 
