@@ -62,13 +62,6 @@ class Footprint:
     def union_mask(self) -> np.ndarray:
         return self.masks().any(axis=0)
 
-    def perimeters(self) -> np.ndarray:
-        """(K,) length of each part's shadow outline, m."""
-        return np.array([contour_length(d, self.spacing) for d in self.depth])
-
-    def union_perimeter(self) -> float:
-        return contour_length(self.depth.min(axis=0), self.spacing)
-
 
 def plate_axes(normal) -> np.ndarray:
     """Two unit vectors spanning the plate's face (a right-handed frame with the normal)."""

@@ -115,3 +115,13 @@ def test_bad_input_is_a_scene_error():
         pull_curve(scene(disc, [plate()]), [0.0], part="lid")
     with pytest.raises(SceneError, match="gaps"):
         pull_curve(scene(disc, [plate()]), [-0.001])
+
+
+def test_outline_length_of_a_circle():
+    from physics.saturation import contour_length
+
+    x = np.linspace(-1.0, 1.0, 81)
+    xx, yy = np.meshgrid(x, x)
+    # the zero level set of |p| - 0.6 is a circle of length 2 pi 0.6 (marching squares)
+    assert contour_length(np.hypot(xx, yy) - 0.6, x[1] - x[0]) == pytest.approx(
+        2 * math.pi * 0.6, rel=2e-3)
