@@ -38,7 +38,7 @@ def discretise(inside, lower, upper, cell_size, magnetization, volume, subsample
     evaluated at the dipole positions. volume: the solid's exact volume, m^3.
     sdf: optional signed distance (negative inside, |sdf| never more than the true distance, and
     close to it near the surface); with it only cells within half a cell diagonal of the surface
-    are sub-sampled, and each sub-sample counts by its distance to the surface (see _sub_sampled);
+    are sub-sampled, and each sub-cell counts by its distance to the surface (_sub_cell_shares);
     without it the cells whose 26 neighbours disagree with them about the centre test are
     sub-sampled with inside() (features thinner than a cell can then be missed).
     boundary_centroids: put a cut cell's dipole at the centroid of its inside sub-samples rather
@@ -143,12 +143,7 @@ def _disagrees_with_a_neighbour(centre_inside: np.ndarray) -> np.ndarray:
 
 def _sub_sampled(inside, sdf, centres, steps, subsamples):
     """Fraction inside and centroid of the inside part of each cell, from the midpoints of a
-    subsamples^3 sub-lattice. Without sdf each sub-cell counts 0 or 1 (inside() at its midpoint).
-    With sdf it counts clip(1/2 - sdf / w, 0, 1), w = the sub-cell's extent along the surface
-    normal (from a central difference of sdf at the cell centre): the share of a sub-cell lying
-    behind a plane at signed distance sdf from its midpoint, linearised (derived here; exact at the
-    midpoint and beyond w/2, and odd about the midpoint, so it carries no bias). On a sphere this
-    cuts the error three to four cells from the surface by about 3 times (measured 2026-12-01)."""
+    subsamples^3 sub-lattice: each sub-cell counts by the share of it inside (_sub_cell_shares)."""
     u = (np.arange(subsamples) + 0.5) / subsamples - 0.5
     offsets = np.stack([g.ravel() for g in np.meshgrid(u, u, u, indexing="ij")], axis=1) * steps
     per_batch = max(1, _POINTS_PER_BATCH // len(offsets))
@@ -158,12 +153,11 @@ def _sub_sampled(inside, sdf, centres, steps, subsamples):
         batch = centres[start:start + per_batch]
         points = (batch[:, None, :] + offsets[None, :, :]).reshape(-1, 3)
         if sdf is None:
-            share = np.asarray(inside(points), dtype=float)
+            share = np.asarray(inside(points), dtype=float).reshape(len(batch), -1)
         else:
-            width = _sub_cell_width_along_normal(sdf, batch, steps / subsamples)
-            distance = np.asarray(sdf(points), dtype=float).reshape(len(batch), -1)
-            share = np.clip(0.5 - distance / width[:, None], 0.0, 1.0)
-        share = share.reshape(len(batch), -1)
+            distance = np.asarray(sdf(points), dtype=float)
+            grid = distance.reshape((len(batch),) + (subsamples,) * 3)
+            share = _sub_cell_shares(grid, steps / subsamples).reshape(len(batch), -1)
         total = share.sum(axis=1)
         fractions[start:start + per_batch] = total / len(offsets)
         shift = share @ offsets / np.where(total > 0.0, total, 1.0)[:, None]
@@ -171,18 +165,27 @@ def _sub_sampled(inside, sdf, centres, steps, subsamples):
     return fractions, centroids
 
 
-def _sub_cell_width_along_normal(sdf, centres, sub_steps) -> np.ndarray:
-    """sum_i |n_i| sub_step_i, n = the unit gradient of sdf at the centres (central differences)."""
-    e = 1e-3 * float(sub_steps.min())
-    gradient = np.empty_like(centres)
-    for i in range(3):
-        step = np.zeros(3)
-        step[i] = e
-        gradient[:, i] = (np.asarray(sdf(centres + step), dtype=float)
-                          - np.asarray(sdf(centres - step), dtype=float)) / (2.0 * e)
-    norm = np.linalg.norm(gradient, axis=1)
-    width = np.abs(gradient) @ sub_steps / np.where(norm > 0.0, norm, 1.0)
-    return np.where(norm > 0.0, np.maximum(width, sub_steps.min()), sub_steps.max())
+def _sub_cell_shares(distance, sub_steps) -> np.ndarray:
+    """Share of each sub-cell inside, from the signed distances of the sub-cell midpoints
+    (distance: (cells, s, s, s)).
+
+    Where the surface is smooth, clip(1/2 - d / w, 0, 1) with w = sum_i |n_i| sub_step_i, the
+    sub-cell's extent along the surface normal n (the sdf's gradient, by differences on the
+    sub-lattice): the share behind a plane at signed distance d from the midpoint, linearised
+    (derived here: exact at d = 0 and for |d| >= w/2, odd about d = 0 and so unbiased). It cuts
+    the error three to four cells from a sphere by about 3 times against counting (measured
+    2026-12-01). Where |grad sdf| is not 1 (edges, corners, a distance that is not Euclidean) the
+    plane model does not hold and the sub-cell counts 0 or 1 by the sign of d.
+    """
+    counted = (distance < 0.0).astype(float)
+    if distance.shape[1] < 2:
+        return counted
+    gradient = np.stack(np.gradient(distance, *sub_steps, axis=(1, 2, 3)), axis=-1)
+    norm = np.linalg.norm(gradient, axis=-1)
+    smooth = np.abs(norm - 1.0) < 0.05
+    width = (np.abs(gradient) @ sub_steps) / np.where(smooth, norm, 1.0)
+    ramp = np.clip(0.5 - distance / np.where(smooth, width, 1.0), 0.0, 1.0)
+    return np.where(smooth, ramp, counted)
 
 
 def _magnetization_at(magnetization, positions) -> np.ndarray:
