@@ -30,9 +30,16 @@ FAR_FIELD_SIZES = 50.0
 
 
 def closed_form(kind: str, gradient: bool = False):
+    """The body-frame H function of a shape, or with gradient=True the one returning (H, dH/dx)."""
     module_name, stem = CLOSED_FORMS[kind]
     module = importlib.import_module(module_name)
-    return getattr(module, f"{stem}_H_gradient" if gradient else f"{stem}_H")
+    if not gradient:
+        return getattr(module, f"{stem}_H")
+    both = getattr(module, f"{stem}_H_and_gradient", None)
+    if both is not None:
+        return both
+    H, G = getattr(module, f"{stem}_H"), getattr(module, f"{stem}_H_gradient")
+    return lambda *args: (H(*args), G(*args))
 
 
 @dataclass(frozen=True, eq=False)
@@ -85,10 +92,12 @@ class Source:
         if near.any():
             body = self.to_body(points[near])
             R = self.matrix
-            H[near] = closed_form(self.kind)(body, *self.params, self.magnetization) @ R.T
             if gradient:
-                G_body = closed_form(self.kind, True)(body, *self.params, self.magnetization)
+                H_body, G_body = closed_form(self.kind, True)(body, *self.params, self.magnetization)
                 G[near] = np.einsum("ij,njk,lk->nil", R, G_body, R)
+            else:
+                H_body = closed_form(self.kind)(body, *self.params, self.magnetization)
+            H[near] = H_body @ R.T
         return H, G
 
 

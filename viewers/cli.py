@@ -45,7 +45,25 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _one_line_warning(message, category, filename, lineno, file=None, line=None):
+    from scene.errors import SceneWarning
+
+    if issubclass(category, SceneWarning):
+        print(f"trapscape: warning: {message}", file=sys.stderr)
+    else:
+        _default_showwarning(message, category, filename, lineno, file, line)
+
+
+def _default_showwarning(*args):
+    import warnings
+
+    warnings._showwarnmsg_impl(warnings.WarningMessage(*args))
+
+
 def main(argv=None) -> int:
+    import warnings
+
+    warnings.showwarning = _one_line_warning
     try:
         parser = build_parser()
         args = parser.parse_args(argv)
@@ -56,6 +74,9 @@ def main(argv=None) -> int:
     except SceneError as error:
         print(f"trapscape: {error}", file=sys.stderr)
         return 2
+    except BrokenPipeError:  # e.g. piped into `head`: the reader has what it wanted
+        sys.stderr.close()
+        return 0
     except KeyboardInterrupt:
         print("trapscape: interrupted", file=sys.stderr)
         return 130
