@@ -1,0 +1,321 @@
+"""The scene view: layers drawn with pyvista, off-screen to a PNG or in a window.
+
+The projection is parallel (an engineering view), so the scale bar holds everywhere in the
+picture. The 3D content is framed in the left part of the window; the legend and the |B| colour
+bar sit in a column on the right, the title on top, the scale bar at the bottom left.
+"""
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+
+CAMERAS = {  # preset -> (direction from the focal point to the camera, view up)
+    "iso": ((1.0, -1.0, 0.8), (0.0, 0.0, 1.0)),
+    "front": ((0.0, -1.0, 0.0), (0.0, 0.0, 1.0)),
+    "side": ((1.0, 0.0, 0.0), (0.0, 0.0, 1.0)),
+    "top": ((0.0, 0.0, 1.0), (0.0, 1.0, 0.0)),
+    "fit": ((1.0, -1.0, 0.8), (0.0, 0.0, 1.0)),
+}
+
+
+
+def prefer_egl() -> None:
+    """Off-screen and with no X display, go straight to EGL: VTK would otherwise try X first
+    and print a warning about the missing display. Must run before vtk is imported."""
+    if not os.environ.get("DISPLAY"):
+        os.environ.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
+
+
+@dataclass(frozen=True)
+class RenderOptions:
+    layers: tuple
+    size: tuple = (1600, 1200)
+    camera: str = "iso"
+    transparent: bool = False
+    title: str | None = None  # None: the scene's title; "": none
+    log_scale: bool = True
+    iso_levels_T: tuple | None = None
+    section_axis: int | None = None  # None: chosen from the constraint and the camera
+    section_level: float | None = None  # scene unit; None: through the headline trap
+    cutaway: bool = False
+    legend: bool = True
+    scale_bar: bool = True
+    extra: dict = field(default_factory=dict)
+
+
+def view_vectors(camera: str):
+    """(direction to the camera, up, right), unit vectors."""
+    if camera not in CAMERAS:
+        from scene.errors import SceneError
+        from scene.names import did_you_mean, listing
+
+        raise SceneError(f"--camera {camera!r} is not a preset{did_you_mean(camera, CAMERAS)}; "
+                         f"choose {listing(CAMERAS)}.")
+    direction, up = (np.asarray(v, float) for v in CAMERAS[camera])
+    direction /= np.linalg.norm(direction)
+    right = np.cross(-direction, up)
+    right /= np.linalg.norm(right)
+    up = np.cross(right, -direction)
+    return direction, up, right
+
+
+def prepare(ctx, options: RenderOptions) -> None:
+    """Set what the layers read from the context: the view, the section, the text size."""
+    direction, up, right = view_vectors(options.camera)
+    ctx.view_direction = direction
+    ctx.label_offset = (right + up) / np.sqrt(2.0)
+    ctx.font_size = max(6, int(round(min(options.size[1] / 95, options.size[0] / 125))))
+    ctx.iso_levels_T = options.iso_levels_T
+    ctx.cutaway = options.cutaway
+    if "section" in options.layers:
+        from viewers.layers.section import choose_section
+
+        ctx.section = choose_section(ctx, direction, options.section_axis, options.section_level)
+    else:
+        ctx.section = None
+
+
+def colour_scale(ctx, options):
+    from viewers.layers.annotations import ColourScale
+
+    low, high = ctx.B_range_mT
+    if not options.log_scale:
+        low = 0.0
+    return ColourScale(low_mT=low, high_mT=high, log=options.log_scale,
+                       line_width=max(1.5, options.size[1] / 600))
+
+
+def build_plotter(ctx, options: RenderOptions, off_screen: bool = True, overlay: bool = True):
+    """A pyvista Plotter holding every chosen layer, the camera set, annotations added."""
+    if off_screen:
+        prefer_egl()
+    import pyvista as pv
+
+    from viewers.layers import layer_module
+    from viewers.layers.annotations import Legend
+    from viewers.layers.cutaway import hidden_parts
+    from viewers.layers.magnets import world_meshes
+    from viewers.layers.style import BACKGROUND
+
+    prepare(ctx, options)
+    plotter = pv.Plotter(off_screen=off_screen, window_size=list(options.size))
+    plotter.set_background(BACKGROUND)
+    plotter.enable_parallel_projection()
+    legend, scale = Legend(), colour_scale(ctx, options)
+    marker_layer = _overlay(plotter) if overlay and "markers" in options.layers else None
+    hidden = hidden_parts(ctx, world_meshes(ctx)) if "section" in options.layers else set()
+    for name in options.layers:
+        module = layer_module(name)
+        if name == "magnets":
+            module.draw(plotter, ctx, legend, hidden=hidden)
+        elif name in ("section", "fieldlines", "isosurfaces"):
+            module.draw(plotter, ctx, legend, scale)
+        elif name == "markers":
+            module.draw(plotter, ctx, legend, overlay=marker_layer)
+        else:
+            module.draw(plotter, ctx, legend)
+    layout = plan_layout(plotter, ctx, options, legend)
+    _frame(plotter, ctx, options, layout)
+    _annotate(plotter, ctx, options, legend, scale, layout)
+    # no depth peeling: with Mesa's EGL it drops every translucent actor (seen with VTK 9.7)
+    return plotter
+
+
+def _overlay(plotter):
+    """A renderer drawn over the main one with the same camera: markers inside a ring of
+    magnets or behind the section stay visible."""
+    from pyvista.plotting.renderer import Renderer
+
+    overlay = Renderer(plotter)
+    overlay.SetLayer(1)
+    overlay.SetInteractive(False)
+    plotter.ren_win.SetNumberOfLayers(2)
+    plotter.ren_win.AddRenderer(overlay)
+    overlay.SetActiveCamera(plotter.renderer.GetActiveCamera())
+    plotter._trapscape_overlay = overlay  # kept alive with the plotter
+    return overlay
+
+
+def content_bounds(plotter, ctx, options) -> np.ndarray:
+    """(2, 3) what the camera frames: everything drawn, or for `fit` the magnets and traps."""
+    if options.camera == "fit":
+        boxes = [ctx.magnet_bounds]
+        if ctx.equilibria:
+            points = np.array([e.position for e in ctx.equilibria])
+            boxes.append(np.array([points.min(axis=0), points.max(axis=0)]))
+        lower = np.min([b[0] for b in boxes], axis=0)
+        upper = np.max([b[1] for b in boxes], axis=0)
+        pad = 0.08 * np.linalg.norm(upper - lower)
+        return np.array([lower - pad, upper + pad])
+    points = visible_points(plotter)
+    if len(points) == 0:
+        return ctx.box_bounds
+    return np.array([points.min(axis=0), points.max(axis=0)])
+
+
+def visible_points(plotter, per_actor: int = 4000) -> np.ndarray:
+    """Points of every 3D actor drawn (a deterministic subsample of each): framing on them, not
+    on bounding boxes, keeps thin planes and rings from being framed too loosely."""
+    gathered = []
+    for actor in plotter.renderer.actors.values():
+        mapper = actor.GetMapper() if hasattr(actor, "GetMapper") else None
+        data = mapper.GetInput() if hasattr(mapper, "GetInput") else None
+        if data is None or not actor.GetVisibility() or not hasattr(data, "GetPoints"):
+            continue
+        vtk_points = data.GetPoints()
+        if vtk_points is None or vtk_points.GetNumberOfPoints() == 0:
+            continue
+        from vtk.util.numpy_support import vtk_to_numpy
+
+        array = vtk_to_numpy(vtk_points.GetData())
+        step = max(1, len(array) // per_actor)
+        gathered.append(array[::step])
+    return np.concatenate(gathered) if gathered else np.zeros((0, 3))
+
+
+@dataclass
+class Layout:
+    """Pixel rectangles of the picture (display coordinates, y up)."""
+
+    width: int
+    height: int
+    font: int  # pyvista font size of body text (glyphs are about 2 font pixels tall)
+    title_band: float = 0.0
+    legend_left: float = 0.0
+    legend_font: int = 0
+    legend_width: float = 0.0
+
+    @property
+    def content(self):
+        """(x0, x1, y0, y1) in pixels where the 3D content is framed."""
+        right = self.legend_left - 0.02 * self.width if self.legend_width else 0.98 * self.width
+        return (0.02 * self.width, right, 0.08 * self.height + 2.5 * self.font,
+                self.height - self.title_band - 0.01 * self.height)
+
+
+def plan_layout(plotter, ctx, options, legend) -> Layout:
+    from viewers.layers.annotations import text_width
+
+    width, height = options.size
+    layout = Layout(width=width, height=height, font=ctx.font_size)
+    if options.title != "":
+        layout.title_band = 2.0 * ctx.font_size * (1.45 + 1.0) * 1.2 + 0.02 * height
+    if options.legend and legend.entries:
+        font = max(7, int(round(ctx.font_size * 0.85)))
+        widest = max(text_width(plotter, label, font) for label, _, _ in legend.entries)
+        while font > 7 and widest + 6 * font > 0.36 * width:
+            font -= 1
+            widest = max(text_width(plotter, label, font) for label, _, _ in legend.entries)
+        layout.legend_font = font
+        layout.legend_width = widest + 6 * font
+        layout.legend_left = width * 0.985 - layout.legend_width
+    return layout
+
+
+def _frame(plotter, ctx, options, layout: Layout) -> None:
+    direction, up, right = view_vectors(options.camera)
+    lower, upper = content_bounds(plotter, ctx, options)
+    if options.camera == "fit":
+        corners = np.array([[x, y, z] for x in (lower[0], upper[0]) for y in (lower[1], upper[1])
+                            for z in (lower[2], upper[2])])
+    else:
+        corners = visible_points(plotter)
+    centre = corners.mean(axis=0)
+    u = (corners - centre) @ right
+    v = (corners - centre) @ up
+    x0, x1, y0, y1 = layout.content
+    width, height = options.size
+    # parallel scale = half the window's height in world units; fit both extents in the box
+    scale = 1.04 * max((v.max() - v.min()) * height / (2 * (y1 - y0)),
+                       (u.max() - u.min()) * height / (2 * (x1 - x0)), 1e-9)
+    pixel = 2 * scale / height  # world units per pixel
+    offset_x = ((x0 + x1) / 2 - width / 2) * pixel
+    offset_y = ((y0 + y1) / 2 - height / 2) * pixel
+    mid = centre + right * (u.max() + u.min()) / 2 + up * (v.max() + v.min()) / 2
+    focal = mid - right * offset_x - up * offset_y
+    distance = 4.0 * float(np.linalg.norm(upper - lower)) + 1.0
+    camera = plotter.camera
+    camera.focal_point = tuple(focal)
+    camera.position = tuple(focal + direction * distance)
+    camera.up = tuple(up)
+    camera.parallel_scale = scale
+    plotter.renderer.ResetCameraClippingRange()
+    plotter._trapscape_world_per_pixel = pixel
+
+
+def _annotate(plotter, ctx, options, legend, scale, layout: Layout) -> None:
+    from viewers.layers.annotations import draw_scale_bar, title_lines
+    from viewers.layers.style import TEXT
+
+    width, height = options.size
+    font = ctx.font_size
+    if options.title != "":
+        title, subtitle = title_lines(ctx.scene, ctx.section)
+        title = options.title or title
+        top = height - 0.015 * height
+        plotter.add_text(title, position=(int(0.02 * width), int(top - 2.0 * 1.45 * font * 1.05)),
+                         font_size=int(round(font * 1.45)), color=TEXT)
+        plotter.add_text(subtitle, position=(int(0.02 * width),
+                                             int(top - 2.0 * font * (1.45 + 1.0) * 1.15)),
+                         font_size=font, color=TEXT)
+    if options.scale_bar:
+        draw_scale_bar(plotter, plotter._trapscape_world_per_pixel, ctx.unit,
+                       origin_px=(0.03 * width, 0.04 * height + font), font_size=font,
+                       target_px=0.16 * width)
+    if not options.legend:
+        return
+    top = height - layout.title_band
+    bottom = top
+    if legend.entries:
+        legend.draw(plotter, left=layout.legend_left, top=top, width=layout.legend_width,
+                    font_size=layout.legend_font)
+        bottom = top - legend.height(layout.legend_font)
+    if scale.used or "isosurfaces" in options.layers or "fieldlines" in options.layers:
+        bar_top = bottom - 3.5 * font
+        bar_height = min(0.42 * height, bar_top - 0.06 * height)
+        if bar_height > 0.12 * height:
+            left = layout.legend_left if legend.entries else 0.86 * width
+            scale.draw_bar(plotter, position=(left / width, (bar_top - bar_height) / height),
+                           size=(0.055, bar_height / height), font_size=layout.legend_font or font)
+    if ctx.notes and options.extra.get("notes_on_picture"):
+        plotter.add_text("\n".join(ctx.notes), position="lower_right", font_size=font)
+
+
+def render_png(ctx, options: RenderOptions, path: str) -> str:
+    plotter = build_plotter(ctx, options, off_screen=True)
+    try:
+        plotter.screenshot(path, transparent_background=options.transparent,
+                           window_size=list(options.size))
+    finally:
+        plotter.close()
+    return path
+
+
+def show_window(ctx, options: RenderOptions) -> None:
+    """The interactive window with the same layers (needs a display)."""
+    if not os.environ.get("DISPLAY") and os.name != "nt" and not os.environ.get("WAYLAND_DISPLAY"):
+        from scene.errors import SceneError
+
+        raise SceneError("--show needs a display and none is set (DISPLAY is empty); "
+                         "write a picture with -o OUT.png instead.")
+    plotter = build_plotter(ctx, replace(options), off_screen=False)
+    plotter.show()
+
+
+def world_to_pixels(plotter, points) -> np.ndarray:
+    """(N, 2) image pixel (column, row from the top) of world points (scene unit), through the
+    renderer's own world-to-display transform."""
+    import vtk
+
+    renderer = plotter.renderer
+    height = plotter.window_size[1]
+    coordinate = vtk.vtkCoordinate()
+    coordinate.SetCoordinateSystemToWorld()
+    result = []
+    for point in np.asarray(points, float).reshape(-1, 3):
+        coordinate.SetValue(*point)
+        x, y = coordinate.GetComputedDoubleDisplayValue(renderer)
+        result.append((x, height - 1 - y))
+    return np.array(result)
