@@ -369,7 +369,8 @@ def _run_field(points, vertices, faces, magnetization, want_h, want_g):
     G = np.empty((len(p), 3, 3)) if want_g else np.empty((1, 3, 3))
     _field_kernel(p, t.vertices, t.faces, t.face_edges, t.edges, t.edge_length, t.area_normal,
                   sn, ce, de, t.vertex_push, t.edge_push, want_h, want_g, H, G)
-    return H * _INV_4PI, G * (_INV_4PI / t.scale)
+    # the unused output is a never-written placeholder: scale only what was computed
+    return (H * _INV_4PI if want_h else None), (G * (_INV_4PI / t.scale) if want_g else None)
 
 
 def polyhedron_H(points: np.ndarray, vertices: np.ndarray, faces: np.ndarray, magnetization) -> np.ndarray:
