@@ -17,7 +17,7 @@ import sys
 
 import numpy as np
 
-from physics.dipole_sum import dipole_H, symmetric_from_six
+from physics.dipole_sum import COINCIDENT_M, dipole_H, symmetric_from_six
 
 # Below this many targets one process is faster than shipping half of them to a second one
 # (measured 2026-12-01 on this machine, see benchmarks/dipole_sum_speed.py --constants).
@@ -50,9 +50,29 @@ def fmm_dipole_H(targets, positions, moments, gradient=False, eps=1e-6, processe
         H, G6 = _fmm_share(targets, positions, moments, gradient, eps)
     else:
         H, G6 = _fmm_in_processes(targets, positions, moments, gradient, eps, shares)
-    if gradient:
-        return H, symmetric_from_six(G6)
-    return H
+    G = symmetric_from_six(G6) if gradient else None
+    _redo_coincident_targets_directly(targets, positions, moments, H, G)
+    return (H, G) if gradient else H
+
+
+def _redo_coincident_targets_directly(targets, positions, moments, H, G) -> None:
+    """fmm3dpy drops a source only when a target sits on it to rounding; one 1e-13 m away gives
+    ~1e38 A/m. Targets whose field is that large (|H| >= |m| / (4 pi (2 COINCIDENT_M)^3) for the
+    weakest dipole, reached only within about 2e-12 m of one) are redone by the direct sum, which
+    skips sources closer than COINCIDENT_M, as dipole_H promises."""
+    strengths = np.linalg.norm(moments, axis=1)
+    if not strengths.any():
+        return
+    weakest = strengths[strengths > 0].min()
+    bound = weakest / (4.0 * np.pi * (2.0 * COINCIDENT_M) ** 3)
+    suspect = ~np.isfinite(H).all(axis=1) | (np.linalg.norm(H, axis=1) >= bound)
+    if not suspect.any():
+        return
+    redo = dipole_H(targets[suspect], positions, moments, gradient=G is not None, method="direct")
+    if G is None:
+        H[suspect] = redo
+    else:
+        H[suspect], G[suspect] = redo
 
 
 def fmm_self_test() -> None:

@@ -96,6 +96,11 @@ def test_target_on_a_source_skips_it():
                                               method="direct")[0], rtol=1e-13)
     np.testing.assert_allclose(dipole_H_numpy(targets, positions, moments), H, rtol=1e-11,
                                atol=1e-12 * np.abs(H).max())
+    targets[1] = positions[3] + 1e-13  # within COINCIDENT_M, but not on it to rounding
+    H, G = dipole_H(targets, positions, moments, gradient=True, method="direct")
+    H_fmm, G_fmm = fmm.fmm_dipole_H(targets, positions, moments, gradient=True, eps=1e-10)
+    np.testing.assert_allclose(H_fmm, H, rtol=1e-8, atol=1e-9 * np.abs(H).max())
+    np.testing.assert_allclose(G_fmm, G, rtol=1e-8, atol=1e-9 * np.abs(G).max())
 
 
 def test_auto_picks_direct_for_small_and_fmm_for_large_work():
