@@ -5,9 +5,13 @@ import numpy as np
 
 from physics.sources import Source, magnetization_vector
 
-NEAR_ZONE_CELLS = 4.0  # a dipole set is replaced by the exact form closer than this (in cells)
-EXACT_TRIANGLE_LIMIT = 200  # meshes with fewer triangles are evaluated exactly everywhere
-RADIAL_CELLS_PER_WALL = 8  # radial parts have no closed form here: a finer dipole set
+# A dipole set is replaced by the exact form closer than this many cells to its surface, where
+# its error is above 5e-4 of the local field (physics/dipoles.py ERROR_AT_CELLS). The exact zone
+# is found as "within NEAR_ZONE_CELLS + half a cell diagonal of a dipole".
+NEAR_ZONE_CELLS = 6.0
+HYBRID_CELLS_PER_DIMENSION = 12  # cell of a mesh's dipole set: its smallest dimension / 12
+EXACT_TRIANGLE_LIMIT = 60  # below this, exact everywhere beats any dipole set (40 ns/tri/point)
+RADIAL_CELLS_PER_WALL = 8  # radial parts have no closed form here: a dipole set of wall/8 cells
 
 
 def body_bounds(magnet) -> tuple[np.ndarray, np.ndarray]:
@@ -117,29 +121,28 @@ def _exact_source(magnet, index) -> Source:
     return _placed(magnet, index, "polyhedron", body_mesh(magnet), M)
 
 
-def default_cell_size(magnet, accuracy: float) -> float:
+def default_cell_size(magnet, accuracy: float, with_near_zone: bool) -> float:
+    """A set with an exact near zone meets the accuracy whatever its cells, so they are chosen
+    for speed; a set on its own needs the cells that meet `accuracy` at 10% of the smallest
+    dimension (physics.dipoles.cell_size_for), but radial parts are capped at wall / 8 to keep
+    the set to a size a laptop builds in seconds (their accuracy then holds from ~half a wall)."""
     if magnet.cell_size:
         return float(magnet.cell_size)
     from physics.dipoles import cell_size_for
 
-    per_wall = RADIAL_CELLS_PER_WALL if magnet.radial else None
-    cell = cell_size_for(accuracy, smallest_dimension(magnet))
-    return min(cell, smallest_dimension(magnet) / per_wall) if per_wall else cell
+    smallest = smallest_dimension(magnet)
+    if with_near_zone:
+        return smallest / HYBRID_CELLS_PER_DIMENSION
+    if magnet.radial:
+        return smallest / RADIAL_CELLS_PER_WALL
+    return cell_size_for(accuracy, smallest)
 
 
 def _dipole_source(magnet, index, accuracy, with_near_zone: bool) -> Source:
     from physics.dipoles import discretise
-    from physics.geometry import shape_sdf
 
-    mesh = body_mesh(magnet) if magnet.shape == "mesh" else None
-
-    def sdf(body_points):
-        return shape_sdf(magnet.shape, magnet.dims, body_points, mesh=mesh)
-
-    def inside(body_points):
-        return sdf(body_points) < 0.0
-
-    cell = default_cell_size(magnet, accuracy)
+    inside, sdf = _inside_tests(magnet)
+    cell = default_cell_size(magnet, accuracy, with_near_zone)
     lower, upper = body_bounds(magnet)
     uniform = magnet.radial is None
     M = magnetization_vector(magnet.remanence, magnet.north) if uniform else None
@@ -149,9 +152,8 @@ def _dipole_source(magnet, index, accuracy, with_near_zone: bool) -> Source:
     R = np.asarray(magnet.rotation, float)
     extra = {}
     if with_near_zone and uniform:
-        margin = NEAR_ZONE_CELLS * cell
-        extra = dict(near=_exact_source(magnet, index), near_lower=lower - margin,
-                     near_upper=upper + margin)
+        extra = dict(near=_exact_source(magnet, index),
+                     near_radius=(NEAR_ZONE_CELLS + np.sqrt(3.0) / 2.0) * cell)
     source = _placed(magnet, index, "dipoles", (), M,
                      dipole_positions=positions @ R.T + magnet.position,
                      dipole_moments=moments @ R.T, **extra)
@@ -160,6 +162,23 @@ def _dipole_source(magnet, index, accuracy, with_near_zone: bool) -> Source:
 
         source = replace(source, moment=source.dipole_moments.sum(axis=0))
     return source
+
+
+def _inside_tests(magnet):
+    """(inside, sdf) callables on body points. A mesh's brute-force distance costs about 50 ns
+    per triangle and point, too much for a lattice, so meshes use the ray-parity inside test
+    alone; primitives have cheap analytic distances."""
+    if magnet.shape == "mesh":
+        from physics.voxels import mesh_inside
+
+        vertices, faces = body_mesh(magnet)
+        return (lambda p: mesh_inside(p, vertices, faces)), None
+    from physics.geometry import shape_sdf
+
+    def sdf(body_points):
+        return shape_sdf(magnet.shape, magnet.dims, body_points)
+
+    return (lambda p: sdf(p) < 0.0), sdf
 
 
 def part_sources(magnet, index, accuracy=1e-3) -> list[Source]:
