@@ -29,7 +29,8 @@ class Section:
 
     @property
     def name(self) -> str:
-        return f"{AXIS_NAMES[self.axis]} = {self.level:.4g}"
+        level = 0.0 if abs(self.level) < 1e-9 else self.level
+        return f"{AXIS_NAMES[self.axis]} = {level:.4g}"
 
 
 @dataclass

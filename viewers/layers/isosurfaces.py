@@ -82,7 +82,7 @@ def surfaces(ctx, levels_T) -> list:
 
 def label(level_T) -> str:
     u = float(energy_density(level_T))
-    return f"u = {u:.3g} J/m³ (|B| = {level_T * 1e3:.3g} mT)"
+    return f"u = {u:.3g} J/m³ (B = {level_T * 1e3:.3g} mT)"
 
 
 def meshes(ctx) -> dict:

@@ -94,10 +94,12 @@ def world_meshes(ctx) -> list:
 
 # -- letters and arrows -------------------------------------------------------------------------
 
-def _face_frame(normal):
-    """(right, up) in a face plane so that letters stand upright: up is world z projected on the
-    face, or world y on faces that look up or down."""
-    reference = np.array([0.0, 0.0, 1.0]) if abs(normal[2]) < 0.9 else np.array([0.0, 1.0, 0.0])
+def _face_frame(normal, view_up=None):
+    """(right, up) in a face plane so that letters stand upright: up is the camera's up (else
+    world z) projected on the face, or world y where that projection vanishes."""
+    reference = np.array([0.0, 0.0, 1.0]) if view_up is None else np.asarray(view_up, float)
+    if np.linalg.norm(reference - normal * (reference @ normal)) < 0.3:
+        reference = np.array([0.0, 1.0, 0.0]) if abs(normal[1]) < 0.9 else np.array([0.0, 0.0, 1.0])
     up = reference - normal * (reference @ normal)
     up /= np.linalg.norm(up)
     return np.cross(up, normal), up
@@ -126,12 +128,12 @@ def pole_faces(mesh, polarity: int):
     return centroid, normal, size
 
 
-def letter(text: str, centre, normal, height):
+def letter(text: str, centre, normal, height, view_up=None):
     """A flat letter lying on a face, reading upright."""
     import pyvista as pv
 
     glyph = pv.Text3D(text, depth=height * 0.04, height=height, center=(0, 0, 0), normal=(0, 0, 1))
-    right, up = _face_frame(np.asarray(normal, float))
+    right, up = _face_frame(np.asarray(normal, float), view_up)
     frame = np.column_stack([right, up, normal])
     glyph.points = np.asarray(glyph.points) @ frame.T + np.asarray(centre) + normal * height * 0.05
     return glyph
@@ -148,7 +150,7 @@ def part_letters(ctx, mesh, magnet):
             continue
         centre, normal, size = face
         height = min(0.5 * size, 0.6 * smallest)
-        letters.append((letter(text, centre, normal, height), colour))
+        letters.append((letter(text, centre, normal, height, getattr(ctx, "view_up", None)), colour))
     return letters
 
 

@@ -9,6 +9,7 @@ from viewers.layers import style
 from viewers.layers.traps_data import describe_force, describe_position
 
 FULL_LABELS = 4  # with more equilibria than this, markers carry their number and class only
+MAX_LABELS = 6  # of many equilibria, this many (the stable ones first) carry a label
 CLASS_LEGEND = {
     "stable": "stable equilibrium (sphere)",
     "saddle": "saddle (diamond)",
@@ -18,8 +19,9 @@ CLASS_LEGEND = {
 
 
 def marker_radius(ctx) -> float:
+    """The probe's own radius, kept between 0.8 % and 1.8 % of the box diagonal to be seen."""
     probe = float(ctx.to_units(ctx.scene.probe.diameter)) / 2.0
-    return max(probe, 0.014 * ctx.size)
+    return float(np.clip(probe, 0.008 * ctx.size, 0.018 * ctx.size))
 
 
 def marker_mesh(kind: str, centre, radius, view_direction):
@@ -29,7 +31,9 @@ def marker_mesh(kind: str, centre, radius, view_direction):
     if shape == "sphere":
         return pv.Sphere(radius=radius, center=centre, theta_resolution=32, phi_resolution=24)
     if shape == "diamond":
-        return pv.Octahedron(radius=radius * 1.25, center=centre)
+        diamond = pv.Octahedron(radius=radius * 1.25, center=centre)
+        diamond.clear_data()
+        return diamond
     if shape == "ring":
         torus = pv.ParametricTorus(ringradius=radius, crosssectionradius=radius * 0.3)
         return _face(torus, view_direction, centre)
@@ -48,13 +52,13 @@ def _face(mesh, direction, centre):
     return mesh
 
 
-def label_text(equilibrium, unit: str, full: bool) -> str:
+def label_text(equilibrium, unit: str, full: bool, scale: float | None = None) -> str:
     head = f"{equilibrium.number} {equilibrium.kind}"
     if equilibrium.contact:
         head += f", on {equilibrium.contact}"
     if not full:
         return head
-    lines = [head, describe_position(equilibrium.position, unit)]
+    lines = [head, describe_position(equilibrium.position, unit, scale)]
     if equilibrium.closed_in:
         lines.append("closed in: no way out of the box")
     elif equilibrium.escape_force_N is not None:
@@ -72,6 +76,35 @@ def meshes(ctx) -> dict:
     return {f"equilibrium {e.number} {e.kind}": m for e, m in marker_meshes(ctx, view)}
 
 
+def ranked(equilibria) -> list:
+    """Stable ones first (firmest first), then marginal, saddle, unstable, in report order."""
+    order = {kind: i for i, kind in enumerate(("stable", "marginal", "saddle", "unstable"))}
+    return sorted(equilibria, key=lambda e: (order.get(e.kind, 9), -(e.escape_force_N or 0.0),
+                                             e.number))
+
+
+def labelled(equilibria) -> list:
+    """Which markers carry a label: all of a few; of many, the stable and marginal ones."""
+    if len(equilibria) <= MAX_LABELS:
+        return list(equilibria)
+    return [e for e in ranked(equilibria) if e.kind in ("stable", "marginal")][:MAX_LABELS]
+
+
+def table_rows(ctx) -> list:
+    """One line per equilibrium for the picture's table (the firmest first)."""
+    rows = []
+    for e in ranked(ctx.equilibria):
+        text = f"{e.number} {e.kind} {describe_position(e.position, ctx.unit, ctx.size)}"
+        if e.closed_in:
+            text += ", closed in"
+        elif e.escape_force_N is not None and e.kind in ("stable", "marginal"):
+            text += f", holds {describe_force(e.escape_force_N)}"
+        if e.contact:
+            text += f", on {e.contact}"
+        rows.append(text)
+    return rows
+
+
 def draw(plotter, ctx, legend, overlay=None) -> None:
     """overlay: a renderer drawn over the scene, so markers behind magnets stay visible."""
     import pyvista as pv
@@ -86,21 +119,27 @@ def draw(plotter, ctx, legend, overlay=None) -> None:
     for equilibrium, mesh in marker_meshes(ctx, view):
         colour = style.MARKER.get(equilibrium.kind, style.MARKER["marginal"])
         if overlay is not None:
-            actor = pv.Actor(mapper=pv.DataSetMapper(mesh))
+            mapper = pv.DataSetMapper(mesh)
+            mapper.scalar_visibility = False
+            actor = pv.Actor(mapper=mapper)
             actor.prop.color = colour
             actor.prop.ambient = 0.3
+            actor.prop.interpolation = "gouraud"
             overlay.add_actor(actor, reset_camera=False)
         else:
-            plotter.add_mesh(mesh, color=colour, smooth_shading=True, ambient=0.3)
+            plotter.add_mesh(mesh, color=colour, smooth_shading=True, ambient=0.3, scalars=None)
         if equilibrium.kind not in seen:
             seen.append(equilibrium.kind)
     full = len(equilibria) <= FULL_LABELS
-    offset = np.asarray(ctx.label_offset if hasattr(ctx, "label_offset") else (0, 0, 0), float)
-    points = np.array([e.position for e in equilibria]) + offset * marker_radius(ctx) * 1.6
-    plotter.add_point_labels(points, [label_text(e, ctx.unit, full) for e in equilibria],
-                             font_size=int(1.7 * ctx.font_size), text_color=style.TEXT, shape_color="#ffffff",
-                             shape_opacity=0.8, show_points=False, always_visible=True,
-                             margin=4, justification_horizontal="left", bold=False)
+    chosen = labelled(equilibria)
+    offset = np.asarray(getattr(ctx, "label_offset", (0.0, 0.0, 0.0)), float)
+    points = np.array([e.position for e in chosen]) + offset * marker_radius(ctx) * 1.6
+    plotter.add_point_labels(points, [label_text(e, ctx.unit, full, ctx.size) for e in chosen],
+                             font_size=int(1.7 * ctx.font_size), text_color=style.TEXT,
+                             shape_color="#ffffff", shape_opacity=0.8, show_points=False,
+                             always_visible=True, margin=4, justification_horizontal="left",
+                             bold=False)
+    ctx.equilibria_table = [] if full else table_rows(ctx)
     for kind in style.MARKER:
         if kind in seen:
             legend.add(CLASS_LEGEND[kind], style.MARKER[kind], style.MARKER_SHAPE[kind])

@@ -11,6 +11,7 @@ from viewers.layers import style
 from viewers.layers.context import Section
 
 PREFERENCE = (1, 0, 2)  # y, then x, then z: the front view first
+SEPARATION = 11  # cells between neighbouring 2D field lines (of about 220 on the long side)
 
 
 def choose_section(ctx, view_direction, axis=None, level=None) -> Section:
@@ -21,7 +22,10 @@ def choose_section(ctx, view_direction, axis=None, level=None) -> Section:
         through = _through_point(ctx)
         level = float(through[axis])
     lower, upper = ctx.box_bounds
-    return Section(axis=int(axis), level=float(np.clip(level, lower[axis], upper[axis])))
+    level = float(np.clip(level, lower[axis], upper[axis]))
+    if abs(level) < 1e-6 * ctx.size:  # a solver's 1e-10 off a symmetry plane reads as 0
+        level = 0.0
+    return Section(axis=int(axis), level=level)
 
 
 def _auto_axis(constraint, view) -> int:
@@ -99,12 +103,8 @@ def field_lines(ctx):
     flat.point_data["direction"] = np.column_stack([unit, np.zeros(flat.n_points)])
     flat.point_data["free"] = np.asarray(grid["free"])
     flat.set_active_vectors("direction")
-    centre = ((dims[0] - 1) * flat.spacing[0] / 2.0, (dims[1] - 1) * flat.spacing[1] / 2.0, 0.0)
-    try:
-        lines = flat.streamlines_evenly_spaced_2D(
-            vectors="direction", start_position=centre, separating_distance=7,
-            separating_distance_ratio=0.4, step_length=0.5, max_steps=4000, compute_vorticity=False)
-    except (ValueError, RuntimeError):
+    lines = _longest_trace(flat, dims, step=float(max(flat.spacing[0], flat.spacing[1])))
+    if lines is None:
         return None
     if lines.n_points == 0:
         return None
@@ -120,6 +120,27 @@ def field_lines(ctx):
     world[:, axis] = ctx.section.level
     kept.points = world
     return kept
+
+
+def _longest_trace(flat, dims, step):
+    """Evenly spaced lines grow from one start line: where that start sits on a field zero the
+    picture gets one short line. Try a few starts and keep the fullest picture."""
+    best = None
+    for fu, fv in ((0.5, 0.5), (0.25, 0.5), (0.75, 0.5), (0.5, 0.25), (0.5, 0.75), (0.3, 0.3),
+                   (0.7, 0.7)):
+        start = ((dims[0] - 1) * flat.spacing[0] * fu, (dims[1] - 1) * flat.spacing[1] * fv, 0.0)
+        try:
+            lines = flat.streamlines_evenly_spaced_2D(
+                vectors="direction", start_position=start, separating_distance=SEPARATION,
+                separating_distance_ratio=0.4, step_length=0.5, max_steps=4000,
+                compute_vorticity=False)
+        except (ValueError, RuntimeError):
+            continue
+        if best is None or lines.n_points > best.n_points:
+            best = lines
+        if best.n_points > 40 * max(dims) / SEPARATION:  # full enough: stop looking
+            break
+    return best if best is not None and best.n_points else None
 
 
 def meshes(ctx) -> dict:

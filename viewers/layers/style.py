@@ -31,9 +31,10 @@ MARKER_SHAPE = {"stable": "sphere", "saddle": "diamond", "unstable": "ring", "ma
 
 WELL = "#e69f00"  # orange (Okabe-Ito), translucent
 WELL_OPACITY = 0.35
+WELL_EDGE = "#8a4b00"  # dark orange outline of flat wells
 GUIDE = "#56b4e9"  # sky blue (Okabe-Ito)
 HOVER = "#f0e442"  # yellow (Okabe-Ito)
-FORCE_MAP = "viridis"
+FORCE = "#7b3294"  # purple: force arrows, apart from the black magnetisation arrows
 
 BACKGROUND = "#ffffff"
 TEXT = "#1c1c1c"

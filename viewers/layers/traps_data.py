@@ -91,5 +91,9 @@ def describe_force(newtons) -> str:
     return f"{newtons:.2g} N"
 
 
-def describe_position(position, unit: str) -> str:
-    return "(" + ", ".join(f"{v:.1f}" if abs(v) >= 0.05 else "0" for v in position) + f") {unit}"
+def describe_position(position, unit: str, scale: float | None = None) -> str:
+    """'(21.0, 0, -0.2) mm': decimals enough for a thousandth of `scale` (the scene's size)."""
+    decimals = 1 if not scale else int(np.clip(np.ceil(2.0 - np.log10(scale)), 0, 4))
+    tiny = 0.5 * 10.0**-decimals
+    text = ", ".join(f"{v:.{decimals}f}" if abs(v) >= tiny else "0" for v in position)
+    return f"({text}) {unit}"

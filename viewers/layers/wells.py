@@ -82,4 +82,8 @@ def draw(plotter, ctx, legend) -> None:
         return
     for _, mesh in wells:
         plotter.add_mesh(mesh, color=style.WELL, opacity=style.WELL_OPACITY, smooth_shading=True)
+        rim = mesh.extract_feature_edges(feature_angle=50, boundary_edges=False,
+                                         non_manifold_edges=False, manifold_edges=False)
+        if rim.n_points:  # a flat well's outline, in a darker orange to stand out on the map
+            plotter.add_mesh(rim, color=style.WELL_EDGE, line_width=max(2.0, ctx.font_size / 4))
     legend.add("well: where the probe is caught", style.WELL, "rectangle")
