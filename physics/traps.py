@@ -21,6 +21,7 @@ from scipy.spatial import cKDTree
 
 from physics import escape
 from physics.constants import MU0
+from physics.parts import body_bounds, part_sdf
 from physics.probe import PointProbe, ProbeLaw, allowed_basis
 
 MARGINAL_RATIO = 1e-6  # |eigenvalue| below this share of the largest: marginal (DESIGN.md)
@@ -105,10 +106,11 @@ class ScanGrid:
     points: np.ndarray  # (N, 3) m
     inside_box: np.ndarray  # (N,) bool
     admissible: np.ndarray  # (N,) bool: inside the box and clearance >= d/2
-    energy_J: np.ndarray  # (N,) point-model energy (0 outside the box)
-    force_N: np.ndarray  # (N, 3) point-model force (0 outside the box)
+    energy_J: np.ndarray  # (N,) point-model energy (0 where inadmissible)
+    force_N: np.ndarray  # (N, 3) point-model force (0 where inadmissible)
     B_T: np.ndarray  # (N, 3)
     line_start_m: float = 0.0  # line: coordinate of the first sample from constraint.point
+    force_is_exact: bool = True  # False: force_N from differences of energy_J on the grid
 
     @property
     def line_coordinates_m(self) -> np.ndarray | None:
@@ -205,6 +207,15 @@ def _line_in_box(point, direction, low, high):
     return t_low, t_high
 
 
+def _world_box(magnet):
+    """World-frame bounding box (low, high) of a placed part, m."""
+    low, high = body_bounds(magnet)
+    corners = np.array([[x, y, z] for x in (low[0], high[0]) for y in (low[1], high[1])
+                        for z in (low[2], high[2])])
+    world = corners @ np.asarray(magnet.rotation, float).T + np.asarray(magnet.position, float)
+    return world.min(axis=0), world.max(axis=0)
+
+
 class _Geometry:
     """Admissibility and surfaces: the probe's centre keeps d/2 from magnets and plates."""
 
@@ -215,15 +226,26 @@ class _Geometry:
         self.high = np.asarray(scene.search_box.max, float)
         self.spacing = float(scene.search_box.spacing)
         self.names = [m.name for m in scene.magnets] + [p.name for p in scene.plates]
+        self.part_boxes = [_world_box(m) for m in scene.magnets]
 
     def clearance(self, points) -> np.ndarray:
         return self.field_model.clearance(np.asarray(points, float).reshape(-1, 3))
 
     def admissible(self, points, tolerance=1e-9) -> np.ndarray:
+        """Inside the box, in front of every plate and at least d/2 from every part. A part's
+        signed distance is only computed near its bounding box (exact distances are costly
+        for meshes)."""
         points = np.asarray(points, float).reshape(-1, 3)
-        inside = _in_box(points, self.low, self.high, tolerance * self.spacing)
-        ok = self.clearance(points) >= self.radius * (1.0 - tolerance)
-        return inside & ok & self.field_model.in_model(points)
+        limit = self.radius * (1.0 - tolerance)
+        ok = _in_box(points, self.low, self.high, tolerance * self.spacing)
+        plates = self.field_model.plate_distances(points)
+        if plates.shape[1]:
+            ok &= plates.min(axis=1) >= limit
+        for magnet, (low, high) in zip(self.field_model.magnets, self.part_boxes):
+            near = ok & np.all((points >= low - self.radius) & (points <= high + self.radius), axis=1)
+            if near.any():
+                ok[near] = part_sdf(magnet, points[near]) >= limit
+        return ok
 
     def surface_name(self, points) -> list:
         points = np.asarray(points, float).reshape(-1, 3)
@@ -277,22 +299,57 @@ class _Geometry:
 # -- scan ---------------------------------------------------------------------------------------
 
 def _scan(field_model, scene, law, geometry, progress):
+    """The energy on the grid. Line and plane grids also get the exact force; the 3D grid gets
+    the force from central differences of U along the grid axes (one-sided next to a magnet),
+    which is enough to find candidates and saves the gradient's cost at every node."""
     kind, origin, axes, shape, points, inside, start = scan_grid_geometry(scene)
     n = len(points)
     U, F, B = np.zeros(n), np.zeros((n, 3)), np.zeros((n, 3))
-    chosen = np.flatnonzero(inside)
+    admissible = np.zeros(n, bool)
+    admissible[inside] = geometry.admissible(points[inside])
+    chosen = np.flatnonzero(admissible)
+    exact_force = kind != "free"
     if len(chosen):
         report = None if progress is None else (lambda done, total: progress(done, total, "scan"))
-        H, G = field_model.applied_H(points[chosen], gradient=True, progress=report)
+        if exact_force:
+            H, G = field_model.applied_H(points[chosen], gradient=True, progress=report)
+            F[chosen] = law.magnetic_force(MU0 * H, MU0 * G) + law.gravity_force()
+        else:
+            H = field_model.applied_H(points[chosen], progress=report)
         B[chosen] = MU0 * H
         U[chosen] = law.magnetic_energy(MU0 * H) + law.gravity_energy(points[chosen])
-        F[chosen] = law.magnetic_force(MU0 * H, MU0 * G) + law.gravity_force()
-    admissible = np.zeros(n, bool)
-    admissible[chosen] = geometry.admissible(points[chosen])
-    grid = ScanGrid(kind=kind, origin=origin, axes=axes, spacing=geometry.spacing, shape=shape,
+    if not exact_force:
+        F = _grid_force(U, admissible, shape, axes, geometry.spacing)
+    return ScanGrid(kind=kind, origin=origin, axes=axes, spacing=geometry.spacing, shape=shape,
                     points=points, inside_box=inside, admissible=admissible, energy_J=U,
-                    force_N=F, B_T=B, line_start_m=start)
-    return grid
+                    force_N=F, B_T=B, line_start_m=start, force_is_exact=exact_force)
+
+
+def _grid_force(U, admissible, shape, axes, spacing) -> np.ndarray:
+    """-grad U (N, 3) from differences along the grid axes: central where both neighbours are
+    admissible, one-sided where one is, zero where none is."""
+    energy = U.reshape(shape)
+    ok = admissible.reshape(shape)
+    F = np.zeros(shape + (len(shape),))
+    for axis in range(len(shape)):
+        forward = np.zeros(shape, bool)
+        backward = np.zeros(shape, bool)
+        ahead = [slice(None)] * len(shape)
+        behind = [slice(None)] * len(shape)
+        ahead[axis], behind[axis] = slice(1, None), slice(None, -1)
+        ahead, behind = tuple(ahead), tuple(behind)
+        step = np.zeros(shape)
+        step[behind] = energy[ahead] - energy[behind]  # U(i+1) - U(i) stored at i
+        pair = ok[ahead] & ok[behind]
+        forward[behind] = pair
+        backward[ahead] = pair
+        back_step = np.zeros(shape)
+        back_step[ahead] = step[behind]  # U(i) - U(i-1) stored at i
+        both = forward & backward
+        total = np.where(both, 0.5 * (step + back_step),
+                         np.where(forward, step, np.where(backward, back_step, 0.0)))
+        F[..., axis] = -total / spacing
+    return (F.reshape(-1, len(shape)) @ axes) * admissible[:, None]
 
 
 def _flood_state(grid) -> np.ndarray:
@@ -480,7 +537,7 @@ def _surface_descent(model, geometry, starts, basis, iterations=DESCENT_ITERATIO
         x[accepted], U[accepted], F[accepted] = trial[better], U_t[better], F_t[better]
         step[accepted] *= 2.0
         step[idx[~better]] *= 0.25
-        active[idx[(step[idx] < 1e-9 * h) | (size == 0.0)]] = False
+        active[idx[(step[idx] < 1e-7 * h) | (size == 0.0)]] = False
     return x
 
 
@@ -795,37 +852,83 @@ def _finite_correction(point_model, finite, equilibria, grid):
 
 
 def _resolve_finite(finite, geometry, equilibria, basis, scene):
-    """Each equilibrium re-solved with the finite-size model from its point-model position."""
-    result = []
-    for eq in equilibria:
-        if eq.stiffness_N_per_m and eq.stiffness_N_per_m[0] is None:
-            result.append(eq)  # a field zero: no smooth energy to refine
+    """Each equilibrium re-solved with the finite-size model from its point-model position (in
+    batches: the finite model costs a few hundred field points per position). A contact the
+    finite size lifts off its surface (pressed no longer) is followed by Newton's method off
+    the surface to a free equilibrium, if there is one nearby."""
+    free = [e for e in equilibria if e.contact is None and not _is_field_zero(e)]
+    contacts = [e for e in equilibria if e.contact is not None]
+    result = [e for e in equilibria if _is_field_zero(e)]
+    result += _resolve_free(finite, geometry, free, [e.position for e in free], basis, scene)
+    resolved, lifted, starts = _resolve_contacts(finite, geometry, contacts, basis, scene)
+    result += resolved
+    notes = [f"lifted off {e.contact.surface} by the probe's finite size (the point model had it "
+             "resting there)" for e in lifted]
+    result += [r for r in _resolve_free(finite, geometry, lifted, starts, basis, scene, notes)
+               if r.contact is None and "did not converge" not in r.note]
+    return _drop_repeats(result, 1e-2 * geometry.spacing)
+
+
+def _shifted(new, old):
+    return replace(new, family_size=old.family_size,
+                   finite_probe_correction=old.finite_probe_correction,
+                   finite_probe_shift_m=float(np.linalg.norm(new.position - old.position)))
+
+
+def _resolve_free(finite, geometry, equilibria, starts, basis, scene, notes=None):
+    if not equilibria:
+        return []
+    x, ok = _newton(finite, geometry, np.asarray(starts, float).reshape(-1, 3), basis)
+    U, F = finite.energy_and_force(x[ok])
+    K = finite.hessian(x[ok], basis)
+    B = finite.applied_field(x[ok])[0]
+    result, j = [], 0
+    for i, eq in enumerate(equilibria):
+        if not ok[i]:
+            result.append(replace(eq, note=(eq.note + "; " if eq.note else "") +
+                                  "the finite-size refinement did not converge: point model"))
             continue
-        if eq.contact is None:
-            x, ok = _newton(finite, geometry, eq.position[None], basis)
-            if not ok[0]:
-                result.append(replace(eq, note=(eq.note + " " if eq.note else "") +
-                                      "finite-size refinement did not converge; point model"))
-                continue
-            U, F = finite.energy_and_force(x)
-            K = finite.hessian(x, basis)
-            B = finite.applied_field(x)[0]
-            new = _make_equilibrium(x[0], U[0], K[0], basis, finite.law.mass, B[0], F[0], scene,
-                                    note=eq.note)
-        else:
-            x = eq.position[None]
-            if basis.shape[0] > 1:  # on a line the contact point is fixed by the geometry
-                x = _surface_descent(finite, geometry, x, basis)
-            normals, pressed, tangents, K_t, F = _contact_state(finite, geometry, x, basis)
-            U = finite.energy(x)
-            B = finite.applied_field(x)[0]
-            contact = Contact(surface=geometry.surface_name(x)[0],
-                              normal_force_N=float(pressed[0]), normal=normals[0])
-            new = _make_equilibrium(x[0], U[0], K_t[0], tangents[0], finite.law.mass, B[0], F[0],
-                                    scene, contact=contact, note=eq.note)
-        result.append(replace(new, family_size=eq.family_size,
-                              finite_probe_shift_m=float(np.linalg.norm(new.position - eq.position))))
+        note = notes[i] if notes is not None else eq.note
+        new = _make_equilibrium(x[i], U[j], K[j], basis, finite.law.mass, B[j], F[j], scene,
+                                note=note)
+        result.append(_shifted(new, eq))
+        j += 1
     return result
+
+
+def _resolve_contacts(finite, geometry, equilibria, basis, scene):
+    """(re-solved contacts, the contacts lifted off, where to start looking for them free)."""
+    if not equilibria:
+        return [], [], []
+    x = np.array([e.position for e in equilibria])
+    if basis.shape[0] > 1:  # on a line the contact point is fixed by the geometry
+        x = _surface_descent(finite, geometry, x, basis)
+    normals, pressed, tangents, K_t, F = _contact_state(finite, geometry, x, basis)
+    U = finite.energy(x)
+    B = finite.applied_field(x)[0]
+    names = geometry.surface_name(x)
+    resolved, lifted, starts = [], [], []
+    for i, eq in enumerate(equilibria):
+        if pressed[i] <= 0.0:
+            off = normals[i] @ basis.T @ basis
+            off /= max(np.linalg.norm(off), 1e-300)
+            lifted.append(eq)
+            starts.append(x[i] + 0.5 * geometry.spacing * off)
+            continue
+        contact = Contact(surface=names[i], normal_force_N=float(pressed[i]), normal=normals[i])
+        new = _make_equilibrium(x[i], U[i], K_t[i], tangents[i], finite.law.mass, B[i], F[i],
+                                scene, contact=contact, note=eq.note)
+        if new.classification in ("stable", "marginal"):
+            resolved.append(_shifted(new, eq))
+    return resolved, lifted, starts
+
+
+def _drop_repeats(equilibria, distance):
+    kept = []
+    for eq in equilibria:
+        if all(np.linalg.norm(eq.position - other.position) > distance for other in kept):
+            kept.append(eq)
+    return kept
 
 
 # -- the finder -----------------------------------------------------------------------------------
@@ -852,10 +955,10 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
     use_finite = (largest > FINITE_PROBE_THRESHOLD) if finite_probe is None else bool(finite_probe)
     use_finite = use_finite and finite is not None and bool(equilibria)
     final_model = finite if use_finite else model
-    if use_finite:
-        equilibria = _resolve_finite(finite, geometry, equilibria, basis, scene)
     equilibria = [replace(e, finite_probe_correction=float(c))
                   for e, c in zip(equilibria, corrections)]
+    if use_finite:
+        equilibria = _resolve_finite(finite, geometry, equilibria, basis, scene)
     equilibria = _with_escapes(equilibria, grid, basis, scene, final_model.energy, model.energy)
     equilibria = _sorted(equilibria, scene)
     return TrapReport(
