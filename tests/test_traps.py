@@ -230,3 +230,64 @@ def test_no_fully_stable_free_equilibrium_for_soft_or_magnet_probes(count, data,
                        gravity=(0, 0, -9.81) if gravity else (0, 0, 0))
     report = traps(scene, finite_probe=False)
     assert not [e for e in report.equilibria if e.classification == "stable" and e.contact is None]
+
+
+RING_TOML = """
+units = "mm"
+gravity = [0, 0, 0]
+[[magnet]]
+name = "ball"
+shape = "sphere"
+diameter = 5
+position = [20, 0, 0]
+north = "+z"
+remanence = 1.3
+pattern = { kind = "circular", count = 6, axis = [0, 0, 1], center = [0, 0, 0] }
+[probe]
+kind = "soft"
+diameter = 1
+[probe.constraint]
+kind = "line"
+point = [0, 0, 0]
+direction = [0, 0, 1]
+[search_box]
+min = [-10, -10, -50]
+max = [10, 10, 50]
+spacing = 1
+"""
+
+
+def test_traps_command_writes_the_json_of_the_design(tmp_path, capsys):
+    import json
+
+    from viewers.cli import main
+
+    scene_file = tmp_path / "ring.toml"
+    scene_file.write_text(RING_TOML)
+    out = tmp_path / "traps.json"
+    assert main(["traps", str(scene_file), "--json", str(out), "--quiet"]) == 0
+    table = capsys.readouterr().out
+    assert "stable" in table and "unstable" in table and "mm" in table
+    text = out.read_text()
+    assert "NaN" not in text and "Infinity" not in text
+    data = json.loads(text)
+    assert data["length_unit"] == "mm" and data["constraint"] == "line"
+    assert "scene_sha256" in data and "trapscape_version" in data
+    z = [e["position"][2] for e in data["equilibria"]]
+    assert z == pytest.approx([-20 * np.sqrt(1.5), -20 / np.sqrt(2), 0, 20 / np.sqrt(2),
+                               20 * np.sqrt(1.5)], abs=1e-5)  # in mm: derived above
+    keys = {"position", "class", "stable_directions", "free_directions", "stiffness_N_per_m",
+            "directions", "frequency_Hz", "B_T", "escape_energy_J", "escape_force_N", "contact"}
+    assert all(keys <= set(e) for e in data["equilibria"])
+    unstable = data["equilibria"][1]
+    assert unstable["class"] == "unstable" and unstable["frequency_Hz"] == [None]
+    assert unstable["escape_energy_J"] is None and unstable["contact"] is None
+
+
+def test_traps_command_rejects_a_line_outside_the_box(tmp_path, capsys):
+    from viewers.cli import main
+
+    scene_file = tmp_path / "ring.toml"
+    scene_file.write_text(RING_TOML.replace("point = [0, 0, 0]", "point = [0, 30, 0]"))
+    assert main(["traps", str(scene_file), "--quiet"]) == 2
+    assert "search box" in capsys.readouterr().err

@@ -106,14 +106,22 @@ def _numbers(values, digits=3):
     return " ".join(_number(v, digits) for v in values) if len(values) else "-"
 
 
+def _tidy(values, size):
+    """Rounding noise (below 1e-9 of the box) shown as 0 in the table; the JSON keeps it."""
+    values = np.asarray(values, float)
+    return np.where(np.abs(values) < 1e-9 * size, 0.0, values)
+
+
 def format_table(report, scene) -> str:
     unit = scene.units
     header = (f"{'#':>2}  {'position (' + unit + ')':<26} {'class':<9} {'stiffness N/m':<24} "
               f"{'freq Hz':<18} {'escape J':>9} {'escape N':>9} {'|B| mT':>8}  contact")
     lines = [f"{len(report.equilibria)} equilibria of the {report.probe_kind} probe "
              f"({report.constraint_kind} constraint)", header]
+    box = scene.search_box
+    size = float(np.max(np.asarray(box.max) - np.asarray(box.min))) / scene.unit_scale
     for i, eq in enumerate(report.equilibria, 1):
-        position = ", ".join(f"{v:.4g}" for v in _length(scene, eq.position))
+        position = ", ".join(f"{v:.4g}" for v in _tidy(_length(scene, eq.position), size))
         escape = eq.escape
         contact = "-" if eq.contact is None else (
             f"{eq.contact.surface} ({_number(eq.contact.normal_force_N)} N)")
