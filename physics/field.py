@@ -8,7 +8,7 @@ from __future__ import annotations
 import numpy as np
 
 from physics.constants import MU0
-from physics.parts import part_sources, part_magnetization, part_sdf
+from physics.parts import part_contains, part_magnetization, part_sdf, part_sources
 from physics.sources import Source, mirrored
 
 CHUNK = 250_000  # points per batch: bounds memory and lets long work report progress
@@ -135,12 +135,13 @@ class FieldModel:
         return np.stack([part_sdf(m, points) for m in self.magnets], axis=1)
 
     def inside_magnet(self, points) -> np.ndarray:
-        """Index of the magnet containing each point, -1 where none does."""
-        distances = self.part_distances(points)
-        if distances.shape[1] == 0:
-            return np.full(len(distances), -1)
-        inside = distances < 0.0
-        return np.where(inside.any(axis=1), np.argmin(distances, axis=1), -1)
+        """Index of the magnet containing each point, -1 where none does (the first one where
+        parts overlap)."""
+        points = np.asarray(points, dtype=float).reshape(-1, 3)
+        owner = np.full(len(points), -1)
+        for index in reversed(range(len(self.magnets))):
+            owner[part_contains(self.magnets[index], points)] = index
+        return owner
 
     def plate_distances(self, points) -> np.ndarray:
         """(N, n_plates) signed distance to each plate's face (negative behind it), m."""

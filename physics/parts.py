@@ -9,7 +9,7 @@ from physics.sources import Source, magnetization_vector
 # its error is above 5e-4 of the local field (physics/dipoles.py ERROR_AT_CELLS). The exact zone
 # is found as "within NEAR_ZONE_CELLS + half a cell diagonal of a dipole".
 NEAR_ZONE_CELLS = 6.0
-HYBRID_CELLS_PER_DIMENSION = 12  # cell of a mesh's dipole set: its smallest dimension / 12
+HYBRID_CELLS_PER_DIMENSION = 6  # cell of a mesh's dipole set: its smallest dimension / 6
 EXACT_TRIANGLE_LIMIT = 60  # below this, exact everywhere beats any dipole set (40 ns/tri/point)
 RADIAL_CELLS_PER_WALL = 8  # radial parts have no closed form here: a dipole set of wall/8 cells
 
@@ -78,6 +78,17 @@ def part_sdf(magnet, points) -> np.ndarray:
     body = (np.asarray(points, float) - magnet.position) @ magnet.rotation
     mesh = body_mesh(magnet) if magnet.shape == "mesh" else None
     return shape_sdf(magnet.shape, magnet.dims, body, mesh=mesh)
+
+
+def part_contains(magnet, points) -> np.ndarray:
+    """(N,) bool: which world points lie inside the part (bounding box first, then its test)."""
+    body = (np.asarray(points, float) - magnet.position) @ magnet.rotation
+    lower, upper = body_bounds(magnet)
+    candidates = np.flatnonzero(np.all((body >= lower) & (body <= upper), axis=1))
+    inside = np.zeros(len(body), dtype=bool)
+    if len(candidates):
+        inside[candidates] = _inside_tests(magnet)[0](body[candidates])
+    return inside
 
 
 def part_magnetization(magnet, points) -> np.ndarray:
