@@ -65,6 +65,8 @@ def prepare(ctx, options: RenderOptions) -> None:
     """Set what the layers read from the context: the view, the section, the text size."""
     direction, up, right = view_vectors(options.camera)
     ctx.view_direction = direction
+    ctx.view_up = up
+    ctx.equilibria_table = []
     ctx.label_offset = (right + up) / np.sqrt(2.0)
     ctx.font_size = max(6, int(round(min(options.size[1] / 95, options.size[0] / 125))))
     ctx.iso_levels_T = options.iso_levels_T
@@ -87,8 +89,10 @@ def colour_scale(ctx, options):
                        line_width=max(1.5, options.size[1] / 600))
 
 
-def build_plotter(ctx, options: RenderOptions, off_screen: bool = True, overlay: bool = True):
-    """A pyvista Plotter holding every chosen layer, the camera set, annotations added."""
+def build_plotter(ctx, options: RenderOptions, off_screen: bool = True, overlay: bool = True,
+                  annotations: str = "picture"):
+    """A pyvista Plotter holding every chosen layer, the camera set, annotations added
+    ("picture": legend, colour bar, scale bar, title; "html": what a web view can carry)."""
     if off_screen:
         prefer_egl()
     import pyvista as pv
@@ -116,9 +120,15 @@ def build_plotter(ctx, options: RenderOptions, off_screen: bool = True, overlay:
             module.draw(plotter, ctx, legend, overlay=marker_layer)
         else:
             module.draw(plotter, ctx, legend)
+    plotter._trapscape_legend = legend
     layout = plan_layout(plotter, ctx, options, legend)
+    if annotations == "html":  # a page of any size: centre the content, the text is HTML
+        layout.legend_width, layout.title_band = 0.0, 0.0
     _frame(plotter, ctx, options, layout)
-    _annotate(plotter, ctx, options, legend, scale, layout)
+    if annotations == "html":
+        _annotate_html(plotter, ctx, options, legend, scale)
+    else:
+        _annotate(plotter, ctx, options, legend, scale, layout)
     # no depth peeling: with Mesa's EGL it drops every translucent actor (seen with VTK 9.7)
     return plotter
 
@@ -272,15 +282,40 @@ def _annotate(plotter, ctx, options, legend, scale, layout: Layout) -> None:
         legend.draw(plotter, left=layout.legend_left, top=top, width=layout.legend_width,
                     font_size=layout.legend_font)
         bottom = top - legend.height(layout.legend_font)
+    left = layout.legend_left if legend.entries else 0.80 * width
+    lf = layout.legend_font or font
     if scale.used or "isosurfaces" in options.layers or "fieldlines" in options.layers:
-        bar_top = bottom - 3.5 * font
-        bar_height = min(0.42 * height, bar_top - 0.06 * height)
-        if bar_height > 0.12 * height:
-            left = layout.legend_left if legend.entries else 0.86 * width
+        bar_top = bottom - 3.5 * lf
+        rows = len(ctx.equilibria_table)
+        bar_height = min(0.42 * height, bar_top - 0.06 * height - (rows > 0) * 0.2 * height)
+        if bar_height > 0.1 * height:
             scale.draw_bar(plotter, position=(left / width, (bar_top - bar_height) / height),
-                           size=(0.055, bar_height / height), font_size=layout.legend_font or font)
+                           size=(0.055, bar_height / height), font_size=lf)
+            bottom = bar_top - bar_height - 1.5 * lf
+    if ctx.equilibria_table:
+        _draw_table(plotter, ctx.equilibria_table, left, bottom, lf, 0.03 * height)
     if ctx.notes and options.extra.get("notes_on_picture"):
         plotter.add_text("\n".join(ctx.notes), position="lower_right", font_size=font)
+
+
+def _annotate_html(plotter, ctx, options, legend, scale) -> None:
+    """A web view rotates, so no scale bar; the title, legend and colour scale go into the page
+    as HTML (viewers.export), as vtk.js draws no text and labels a log colour bar wrongly."""
+
+
+def _draw_table(plotter, rows, left, top, font, floor) -> None:
+    """The equilibria, one per line, as many as fit above `floor` (pixels)."""
+    from viewers.layers.style import TEXT
+
+    line = 2.0 * font * 1.25
+    fits = max(int((top - floor) // line) - 1, 0)
+    if fits <= 0:
+        return
+    shown = rows if len(rows) <= fits else rows[:fits - 1] + [
+        f"... {len(rows) - fits + 1} more: trapscape traps SCENE --json"]
+    text = "\n".join(["Equilibria (firmest first)"] + shown)
+    plotter.add_text(text, position=(int(left), int(top - line * (len(shown) + 1))),
+                     font_size=font, color=TEXT)
 
 
 def render_png(ctx, options: RenderOptions, path: str) -> str:

@@ -160,8 +160,19 @@ class ColourScale:
     def clim(self):
         return (self.low_mT, self.high_mT)
 
+    values_as_log10: bool = False  # for viewers that cannot draw a log bar (vtk.js)
+
     def mesh_kwargs(self) -> dict:
+        if self.values_as_log10:
+            return dict(cmap=self.cmap, clim=tuple(np.log10(self.clim)), log_scale=False)
         return dict(cmap=self.cmap, clim=self.clim, log_scale=self.log)
+
+    def scalars(self, mesh, name: str = "B_abs_mT") -> str:
+        """The array to colour by: |B| in mT, or its log10 when values_as_log10."""
+        if not self.values_as_log10:
+            return name
+        mesh.point_data["log10_B_mT"] = np.log10(np.maximum(np.asarray(mesh[name]), 1e-12))
+        return "log10_B_mT"
 
     def colour_of(self, value_mT: float):
         """The colour of a value, as the map draws it (RGB, 0..1)."""
@@ -178,11 +189,15 @@ class ColourScale:
     def draw_bar(self, plotter, position, size, font_size) -> None:
         import pyvista as pv
 
-        table = pv.LookupTable(cmap=self.cmap, scalar_range=self.clim, log_scale=self.log)
+        clim = tuple(np.log10(self.clim)) if self.values_as_log10 else self.clim
+        table = pv.LookupTable(cmap=self.cmap, scalar_range=clim,
+                               log_scale=self.log and not self.values_as_log10)
         mapper = pv.DataSetMapper(pv.PolyData(np.zeros((1, 3))))
         mapper.lookup_table = table
-        mapper.scalar_range = self.clim
+        mapper.scalar_range = clim
         scale = "log" if self.log else "linear"
+        if self.values_as_log10:
+            scale = "shown as log10 of mT"
         plotter.add_scalar_bar(
             title=f"field strength B, mT ({scale})", mapper=mapper, vertical=True, position_x=position[0],
             position_y=position[1], width=size[0], height=size[1], color=style.TEXT,

@@ -158,8 +158,8 @@ def draw(plotter, ctx, legend, colour_scale) -> None:
     if surface is None:
         ctx.note("section: the section plane lies wholly inside magnets or behind a plate.")
         return
-    plotter.add_mesh(surface, scalars="B_abs_mT", **colour_scale.mesh_kwargs(), lighting=False,
-                     show_scalar_bar=False)
+    plotter.add_mesh(surface, scalars=colour_scale.scalars(surface), **colour_scale.mesh_kwargs(),
+                     lighting=False, show_scalar_bar=False)
     lines = field_lines(ctx)
     if lines is not None:
         lift = towards_camera(ctx) * 2e-3 * ctx.size
