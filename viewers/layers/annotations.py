@@ -197,9 +197,9 @@ class ColourScale:
         mapper.scalar_range = clim
         scale = "log" if self.log else "linear"
         if self.values_as_log10:
-            scale = "shown as log10 of mT"
+            scale = "log10"
         plotter.add_scalar_bar(
-            title=f"field strength B, mT ({scale})", mapper=mapper, vertical=True, position_x=position[0],
+            title=f"B in mT, {scale}", mapper=mapper, vertical=True, position_x=position[0],
             position_y=position[1], width=size[0], height=size[1], color=style.TEXT,
             title_font_size=int(2 * font_size), label_font_size=int(1.8 * font_size), n_labels=5, fmt="%.3g",
             bold=False, shadow=False, fill=False)

@@ -1,0 +1,141 @@
+"""`trapscape demo [-o DIR]`: the whole job on a bundled sample (the level gauge): check it,
+find its traps, render the default view and the polarity map, and say in one sentence where the
+probe is caught."""
+from __future__ import annotations
+
+import warnings
+from pathlib import Path
+
+from scene.errors import SceneError
+
+DEMO_SAMPLE = "level_gauge.toml"
+DEFAULT_DIR = "trapscape-demo"
+
+
+def samples_dir() -> Path:
+    """samples/ beside the packages (the repository, installed editable or run in place)."""
+    import viewers
+
+    here = Path(viewers.__file__).resolve().parent
+    for candidate in (here.parent / "samples", here / "samples"):
+        if candidate.is_dir():
+            return candidate
+    raise SceneError("demo: the bundled samples/ folder is not beside the installed package; "
+                     "install trapscape from its repository (pip install -e .) to run the demo.")
+
+
+def add_arguments(parser) -> None:
+    parser.add_argument("-o", "--out", default=DEFAULT_DIR, metavar="DIR",
+                        help=f"where the files go (default ./{DEFAULT_DIR}/)")
+    parser.add_argument("--sample", default=DEMO_SAMPLE, metavar="NAME",
+                        help=f"a file of samples/ to run on (default {DEMO_SAMPLE})")
+    parser.add_argument("--size", default="1600x1200", metavar="WxH", help="picture size")
+    parser.add_argument("--quiet", action="store_true", help="no progress output")
+
+
+def run(args) -> int:
+    from scene.loader import load_scene
+    from viewers.commands.render import parse_size
+
+    sample = samples_dir() / args.sample
+    if not sample.is_file():
+        names = ", ".join(sorted(p.name for p in samples_dir().glob("*.toml")))
+        raise SceneError(f"demo: no sample {args.sample!r}; choose one of {names}.")
+    out = Path(args.out)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as error:
+        raise SceneError(f"demo: cannot make {out}: {error.strerror}; choose another -o DIR.") from None
+    size = parse_size(args.size)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        scene = load_scene(str(sample))
+    print(f"sample: {sample}")
+    written = [("check", write_check(scene, out / "check.json"))]
+    report, ctx = find_report(scene, args)
+    written.append(("traps", write_traps(scene, report, out / "traps.json")))
+    written.append(("render", write_render(ctx, out / "view.png", size)))
+    written.append(("polarity map", write_polarity(ctx, out / "polarity.png", size)))
+    for what, path in written:
+        print(f"{what:>12}: {path}")
+    print(headline_sentence(ctx))
+    return 0
+
+
+def write_check(scene, path: Path) -> Path:
+    from viewers.commands.check import summarise
+    from viewers.commands.common import stamp, write_json
+
+    write_json(str(path), stamp(scene, summarise(scene)))
+    return path
+
+
+def find_report(scene, args):
+    """The trap report, computed once and shared with the view."""
+    from physics.traps import find_traps
+    from viewers.commands.common import show_progress
+    from viewers.layers.context import ViewContext
+
+    ctx = ViewContext(scene)
+    bar = None
+    if show_progress(args):
+        from viewers.commands.traps import _progress_bar
+
+        bar = _progress_bar()
+    try:
+        report = find_traps(ctx.model, scene, progress=bar.update_to if bar else None)
+    finally:
+        if bar:
+            bar.close()
+    ctx.__dict__["trap_report"] = report  # cached_property: the view uses this one
+    return report, ctx
+
+
+def write_traps(scene, report, path: Path) -> Path:
+    from viewers.commands.common import stamp, write_json
+    from viewers.commands.traps import report_json
+
+    write_json(str(path), stamp(scene, report_json(report, scene)))
+    return path
+
+
+def write_render(ctx, path: Path, size) -> Path:
+    from viewers.layers import default_layers
+    from viewers.render import RenderOptions, render_png
+
+    render_png(ctx, RenderOptions(layers=default_layers(ctx.scene), size=size), str(path))
+    return path
+
+
+def write_polarity(ctx, path: Path, size) -> Path:
+    from viewers.polarity import draw_polarity_map
+
+    draw_polarity_map(ctx, str(path), size=size)
+    return path
+
+
+def headline_sentence(ctx) -> str:
+    """The trap a reader asks about first, in one plain sentence."""
+    from viewers.layers.traps_data import describe_force, describe_position
+
+    scene = ctx.scene
+    probe = {"soft": "The steel probe", "magnet": "The magnet probe",
+             "weak": "The probe"}.get(scene.probe.kind, "The probe")
+    headline = ctx.headline
+    if headline is None:
+        return f"{probe} finds no equilibrium in the search box."
+    where = describe_position(headline.position, ctx.unit, ctx.size)
+    path = {"line": " on its guide line", "plane": " on its guide plane"}.get(
+        scene.constraint.kind, "")
+    if headline.kind != "stable":
+        return (f"{probe} has no stable rest point{path}; the closest to one is a "
+                f"{headline.kind} equilibrium at {where}.")
+    on = f", resting on {headline.contact}" if headline.contact else ""
+    if headline.closed_in:
+        hold = "and cannot get out of its well inside the search box"
+    elif headline.escape_force_N is not None:
+        along = {"line": " along the line", "plane": " in the plane"}.get(scene.constraint.kind, "")
+        hold = f"and it takes {describe_force(headline.escape_force_N)}{along} to pull it out"
+    else:
+        hold = "with no escape figure"
+    return f"{probe} is caught{path} at {where}{on}, {hold}."

@@ -1,0 +1,54 @@
+"""`trapscape export SCENE -o OUT.vti|.vtp|.stl|.html`: the sampled field as VTK image data, the
+geometry of the layers as polydata or STL (scene coordinates and unit, for CAD), or one offline
+HTML file with the interactive 3D view."""
+from __future__ import annotations
+
+from scene.errors import SceneError
+from viewers.commands.common import add_scene_arguments, load_scene_from_args
+from viewers.commands.render import (add_view_arguments, print_notes, render_options,
+                                     view_context)
+
+
+def add_arguments(parser) -> None:
+    add_scene_arguments(parser)
+    parser.add_argument("-o", "--out", required=True, metavar="OUT",
+                        help="OUT.vti (field grid), OUT.vtp or OUT.stl (geometry; STL: one file "
+                             "per layer, OUT-<layer>.stl), OUT.html (interactive view)")
+    add_view_arguments(parser)
+    parser.add_argument("--spacing", type=float, metavar="S",
+                        help=".vti: grid step in the scene's unit (default: the search box's)")
+
+
+def run(args) -> int:
+    from viewers.export import GEOMETRY_DEFAULTS, export, format_of
+    from viewers.layers import parse_layers
+
+    kind = format_of(args.out)
+    scene = load_scene_from_args(args)
+    ctx = view_context(scene, args)
+    layers = None
+    if kind in (".vtp", ".stl"):
+        layers = parse_layers(args.layers, scene) if args.layers else GEOMETRY_DEFAULTS
+        if args.layers and all(item.strip()[:1] in "+-" for item in args.layers.split(",")):
+            layers = _relative_to(GEOMETRY_DEFAULTS, args.layers, scene)
+    options = render_options(scene, args, size=(1200, 900))
+    written = export(ctx, args.out, layers=layers, options=options, spacing=args.spacing,
+                     resolution=args.resolution)
+    for path in written:
+        print(f"wrote {path}")
+    print_notes(ctx)
+    return 0
+
+
+def _relative_to(defaults, spec, scene):
+    """'+section,-isosurfaces' applied to the geometry defaults rather than the picture's."""
+    from viewers.layers import LAYERS, _expand
+
+    chosen = set(defaults)
+    for item in (i.strip() for i in spec.split(",") if i.strip()):
+        names = _expand(item[1:].strip().lower(), scene)
+        chosen = chosen | names if item[0] == "+" else chosen - names
+    if not chosen:
+        raise SceneError(f"--layers {spec!r} leaves nothing to export.")
+    return tuple(name for name in LAYERS if name in chosen)
+

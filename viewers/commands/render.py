@@ -1,0 +1,150 @@
+"""`trapscape render SCENE -o OUT.png [--show]`: the 3D view of the scene's layers (or its
+polarity map), off-screen to a PNG of any size or in an interactive window."""
+from __future__ import annotations
+
+import sys
+
+from scene.errors import SceneError
+from viewers.commands.common import add_scene_arguments, load_scene_from_args, show_progress
+
+AXES = {"x": 0, "y": 1, "z": 2}
+DEFAULT_RESOLUTION = 64
+
+
+def add_view_arguments(parser) -> None:
+    """Options shared by render and export (layers, camera, section, colour scale)."""
+    from viewers.layers import LAYERS
+
+    parser.add_argument(
+        "--layers", metavar="SPEC",
+        help="layers to draw: '+fieldlines,+hover,-section' changes the defaults, a plain list "
+             "'magnets,markers' replaces them; 'all' and 'default' work too. Layers: "
+             + ", ".join(LAYERS))
+    parser.add_argument("--camera", default="iso", choices=("iso", "front", "side", "top", "fit"),
+                        help="camera preset (default iso; fit frames the magnets and traps)")
+    parser.add_argument("--section", metavar="AXIS[=VALUE]",
+                        help="the section plane, e.g. y, z=2.5 (scene unit); default: through "
+                             "the headline trap, facing the camera")
+    parser.add_argument("--scale", choices=("log", "linear"), default="log",
+                        help="colour scale of the field map (default log)")
+    parser.add_argument("--iso", metavar="LEVELS",
+                        help="isosurface levels, e.g. 20,50mT or 1000J/m3 (bare numbers: mT); "
+                             "default: three levels across the field in the box")
+    parser.add_argument("--resolution", type=int, default=None, metavar="N",
+                        help="field grid points on the longest side of the box (default 64 for "
+                             "pictures; a .vti export defaults to the search box's spacing)")
+    parser.add_argument("--title", help="title over the picture (default: the scene's; '' for none)")
+
+
+def add_arguments(parser) -> None:
+    add_scene_arguments(parser)
+    parser.add_argument("-o", "--out", metavar="OUT.png", help="where to write the picture")
+    parser.add_argument("--show", action="store_true", help="open an interactive window too")
+    parser.add_argument("--view", choices=("scene", "polarity"), default="scene",
+                        help="scene: the 3D view (default); polarity: a top view of the parts, "
+                             "numbered, with their north faces marked")
+    add_view_arguments(parser)
+    parser.add_argument("--size", default="1600x1200", metavar="WxH",
+                        help="picture size in pixels (default 1600x1200)")
+    parser.add_argument("--transparent", action="store_true", help="transparent background")
+    parser.add_argument("--cutaway", action="store_true",
+                        help="take away the parts between the camera and the section plane")
+
+
+def parse_size(text: str) -> tuple[int, int]:
+    width, _, height = text.lower().partition("x")
+    try:
+        size = (int(width), int(height))
+    except ValueError:
+        raise SceneError(f"--size {text!r}: write WIDTHxHEIGHT in pixels, e.g. --size 1600x1200.") from None
+    if min(size) < 64 or max(size) > 16384:
+        raise SceneError(f"--size {text!r}: each side must be 64 to 16384 pixels.")
+    return size
+
+
+def parse_section(text):
+    """'y' -> (1, None); 'z=2.5' -> (2, 2.5); None -> (None, None)."""
+    if not text:
+        return None, None
+    name, _, value = text.partition("=")
+    axis = AXES.get(name.strip().lower())
+    if axis is None:
+        raise SceneError(f"--section {text!r}: write an axis x, y or z, optionally =VALUE "
+                         "in the scene's unit, e.g. --section z=2.5.")
+    if not value.strip():
+        return axis, None
+    try:
+        return axis, float(value)
+    except ValueError:
+        raise SceneError(f"--section {text!r}: {value!r} is not a number.") from None
+
+
+def view_context(scene, args):
+    from viewers.layers.context import ViewContext
+
+    resolution = args.resolution or DEFAULT_RESOLUTION
+    if resolution < 8:
+        raise SceneError("--resolution must be at least 8.")
+    return ViewContext(scene, grid_resolution=resolution,
+                       progress=_progress(args) if show_progress(args) else None)
+
+
+def _progress(args):
+    from tqdm import tqdm
+
+    bar = tqdm(file=sys.stderr, unit="pt", leave=False, desc="field")
+
+    def update(done, total):
+        bar.total = total
+        bar.update(done - bar.n)
+        if done >= total:
+            bar.close()
+
+    return update
+
+
+def render_options(scene, args, size=(1600, 1200), transparent=False, cutaway=False):
+    from viewers.layers import parse_layers
+    from viewers.layers.isosurfaces import parse_levels
+    from viewers.render import RenderOptions
+
+    axis, level = parse_section(args.section)
+    return RenderOptions(
+        layers=parse_layers(args.layers, scene), size=size, camera=args.camera,
+        transparent=transparent, title=args.title, log_scale=args.scale == "log",
+        iso_levels_T=tuple(parse_levels(args.iso)) if args.iso else None,
+        section_axis=axis, section_level=level, cutaway=cutaway)
+
+
+def print_notes(ctx) -> None:
+    for note in ctx.notes:
+        print(f"note: {note}", file=sys.stderr)
+
+
+def run(args) -> int:
+    if not args.out and not args.show:
+        raise SceneError("render: say where the picture goes with -o OUT.png (or open a window "
+                         "with --show).")
+    if args.out and not args.out.lower().endswith(".png"):
+        raise SceneError(f"render: {args.out!r} is not a .png; write -o OUT.png.")
+    scene = load_scene_from_args(args)
+    size = parse_size(args.size)
+    ctx = view_context(scene, args)
+    if args.view == "polarity":
+        from viewers.polarity import draw_polarity_map
+
+        if args.out:
+            draw_polarity_map(ctx, args.out, size=size, title=args.title,
+                              transparent=args.transparent)
+            print(f"wrote the polarity map to {args.out}")
+        return 0
+    from viewers.render import render_png, show_window
+
+    options = render_options(scene, args, size, args.transparent, args.cutaway)
+    if args.out:
+        render_png(ctx, options, args.out)
+        print(f"wrote {args.out} ({size[0]}x{size[1]}; layers: {', '.join(options.layers)})")
+    if args.show:
+        show_window(ctx, options)
+    print_notes(ctx)
+    return 0
