@@ -111,29 +111,44 @@ def compare(n_targets, positions, moments, per_part, eps, gradient):
           f"   direct / fmm {t_direct / t_fmm:5.2f}x")
 
 
+def cpu_timed(function, *args, **kwargs):
+    """CPU seconds of this process (all its threads): unlike wall time, hardly changed when other
+    jobs share the machine."""
+    start = time.process_time()
+    result = function(*args, **kwargs)
+    return result, time.process_time() - start
+
+
 def measure_constants(positions, moments):
-    """Least-squares fits of the cost model in physics/dipole_sum.py (seconds)."""
+    """Least-squares fits of the cost model in physics/dipole_sum.py, from CPU time."""
+    import numba
+
     fmm._ensure_self_test()
+    threads = numba.get_num_threads()
     for gradient in (False, True):
         pair_targets = targets_around(20_000)
-        _, t = timed(dipole_H, pair_targets, positions, moments, gradient=gradient, method="direct")
-        print(f"direct {'gradient' if gradient else 'H'}: {t / (len(pair_targets) * len(positions)):.2e}"
-              " s per target-source pair (2 threads)")
+        _, t = cpu_timed(dipole_H, pair_targets, positions, moments, gradient=gradient,
+                         method="direct")
+        print(f"direct {'gradient' if gradient else 'H'}: "
+              f"{t / threads / (len(pair_targets) * len(positions)):.2e} s per target-source pair "
+              f"on {threads} threads (CPU time / threads)")
     for eps in (1e-3, 1e-6, 1e-9):
         for gradient in (False, True):
             rows, times = [], []
             for parts in (1, 4, 12):
                 k = parts * CELLS_PER_EDGE**3
                 for n in (2_000, 50_000, 150_000):
-                    _, t = timed(fmm._fmm_share, targets_around(n), positions[:k], moments[:k],
-                                 gradient, eps)
+                    _, t = cpu_timed(fmm._fmm_share, targets_around(n), positions[:k], moments[:k],
+                                     gradient, eps)
                     rows.append([1.0, k, n])
                     times.append(t)
             c, per_source, per_target = np.linalg.lstsq(np.array(rows), np.array(times), rcond=None)[0]
             worst = max(abs(np.array(rows) @ [c, per_source, per_target] - times) / times)
             print(f"fmm one process, eps {eps:.0e}, {'gradient' if gradient else 'H'}: overhead {c:.2e} s,"
                   f" {per_source:.2e} s per source, {per_target:.2e} s per target "
-                  f"(worst misfit {worst:.0%})", flush=True)
+                  f"(worst misfit {worst:.0%}); raw: "
+                  + ", ".join(f"K={int(r[1])} N={int(r[2])}: {t:.2f}" for r, t in zip(rows, times)),
+                  flush=True)
 
 
 def compare_start_methods(positions, moments, n_targets=200_000):

@@ -17,16 +17,21 @@ import numpy as np
 COINCIDENT_M = 1e-12
 _INV_4PI = 1.0 / (4.0 * math.pi)
 
-# Cost model for method="auto", measured on this machine (2 cores) on 2025-06-22 with
-# benchmarks/dipole_sum_speed.py --constants: seconds per target-source pair of the direct numba
-# kernel (both cores), and the FMM (2 processes) as a fixed overhead plus a cost per point
-# (targets + sources) at eps = 1e-6; the per-point cost grows with log(1/eps) roughly linearly.
-DIRECT_S_PER_PAIR = 1.0e-9
-DIRECT_GRADIENT_S_PER_PAIR = 1.6e-9
-FMM_OVERHEAD_S = 0.02
-FMM_S_PER_POINT = 1.0e-6
-FMM_GRADIENT_S_PER_POINT = 1.6e-6
-FMM_EPS_REFERENCE = 1e-6
+# Cost model for method="auto", measured on this machine (2 cores, other jobs running, so from
+# CPU time) on 2026-12-01 with `benchmarks/dipole_sum_speed.py --constants`, on 1, 4 and 12 cubes
+# of 15^3 dipoles and 2e3..1.5e5 targets.
+# Direct numba kernel: seconds per target-source pair, both cores.
+DIRECT_S_PER_PAIR = 7.2e-10
+DIRECT_GRADIENT_S_PER_PAIR = 9.5e-10
+# FMM, one process (fmm3dpy is single-threaded): seconds per source (every process pays it) and
+# per target (shared out over the processes), for H and for H with its gradient, at three eps;
+# least-squares fits that miss single runs by up to 25% (55-80% at eps = 1e-3, short runs).
+FMM_OVERHEAD_S = 0.1
+FMM_COSTS = {  # eps: (per source, per target for H, per target for H and dH/dx)
+    1e-3: (2.1e-5, 2.6e-6, 7.5e-6),
+    1e-6: (6.4e-5, 6.8e-6, 2.8e-5),
+    1e-9: (1.75e-4, 1.36e-5, 6.5e-5),
+}
 
 
 def dipole_H(targets, positions, moments, gradient=False, method="auto", eps=1e-6):
@@ -59,11 +64,19 @@ def direct_cost_s(n_targets: int, n_sources: int, gradient: bool = False) -> flo
     return float(n_targets) * float(n_sources) * per_pair
 
 
-def fmm_cost_s(n_targets: int, n_sources: int, gradient: bool = False, eps: float = 1e-6) -> float:
-    per_point = FMM_GRADIENT_S_PER_POINT if gradient else FMM_S_PER_POINT
-    digits = max(1.0, -math.log10(max(eps, 1e-15)))
-    scale = digits / -math.log10(FMM_EPS_REFERENCE)
-    return FMM_OVERHEAD_S + (n_targets + n_sources) * per_point * scale
+def fmm_cost_s(n_targets: int, n_sources: int, gradient: bool = False, eps: float = 1e-6,
+               processes: int = 2) -> float:
+    """Wall seconds of physics.fmm.fmm_dipole_H: FMM_COSTS interpolated in log(eps), log(cost)."""
+    from physics.fmm import split_count
+
+    levels = sorted(FMM_COSTS)
+    x = np.log10(levels)
+    column = 2 if gradient else 1
+    per_source, per_target = (
+        10 ** np.interp(math.log10(eps), x, np.log10([FMM_COSTS[e][c] for e in levels]))
+        for c in (0, column))
+    shares = split_count(n_targets, processes)
+    return FMM_OVERHEAD_S + n_sources * per_source + n_targets * per_target / shares
 
 
 def dipole_H_numpy(targets, positions, moments, chunk_pairs: int = 250_000):

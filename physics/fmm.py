@@ -19,9 +19,10 @@ import numpy as np
 
 from physics.dipole_sum import COINCIDENT_M, dipole_H, symmetric_from_six
 
-# Below this many targets one process is faster than shipping half of them to a second one
-# (measured 2026-12-01 on this machine, see benchmarks/dipole_sum_speed.py --constants).
-MIN_TARGETS_FOR_SPLIT = 2_000
+# Each process gets at least this many targets: forking a worker costs 4-11 ms here (measured
+# 2026-12-01), and an FMM target costs 2.6-65 us (physics.dipole_sum.FMM_COSTS), so a share of
+# 5,000 targets saves more than the fork costs.
+MIN_TARGETS_FOR_SPLIT = 5_000
 # "fork" starts a worker in milliseconds and inherits the loaded modules; "spawn" re-imports
 # numpy and fmm3dpy in the worker (measured on 2026-12-01: see the benchmark).
 START_METHOD = "fork" if sys.platform.startswith("linux") else "spawn"
@@ -98,9 +99,13 @@ def _ensure_self_test() -> None:
         _self_tested = True
 
 
+def split_count(n_targets: int, processes: int) -> int:
+    """How many processes share n_targets: each gets at least MIN_TARGETS_FOR_SPLIT."""
+    return max(1, min(int(processes), n_targets // MIN_TARGETS_FOR_SPLIT))
+
+
 def _split(n_targets: int, processes: int) -> list[tuple[int, int]]:
-    count = max(1, min(int(processes), n_targets // MIN_TARGETS_FOR_SPLIT))
-    edges = np.linspace(0, n_targets, count + 1).astype(int)
+    edges = np.linspace(0, n_targets, split_count(n_targets, processes) + 1).astype(int)
     return list(zip(edges[:-1], edges[1:]))
 
 
