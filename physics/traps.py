@@ -541,6 +541,32 @@ def _surface_descent(model, geometry, starts, basis, iterations=DESCENT_ITERATIO
     return x
 
 
+def _surface_newton(model, geometry, points, basis, iterations=8):
+    """Newton's method for a contact equilibrium along the surface: the tangential force and
+    the surface-restricted Hessian K_t of _contact_state, steps limited to half a grid step and
+    re-projected onto the surface. Used to polish a descent and to re-solve with the finite
+    size, where each evaluation is costly."""
+    x = np.asarray(points, float).reshape(-1, 3).copy()
+    if basis.shape[0] <= 1 or len(x) == 0:
+        return x
+    h = geometry.spacing
+    active = np.ones(len(x), bool)
+    for _ in range(iterations):
+        idx = np.flatnonzero(active)
+        if len(idx) == 0:
+            break
+        _, _, tangents, K_t, F = _contact_state(model, geometry, x[idx], basis)
+        push = np.einsum("nmi,ni->nm", tangents, F)
+        step = _pseudo_solve(K_t, push)
+        size = np.linalg.norm(step, axis=1)
+        step *= np.minimum(1.0, 0.5 * h / np.maximum(size, 1e-300))[:, None]
+        trial = geometry.project_to_surface(x[idx] + np.einsum("nm,nmi->ni", step, tangents), basis)
+        ok = geometry.admissible(trial, tolerance=1e-6)
+        x[idx[ok]] = trial[ok]
+        active[idx[~ok | (size < 1e-9 * h)]] = False
+    return x
+
+
 def _contact_state(model, geometry, points, basis):
     """Normal, normal force (> 0 when pressed), tangents and the surface-restricted Hessian
     K_t = T (Hess U - N Hess c) T^T (Lagrange multiplier N = -dU/dc; derived here)."""
@@ -665,6 +691,7 @@ def _contact_equilibria(model, geometry, grid, basis, scene):
         points = _line_contacts(grid, geometry, starts)
     else:
         points = _surface_descent(model, geometry, grid.points[starts], basis)
+        points = _surface_newton(model, geometry, _unique(points, 2e-2 * geometry.spacing), basis)
     points = points[geometry.clearance(points) >= geometry.radius * (1 - 1e-6)]
     points = _unique(points, 2e-2 * geometry.spacing)
     if len(points) == 0:
@@ -901,8 +928,7 @@ def _resolve_contacts(finite, geometry, equilibria, basis, scene):
     if not equilibria:
         return [], [], []
     x = np.array([e.position for e in equilibria])
-    if basis.shape[0] > 1:  # on a line the contact point is fixed by the geometry
-        x = _surface_descent(finite, geometry, x, basis)
+    x = _surface_newton(finite, geometry, x, basis)  # on a line: fixed by the geometry
     normals, pressed, tangents, K_t, F = _contact_state(finite, geometry, x, basis)
     U = finite.energy(x)
     B = finite.applied_field(x)[0]
@@ -947,6 +973,9 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
     notes = []
     equilibria = _free_equilibria(model, geometry, grid, basis, scene)
     equilibria += _contact_equilibria(model, geometry, grid, basis, scene)
+    if len(_contact_starts(grid)) >= MAX_CONTACT_STARTS:
+        notes.append(f"Only the {MAX_CONTACT_STARTS} lowest grid cells next to a surface were "
+                     "followed to contact points; a finer or smaller search box finds more.")
     equilibria = _merge_families(equilibria, geometry.spacing)
 
     finite = finite_probe_model(field_model, law, equilibria)
