@@ -59,7 +59,8 @@ def label_point(triangles: np.ndarray, segments: np.ndarray) -> np.ndarray:
                 / np.maximum(np.einsum("sk,sk->s", ab, ab), 1e-30)[None], 0.0, 1.0)
     nearest = a[None] + t[..., None] * ab[None]
     clearance = np.linalg.norm(centroids[:, None, :] - nearest, axis=2).min(axis=1)
-    area = 0.5 * np.abs(np.cross(triangles[:, 1] - triangles[:, 0], triangles[:, 2] - triangles[:, 0]))
+    edge_a, edge_b = triangles[:, 1] - triangles[:, 0], triangles[:, 2] - triangles[:, 0]
+    area = 0.5 * np.abs(edge_a[:, 0] * edge_b[:, 1] - edge_a[:, 1] * edge_b[:, 0])
     middle = (centroids * area[:, None]).sum(axis=0) / max(area.sum(), 1e-30)
     # prefer the interior, and among equally deep points the one nearest the middle
     score = clearance - 1e-3 * np.linalg.norm(centroids - middle, axis=1)

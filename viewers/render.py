@@ -68,7 +68,7 @@ def prepare(ctx, options: RenderOptions) -> None:
     ctx.view_up = up
     ctx.equilibria_table = []
     ctx.label_offset = (right + up) / np.sqrt(2.0)
-    ctx.font_size = max(6, int(round(min(options.size[1] / 95, options.size[0] / 125))))
+    ctx.font_size = max(4, int(round(min(options.size[1] / 95, options.size[0] / 125))))
     ctx.iso_levels_T = options.iso_levels_T
     ctx.cutaway = options.cutaway
     if "section" in options.layers:
@@ -121,10 +121,12 @@ def build_plotter(ctx, options: RenderOptions, off_screen: bool = True, overlay:
         else:
             module.draw(plotter, ctx, legend)
     plotter._trapscape_legend = legend
+    plotter._trapscape_layout = None
     layout = plan_layout(plotter, ctx, options, legend)
     if annotations == "html":  # a page of any size: centre the content, the text is HTML
         layout.legend_width, layout.title_band = 0.0, 0.0
     _frame(plotter, ctx, options, layout)
+    plotter._trapscape_layout = layout
     if annotations == "html":
         _annotate_html(plotter, ctx, options, legend, scale)
     else:
@@ -213,9 +215,9 @@ def plan_layout(plotter, ctx, options, legend) -> Layout:
     if options.title != "":
         layout.title_band = 2.0 * ctx.font_size * (1.45 + 1.0) * 1.2 + 0.02 * height
     if options.legend and legend.entries:
-        font = max(7, int(round(ctx.font_size * 0.85)))
+        font = max(4, int(round(ctx.font_size * 0.85)))
         widest = max(text_width(plotter, label, font) for label, _, _ in legend.entries)
-        while font > 7 and widest + 6 * font > 0.36 * width:
+        while font > 4 and widest + 6 * font > 0.36 * width:
             font -= 1
             widest = max(text_width(plotter, label, font) for label, _, _ in legend.entries)
         layout.legend_font = font
@@ -262,14 +264,22 @@ def _annotate(plotter, ctx, options, legend, scale, layout: Layout) -> None:
     width, height = options.size
     font = ctx.font_size
     if options.title != "":
+        from viewers.layers.annotations import text_width
+
         title, subtitle = title_lines(ctx.scene, ctx.section)
         title = options.title or title
         top = height - 0.015 * height
+        big = int(round(font * 1.45))
+        while big > 4 and text_width(plotter, title, big) > 0.96 * width:
+            big -= 1
+        small = font
+        while small > 3 and text_width(plotter, subtitle, small) > 0.96 * width:
+            small -= 1
         plotter.add_text(title, position=(int(0.02 * width), int(top - 2.0 * 1.45 * font * 1.05)),
-                         font_size=int(round(font * 1.45)), color=TEXT)
+                         font_size=big, color=TEXT)
         plotter.add_text(subtitle, position=(int(0.02 * width),
                                              int(top - 2.0 * font * (1.45 + 1.0) * 1.15)),
-                         font_size=font, color=TEXT)
+                         font_size=small, color=TEXT)
     if options.scale_bar:
         draw_scale_bar(plotter, plotter._trapscape_world_per_pixel, ctx.unit,
                        origin_px=(0.03 * width, 0.04 * height + font), font_size=font,
