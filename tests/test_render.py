@@ -40,7 +40,7 @@ def near_colour(image, colour, tolerance=40.0):
     return np.linalg.norm(image[..., :3].astype(float) - rgb(colour), axis=-1) < tolerance
 
 
-def same_hue(image, colour, degrees=7.0):
+def same_hue(image, colour, degrees=4.0):
     """(H, W) bool: saturated pixels of the colour's hue (shading changes lightness, not hue)."""
     import matplotlib.colors
 
