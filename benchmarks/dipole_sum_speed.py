@@ -18,6 +18,7 @@ import time
 PROCESS_START = time.perf_counter()
 
 import argparse  # noqa: E402
+import os  # noqa: E402
 import sys  # noqa: E402
 from pathlib import Path  # noqa: E402
 
@@ -70,6 +71,15 @@ def timed(function, *args, **kwargs):
     return result, time.perf_counter() - start
 
 
+def wall_and_cpu(function, *args, **kwargs):
+    """Wall seconds and CPU seconds (this process's threads and its waited-for children)."""
+    before = os.times()
+    result, wall = timed(function, *args, **kwargs)
+    after = os.times()
+    cpu = sum(after[i] - before[i] for i in range(4))
+    return result, wall, cpu
+
+
 def first_calls(positions, moments):
     """Numba compilation (or cache load) and the FMM self-test, timed on their own."""
     small = targets_around(10)
@@ -84,13 +94,15 @@ def first_calls(positions, moments):
 def compare(n_targets, positions, moments, per_part, eps, gradient):
     targets = targets_around(n_targets, seed=n_targets)
     label = "H and dH/dx" if gradient else "H"
-    direct, t_direct = timed(dipole_H, targets, positions, moments, gradient=gradient,
-                             method="direct")
-    fast, t_fmm = timed(dipole_H, targets, positions, moments, gradient=gradient, method="fmm",
-                        eps=eps)
+    direct, t_direct, cpu_direct = wall_and_cpu(dipole_H, targets, positions, moments,
+                                                gradient=gradient, method="direct")
+    fast, t_fmm, cpu_fmm = wall_and_cpu(dipole_H, targets, positions, moments, gradient=gradient,
+                                        method="fmm", eps=eps)
     subset = np.random.default_rng(1).choice(n_targets, min(NUMPY_SUBSET, n_targets), replace=False)
-    plain, t_numpy_subset = timed(dipole_H_numpy, targets[subset], positions, moments)
+    plain, t_numpy_subset, cpu_numpy_subset = wall_and_cpu(dipole_H_numpy, targets[subset],
+                                                           positions, moments)
     t_numpy = t_numpy_subset * n_targets / len(subset)
+    cpu_numpy = cpu_numpy_subset * n_targets / len(subset)
     check = subset[:ACCURACY_SUBSET]
     H_ref, scale = local_scale(targets[check], positions, moments, per_part)
     H_direct = direct[0] if gradient else direct
@@ -99,16 +111,18 @@ def compare(n_targets, positions, moments, per_part, eps, gradient):
     err_numpy = np.linalg.norm(plain[: len(check)] - H_ref, axis=1) / scale
     err_direct = np.linalg.norm(H_direct[check] - H_ref, axis=1) / scale
     print(f"\n{label} at {n_targets:,} targets from {len(positions):,} dipoles (eps {eps:g})")
-    print(f"  direct numba (2 threads) {t_direct:8.2f} s   max error/scale {err_direct.max():.1e}")
-    print(f"  fmm (2 processes)        {t_fmm:8.2f} s   max error/scale {err_fmm.max():.1e} "
-          f"(99th percentile {np.percentile(err_fmm, 99):.1e})")
-    print(f"  numpy broadcast          {t_numpy:8.1f} s   (timed on {len(subset):,} targets: "
-          f"{t_numpy_subset:.2f} s, scaled)   max error/scale {err_numpy.max():.1e}")
+    print(f"  direct numba (2 threads) {t_direct:8.2f} s wall, {cpu_direct:7.2f} s CPU   "
+          f"max error/scale {err_direct.max():.1e}")
+    print(f"  fmm (2 processes)        {t_fmm:8.2f} s wall, {cpu_fmm:7.2f} s CPU   "
+          f"max error/scale {err_fmm.max():.1e} (99th percentile {np.percentile(err_fmm, 99):.1e})")
+    print(f"  numpy broadcast          {t_numpy:8.1f} s wall, {cpu_numpy:7.1f} s CPU   "
+          f"max error/scale {err_numpy.max():.1e}  (timed on {len(subset):,} targets: "
+          f"{t_numpy_subset:.2f} s, scaled linearly)")
     if gradient:
         G_err = np.abs(fast[1][check] - direct[1][check]).max() / np.abs(direct[1][check]).max()
         print(f"  fmm gradient: max |dG| / max |G| = {G_err:.1e}")
-    print(f"  ratios: numpy / direct {t_numpy / t_direct:6.0f}x   numpy / fmm {t_numpy / t_fmm:6.0f}x"
-          f"   direct / fmm {t_direct / t_fmm:5.2f}x")
+    print(f"  wall-time ratios: numpy / direct {t_numpy / t_direct:6.0f}x   numpy / fmm "
+          f"{t_numpy / t_fmm:6.0f}x   direct / fmm {t_direct / t_fmm:5.2f}x")
 
 
 def cpu_timed(function, *args, **kwargs):
@@ -174,7 +188,8 @@ def main():
     parser.add_argument("--start-methods", action="store_true")
     args = parser.parse_args()
     positions, moments, per_part = ring_of_cubes()
-    print(f"imports done {time.perf_counter() - PROCESS_START:.2f} s after the script started")
+    print(f"imports done {time.perf_counter() - PROCESS_START:.2f} s after the script started; "
+          f"load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores")
     first_calls(positions, moments)
     if args.constants:
         measure_constants(positions, moments)
@@ -186,7 +201,8 @@ def main():
         if args.gradient:
             compare(min(args.targets), positions, moments, per_part, args.eps, gradient=True)
     print(f"\nwhole script wall time {time.perf_counter() - PROCESS_START:.1f} s "
-          "(interpreter start-up before the first line not included)")
+          "(interpreter start-up before the first line not included); "
+          f"load average {os.getloadavg()[0]:.1f}")
 
 
 if __name__ == "__main__":
