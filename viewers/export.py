@@ -18,6 +18,7 @@ from scene.errors import SceneError
 GEOMETRY_DEFAULTS = ("magnets", "markers", "wells", "isosurfaces", "hover")
 MAX_GRID_POINTS = 2_000_000  # beyond this the .vti grid is coarsened (said on stderr)
 FORMATS = (".vti", ".vtp", ".stl", ".html")
+SIDEBAR_EM = 22  # width of the HTML page's text column
 
 
 def format_of(path: str) -> str:
@@ -187,10 +188,10 @@ def _add_page_text(ctx, path: str, options, legend) -> None:
         for label, colour, _ in legend.entries)
     rows = "".join(f"<div>{html.escape(row)}</div>" for row in table_rows(ctx)[:12])
     bar = _css_colour_bar(ctx, options) if ctx.section is not None else ""
-    panel = (
-        '<div style="position:fixed;top:0.6em;left:0.8em;z-index:10;pointer-events:none;'
-        'font:14px sans-serif;color:#1c1c1c;background:rgba(255,255,255,0.85);padding:0.5em 0.8em;'
-        f'border-radius:4px;max-width:40em"><div style="font-size:18px;font-weight:600">'
+    panel = (  # a sidebar beside the view, not over it
+        f'<div style="position:absolute;top:0;left:0;bottom:0;width:{SIDEBAR_EM}em;overflow:auto;'
+        'box-sizing:border-box;font:13px sans-serif;color:#1c1c1c;background:#f7f7f7;'
+        'border-right:1px solid #ccc;padding:0.6em 0.8em"><div style="font-size:16px;font-weight:600">'
         f"{html.escape(title)}</div><div>{html.escape(subtitle)}</div>"
         f'<div style="margin-top:0.5em">{swatches}</div>{bar}'
         + (f'<div style="margin-top:0.5em"><b>Equilibria</b>{rows}</div>' if rows else "")
@@ -201,7 +202,8 @@ def _add_page_text(ctx, path: str, options, legend) -> None:
                         f"<title>{html.escape(title)} (trapscape)</title>", 1)
     # the viewer empties the element it draws in (the first `.content`, else <body>): give it
     # its own, so that the panel stays
-    viewport = '<div class="content" style="position:absolute;top:0;left:0;width:100%;height:100%"></div>'
+    viewport = (f'<div class="content" style="position:absolute;top:0;left:{SIDEBAR_EM}em;right:0;'
+                'bottom:0"></div>')
     page = page.replace("<body>", "<body>" + viewport + panel, 1)
     Path(path).write_text(page, encoding="utf-8")
 
