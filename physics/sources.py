@@ -93,7 +93,7 @@ class Source:
             R = self.matrix
             if gradient:
                 H_body, G_body = closed_form(self.kind, True)(body, *self.params, self.magnetization)
-                G[near] = np.einsum("ij,njk,lk->nil", R, G_body, R)
+                G[near] = R @ G_body @ R.T  # (N,3,3) batched: R G_b R^T
             else:
                 H_body = closed_form(self.kind)(body, *self.params, self.magnetization)
             H[near] = H_body @ R.T
