@@ -51,6 +51,10 @@ def label_point(triangles: np.ndarray, segments: np.ndarray) -> np.ndarray:
     """A point well inside the footprint (a ring's is on its wall, not in its hole): of the
     triangle centroids, the one farthest from the outline."""
     centroids = triangles.mean(axis=1)
+    if len(centroids):
+        middle = centroids.mean(axis=0)
+        if _inside_any(triangles, middle):  # a convex part's own middle is the best place
+            centroids = np.vstack([middle[None], centroids])
     if len(segments) == 0 or len(centroids) == 0:
         return centroids.mean(axis=0) if len(centroids) else np.zeros(2)
     a, b = segments[:, 0], segments[:, 1]
@@ -61,10 +65,22 @@ def label_point(triangles: np.ndarray, segments: np.ndarray) -> np.ndarray:
     clearance = np.linalg.norm(centroids[:, None, :] - nearest, axis=2).min(axis=1)
     edge_a, edge_b = triangles[:, 1] - triangles[:, 0], triangles[:, 2] - triangles[:, 0]
     area = 0.5 * np.abs(edge_a[:, 0] * edge_b[:, 1] - edge_a[:, 1] * edge_b[:, 0])
-    middle = (centroids * area[:, None]).sum(axis=0) / max(area.sum(), 1e-30)
+    middle = (triangles.mean(axis=1) * area[:, None]).sum(axis=0) / max(area.sum(), 1e-30)
     # prefer the interior, and among equally deep points the one nearest the middle
     score = clearance - 1e-3 * np.linalg.norm(centroids - middle, axis=1)
     return centroids[int(np.argmax(score))]
+
+
+def _inside_any(triangles, point) -> bool:
+    """Is the 2D point in any of the triangles (same-side test on the three edges)?"""
+    def side(a, b):
+        return (b[:, 0] - a[:, 0]) * (point[1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (point[0] - a[:, 0])
+
+    s0 = side(triangles[:, 0], triangles[:, 1])
+    s1 = side(triangles[:, 1], triangles[:, 2])
+    s2 = side(triangles[:, 2], triangles[:, 0])
+    inside = ((s0 >= 0) & (s1 >= 0) & (s2 >= 0)) | ((s0 <= 0) & (s1 <= 0) & (s2 <= 0))
+    return bool(inside.any())
 
 
 def part_mark(magnet) -> tuple[str, str, str]:

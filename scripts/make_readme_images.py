@@ -1,0 +1,54 @@
+"""Regenerate the README's pictures in docs/images/: the default view of two samples (the level
+gauge and the bead-capture chip) and the gauge's polarity map.
+
+    python scripts/make_readme_images.py [--size 1200x900]
+"""
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+from viewers.render import prefer_egl  # noqa: E402
+
+prefer_egl()
+
+PICTURES = (  # (sample, file, what)
+    ("level_gauge", "level_gauge.png", "scene"),
+    ("bead_chip", "bead_chip.png", "scene"),
+    ("level_gauge", "level_gauge_polarity.png", "polarity"),
+)
+
+
+def main() -> int:
+    from scene.loader import load_scene
+    from viewers.commands.render import parse_size
+    from viewers.layers import default_layers
+    from viewers.layers.context import ViewContext
+    from viewers.polarity import draw_polarity_map
+    from viewers.render import RenderOptions, render_png
+
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--size", default="1200x900")
+    size = parse_size(parser.parse_args().size)
+    out = ROOT / "docs" / "images"
+    out.mkdir(parents=True, exist_ok=True)
+    contexts = {}
+    for sample, name, what in PICTURES:
+        if sample not in contexts:
+            contexts[sample] = ViewContext(load_scene(str(ROOT / "samples" / f"{sample}.toml")))
+        ctx = contexts[sample]
+        path = out / name
+        if what == "polarity":
+            draw_polarity_map(ctx, str(path), size=(size[0] * 3 // 4, size[1] * 3 // 4))
+        else:
+            render_png(ctx, RenderOptions(layers=default_layers(ctx.scene), size=size), str(path))
+        print(f"wrote {path.relative_to(ROOT)}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
