@@ -21,6 +21,14 @@ FORMATS = (".vti", ".vtp", ".stl", ".html")
 SIDEBAR_EM = 22  # width of the HTML page's text column
 
 
+def check_writable(path: str) -> None:
+    """A SceneError, not a traceback, when the output's folder is missing."""
+    folder = Path(path).resolve().parent
+    if not folder.is_dir():
+        raise SceneError(f"cannot write {path}: the folder {folder} does not exist; make it "
+                         "first or choose another path.")
+
+
 def format_of(path: str) -> str:
     suffix = Path(path).suffix.lower()
     if suffix not in FORMATS:
@@ -239,6 +247,7 @@ def export(ctx, path: str, layers=None, options=None, spacing=None, resolution=N
     from viewers.render import RenderOptions, prepare
 
     kind = format_of(path)
+    check_writable(path)
     if kind == ".vti":
         return export_vti(ctx, path, spacing, resolution)
     layers = tuple(layers) if layers else GEOMETRY_DEFAULTS

@@ -127,6 +127,10 @@ def run(args) -> int:
                          "with --show).")
     if args.out and not args.out.lower().endswith(".png"):
         raise SceneError(f"render: {args.out!r} is not a .png; write -o OUT.png.")
+    if args.out:
+        from viewers.export import check_writable
+
+        check_writable(args.out)
     scene = load_scene_from_args(args)
     size = parse_size(args.size)
     ctx = view_context(scene, args)
