@@ -38,7 +38,7 @@ def dipole_H(targets, positions, moments, gradient=False, method="auto", eps=1e-
     """H (N, 3) of the dipoles at the targets, and with gradient=True also (N, 3, 3) = dH_i/dx_j.
 
     method: "direct" (numba, exact to rounding), "fmm" (fmm3dpy to tolerance eps, relative to the
-    field scale of the whole set: weak-field targets see about 1e-3 relative until eps ~ 1e-8),
+    field scale of the whole set; see physics/fmm.py for what that means at weak-field targets),
     or "auto" (whichever the cost model above says is cheaper).
     """
     targets, positions, moments = _as_points(targets), _as_points(positions), _as_points(moments)

@@ -7,6 +7,11 @@ xx, yy, zz, xy, xz, yz (fmm3dpy 2.1.0, checked by fmm_self_test against the dire
 these conventions have changed between versions).
 The wheel runs on one core: the targets are split over `processes` processes, each evaluating all
 sources at its share of the targets (the calling process takes the first share).
+
+Accuracy (measured 2026-12-01, 12 cubes of 15^3 dipoles, errors relative to the local field scale
+of DESIGN.md): eps = 1e-4, 1e-5 and 1e-6 all give up to 8e-4 at weak-field targets 20-35 mm from
+the dipoles (99% of targets below 8e-5); eps = 1e-7 gives 5e-7 at 1.8 times the time (1.65 times
+with the gradient), eps = 1e-8 gives 2e-7 at 2.2 times.
 """
 from __future__ import annotations
 
