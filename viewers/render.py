@@ -66,7 +66,9 @@ def prepare(ctx, options: RenderOptions) -> None:
     direction, up, right = view_vectors(options.camera)
     ctx.view_direction = direction
     ctx.view_up = up
+    ctx.view_right = right
     ctx.equilibria_table = []
+    ctx.pending_labels = []
     ctx.label_offset = (right + up) / np.sqrt(2.0)
     ctx.font_size = max(4, int(round(min(options.size[1] / 95, options.size[0] / 125))))
     ctx.iso_levels_T = options.iso_levels_T
@@ -127,6 +129,10 @@ def build_plotter(ctx, options: RenderOptions, off_screen: bool = True, overlay:
         layout.legend_width, layout.title_band = 0.0, 0.0
     _frame(plotter, ctx, options, layout)
     plotter._trapscape_layout = layout
+    if "markers" in options.layers:
+        from viewers.layers.markers import draw_labels
+
+        draw_labels(plotter, ctx, plotter._trapscape_world_per_pixel)
     if annotations == "html":
         _annotate_html(plotter, ctx, options, legend, scale)
     else:

@@ -8,7 +8,7 @@ import numpy as np
 from physics.constants import MU0
 
 NICE = (1.0, 2.0, 5.0)
-QUANTILES = (0.55, 0.85, 0.97)  # of |B| over the free part of the box: wide, middle, close shells
+QUANTILES = (0.8, 0.93, 0.985)  # of |B| over the free part of the box: wide, middle, close shells
 
 
 def energy_density(B_tesla):
@@ -82,7 +82,8 @@ def surfaces(ctx, levels_T) -> list:
 
 def label(level_T) -> str:
     u = float(energy_density(level_T))
-    return f"u = {u:.3g} J/m³ (B = {level_T * 1e3:.3g} mT)"
+    energy = f"{u:.0f}" if u >= 100 else f"{u:.3g}"
+    return f"u = {energy} J/m³ (B = {level_T * 1e3:.3g} mT)"
 
 
 def meshes(ctx) -> dict:
@@ -98,13 +99,15 @@ def draw(plotter, ctx, legend, colour_scale) -> None:
     if not shells:
         ctx.note("isosurfaces: no level crosses the search box.")
         return
-    for level, shell in shells:
+    opacities = np.linspace(0.15, 0.4, len(shells))  # outer shells fainter: the inner ones show
+    for (level, shell), opacity in zip(shells, opacities):
         if active(ctx):
             shell = shell.clip(normal=towards_camera(ctx), origin=ctx.section.normal * ctx.section.level,
                                invert=True)
             if shell.n_points == 0:
                 continue
         colour = colour_scale.colour_of(level * 1e3)
-        plotter.add_mesh(shell, color=colour, opacity=0.3, smooth_shading=True, specular=0.2)
+        plotter.add_mesh(shell, color=colour, opacity=float(opacity), smooth_shading=True,
+                         specular=0.2)
         legend.add(label(level), colour, "rectangle")
 

@@ -132,14 +132,37 @@ def draw(plotter, ctx, legend, overlay=None) -> None:
             seen.append(equilibrium.kind)
     full = len(equilibria) <= FULL_LABELS
     chosen = labelled(equilibria)
-    offset = np.asarray(getattr(ctx, "label_offset", (0.0, 0.0, 0.0)), float)
-    points = np.array([e.position for e in chosen]) + offset * marker_radius(ctx) * 1.6
-    plotter.add_point_labels(points, [label_text(e, ctx.unit, full, ctx.size) for e in chosen],
-                             font_size=int(1.7 * ctx.font_size), text_color=style.TEXT,
-                             shape_color="#ffffff", shape_opacity=0.8, show_points=False,
-                             always_visible=True, margin=4, justification_horizontal="left",
-                             bold=False)
+    ctx.pending_labels = [(e, label_text(e, ctx.unit, full, ctx.size)) for e in chosen]
     ctx.equilibria_table = [] if full else table_rows(ctx)
     for kind in style.MARKER:
         if kind in seen:
             legend.add(CLASS_LEGEND[kind], style.MARKER[kind], style.MARKER_SHAPE[kind])
+
+
+def draw_labels(plotter, ctx, world_per_pixel: float) -> None:
+    """After the camera is set: labels beside their markers, pointing away from the middle of
+    the picture (markers right of it get their label on the left), so they stay in the frame."""
+    from viewers.layers.annotations import text_width
+
+    pending = getattr(ctx, "pending_labels", [])
+    if not pending:
+        return
+    font = int(1.7 * ctx.font_size)
+    up = np.asarray(ctx.view_up, float)
+    right = np.asarray(ctx.view_right, float)
+    centre = ctx.box_bounds.mean(axis=0)
+    gap = marker_radius(ctx) * 1.2
+    points, texts = [], []
+    for equilibrium, text in pending:
+        anchor = equilibrium.position + up * gap
+        if (equilibrium.position - centre) @ right > 0:
+            width = max(text_width(plotter, line, font // 2) for line in text.split("\n"))
+            anchor = anchor - right * (gap + (width + 12) * world_per_pixel)
+        else:
+            anchor = anchor + right * gap
+        points.append(anchor)
+        texts.append(text)
+    plotter.add_point_labels(np.array(points), texts, font_size=font, text_color=style.TEXT,
+                             shape_color="#ffffff", shape_opacity=0.8, show_points=False,
+                             always_visible=True, margin=4, justification_horizontal="left",
+                             bold=False)
