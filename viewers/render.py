@@ -132,7 +132,7 @@ def build_plotter(ctx, options: RenderOptions, off_screen: bool = True, overlay:
     if "markers" in options.layers:
         from viewers.layers.markers import draw_labels
 
-        draw_labels(plotter, ctx, plotter._trapscape_world_per_pixel)
+        draw_labels(plotter, ctx, plotter._trapscape_world_per_pixel, layout.content[1])
     if annotations == "html":
         _annotate_html(plotter, ctx, options, legend, scale)
     else:

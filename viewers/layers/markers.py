@@ -139,9 +139,10 @@ def draw(plotter, ctx, legend, overlay=None) -> None:
             legend.add(CLASS_LEGEND[kind], style.MARKER[kind], style.MARKER_SHAPE[kind])
 
 
-def draw_labels(plotter, ctx, world_per_pixel: float) -> None:
-    """After the camera is set: labels beside their markers, pointing away from the middle of
-    the picture (markers right of it get their label on the left), so they stay in the frame."""
+def draw_labels(plotter, ctx, world_per_pixel: float, right_edge_px: float) -> None:
+    """After the camera is set: labels to the right of their markers, or to the left where the
+    label would run past the content's right edge (into the legend)."""
+    from viewers.render import world_to_pixels
     from viewers.layers.annotations import text_width
 
     pending = getattr(ctx, "pending_labels", [])
@@ -150,13 +151,13 @@ def draw_labels(plotter, ctx, world_per_pixel: float) -> None:
     font = int(1.7 * ctx.font_size)
     up = np.asarray(ctx.view_up, float)
     right = np.asarray(ctx.view_right, float)
-    centre = ctx.box_bounds.mean(axis=0)
     gap = marker_radius(ctx) * 1.2
     points, texts = [], []
     for equilibrium, text in pending:
         anchor = equilibrium.position + up * gap
-        if (equilibrium.position - centre) @ right > 0:
-            width = max(text_width(plotter, line, font // 2) for line in text.split("\n"))
+        width = max(text_width(plotter, line, font // 2) for line in text.split("\n"))
+        column = world_to_pixels(plotter, [equilibrium.position])[0, 0]
+        if column + gap / world_per_pixel + width + 12 > right_edge_px:
             anchor = anchor - right * (gap + (width + 12) * world_per_pixel)
         else:
             anchor = anchor + right * gap
