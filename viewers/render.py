@@ -321,8 +321,13 @@ def _annotate_html(plotter, ctx, options, legend, scale) -> None:
 
 def _draw_table(plotter, rows, left, top, font, floor) -> None:
     """The equilibria, one per line, as many as fit above `floor` (pixels)."""
+    from viewers.layers.annotations import text_width
     from viewers.layers.style import TEXT
 
+    room = plotter.window_size[0] - left - 4
+    widest = max(rows + ["Equilibria (firmest first)"], key=len)
+    while font > 6 and text_width(plotter, widest, font) > room:  # shrink rather than clip
+        font -= 1
     line = 2.0 * font * 1.25
     fits = max(int((top - floor) // line) - 1, 0)
     if fits <= 0:
