@@ -66,10 +66,7 @@ class FieldModel:
                     self._swap_near_zone(source, points, H, G, gradient)
         for source in chosen:
             if source.kind != "dipoles":
-                h, g = source.closed_form_H(points, gradient)
-                H += h
-                if gradient:
-                    G += g
+                source.add_closed_form_H(points, gradient, H, G)
         return H, G
 
     @staticmethod

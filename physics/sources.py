@@ -82,22 +82,30 @@ class Source:
         """H (and dH/dx) of a closed-form source at world points, dipole far away."""
         H = np.zeros_like(points)
         G = np.zeros((len(points), 3, 3)) if gradient else None
+        self.add_closed_form_H(points, gradient, H, G)
+        return H, G
+
+    def add_closed_form_H(self, points, gradient, H, G) -> None:
+        """Add this source's H (and dH/dx) at world points into H (N, 3) and G (N, 3, 3)."""
         far = self.is_far(points)
         if far.any():
-            H[far], G_far = point_dipole(points[far], self.center, self.moment, gradient)
+            H_far, G_far = point_dipole(points[far], self.center, self.moment, gradient)
+            H[far] += H_far
             if gradient:
-                G[far] = G_far
-        near = ~far
-        if near.any():
-            body = self.to_body(points[near])
-            R = self.matrix
-            if gradient:
-                H_body, G_body = closed_form(self.kind, True)(body, *self.params, self.magnetization)
-                G[near] = R @ G_body @ R.T  # (N,3,3) batched: R G_b R^T
-            else:
-                H_body = closed_form(self.kind)(body, *self.params, self.magnetization)
-            H[near] = H_body @ R.T
-        return H, G
+                G[far] += G_far
+        near = slice(None) if not far.any() else ~far
+        body = self.to_body(points[near])
+        if len(body) == 0:
+            return
+        R = self.matrix
+        if gradient:
+            H_body, G_body = closed_form(self.kind, True)(body, *self.params, self.magnetization)
+            # R G_b R^T for every point, through BLAS (batched 3x3 matmul is slow in numpy)
+            rotated = np.tensordot(np.tensordot(G_body, R, axes=([2], [1])), R, axes=([1], [1]))
+            G[near] += rotated.transpose(0, 2, 1)
+        else:
+            H_body = closed_form(self.kind)(body, *self.params, self.magnetization)
+        H[near] += H_body @ R.T
 
 
 _TREES: dict = {}
