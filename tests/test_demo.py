@@ -28,7 +28,8 @@ def test_demo_writes_check_traps_and_pictures(tmp_path, capsys):
     assert traps["length_unit"] == check["length_unit"] == "mm"
     stable = [e for e in traps["equilibria"] if e["class"] == "stable"]
     assert stable
-    headline = printed.strip().splitlines()[-1]
+    headline, caution = printed.strip().splitlines()[-2:]
+    assert "pinching" in caution and "implanted medical devices" in caution
     # the sentence names the stable rest point of the JSON (x to one decimal, in mm)
     assert "caught" in headline and f"{stable[0]['position'][0]:.1f}" in headline
     assert "mm" in headline

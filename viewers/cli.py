@@ -24,7 +24,8 @@ COMMANDS = {
 class _Parser(argparse.ArgumentParser):
     def error(self, message):  # argparse's own usage errors are bad input too: exit 2
         self.print_usage(sys.stderr)
-        raise SceneError(f"{self.prog}: {message}")
+        command = self.prog.removeprefix("trapscape").strip()
+        raise SceneError(f"{command}: {message}" if command else message)
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -59,6 +59,9 @@ def run(args) -> int:
     for what, path in written:
         print(f"{what:>12}: {path}")
     print(headline_sentence(ctx))
+    from physics.traps import CAUTION
+
+    print(CAUTION)
     return 0
 
 
