@@ -129,7 +129,6 @@ def plain_dipole_reference(scene_path: Path, points: np.ndarray, cells: int = 15
 def exact_reference(scene_path: Path, points: np.ndarray) -> np.ndarray:
     from physics.constants import MU0
     from physics.field import FieldModel
-    from physics.sources import Source  # noqa: F401  (documents what is built)
     from scene.loader import load_scene
     from dataclasses import replace
 

@@ -149,8 +149,6 @@ class MultipoleProbe(ProbeModel):
                             f"{max_degree} on {len(self.directions)} Lebedev points")
 
     def _coefficients(self, points, gradient=True):
-        from physics.constants import MU0
-
         points = np.asarray(points, float).reshape(-1, 3)
         n, q = len(points), len(self.directions)
         samples = (points[:, None, :] + self.sample_radius * self.directions[None]).reshape(-1, 3)

@@ -158,8 +158,14 @@ def _dipole_source(magnet, index, accuracy, with_near_zone: bool) -> Source:
     uniform = magnet.radial is None
     M = magnetization_vector(magnet.remanence, magnet.north) if uniform else None
     field_of_cells = M if uniform else (lambda p: body_magnetization(magnet, p))
-    positions, moments, _ = discretise(inside, lower, upper, cell, field_of_cells,
-                                       part_volume(magnet), sdf=sdf)
+    try:
+        positions, moments, _ = discretise(inside, lower, upper, cell, field_of_cells,
+                                           part_volume(magnet), sdf=sdf)
+    except ValueError as error:  # e.g. a cell_size so small the lattice would not fit
+        from scene.errors import SceneError
+
+        raise SceneError(f"magnet '{magnet.name}' ({magnet.origin or 'scene'}): cannot build its "
+                         f"dipole set: {error}.") from None
     R = np.asarray(magnet.rotation, float)
     extra = {}
     if with_near_zone and uniform:

@@ -60,39 +60,3 @@ def make_scene(magnets, probe, box_min, box_max, spacing, constraint_=None, grav
                              spacing=float(spacing)),
         params={}, path="", digest="test",
     )
-
-
-def sphere_distances(magnets, points) -> np.ndarray:
-    """(N, n) signed distance to each sphere magnet's surface (what physics.geometry gives)."""
-    points = np.asarray(points, float).reshape(-1, 3)
-    return np.stack([np.linalg.norm(points - m.position, axis=1) - m.dims[0] / 2.0
-                     for m in magnets], axis=1)
-
-
-def cylinder_distance(magnet, points) -> np.ndarray:
-    """Signed distance to an upright (unrotated) cylinder magnet's surface (derived here)."""
-    body = np.asarray(points, float).reshape(-1, 3) - magnet.position
-    diameter, height = magnet.dims
-    radial = np.hypot(body[:, 0], body[:, 1]) - diameter / 2.0
-    axial = np.abs(body[:, 2]) - height / 2.0
-    outside = np.hypot(np.maximum(radial, 0.0), np.maximum(axial, 0.0))
-    return outside + np.minimum(np.maximum(radial, axial), 0.0)
-
-
-def install_sphere_sdf_if_missing(monkeypatch) -> None:
-    """Until physics.geometry exists, give the field model the spheres' signed distance."""
-    try:
-        import physics.geometry  # noqa: F401
-        return
-    except ImportError:
-        pass
-    import physics.field
-
-    def part_sdf(magnet, points):
-        if magnet.shape == "sphere":
-            return sphere_distances([magnet], points)[:, 0]
-        if magnet.shape == "cylinder":
-            return cylinder_distance(magnet, points)
-        raise ImportError("physics.geometry is not there yet: sphere and cylinder magnets only")
-
-    monkeypatch.setattr(physics.field, "part_sdf", part_sdf)

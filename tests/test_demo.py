@@ -3,7 +3,6 @@ and where the bead is caught."""
 from __future__ import annotations
 
 import json
-from pathlib import Path
 
 from viewers.render import prefer_egl
 

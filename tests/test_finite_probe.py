@@ -8,13 +8,9 @@ from physics.finite_probe import (AveragedProbe, MultipoleProbe, ball_rule,
                                   multipole_susceptibility, relative_energy_correction)
 from physics.probe import PointProbe, ProbeLaw, effective_susceptibility
 from physics.sources import point_dipole
-from scene_factory import (install_sphere_sdf_if_missing, magnet_probe, make_scene, soft_probe,
+from scene_factory import (magnet_probe, make_scene, soft_probe,
                            sphere_magnet, weak_probe)
 
-
-@pytest.fixture(autouse=True)
-def _geometry(monkeypatch):
-    install_sphere_sdf_if_missing(monkeypatch)
 
 
 def test_ball_rule_integrates_degree_seven_exactly():

@@ -6,13 +6,9 @@ from physics.constants import MU0
 from physics.field import FieldModel
 from physics.probe import (PointProbe, ProbeLaw, allowed_basis, effective_susceptibility,
                            project_hessian, project_vectors, projected_force)
-from scene_factory import (constraint, install_sphere_sdf_if_missing, magnet_probe, make_scene,
+from scene_factory import (constraint, magnet_probe, make_scene,
                            soft_probe, sphere_magnet, weak_probe)
 
-
-@pytest.fixture(autouse=True)
-def _geometry(monkeypatch):
-    install_sphere_sdf_if_missing(monkeypatch)
 
 
 def two_spheres():

@@ -7,13 +7,9 @@ from physics.constants import MU0
 from physics.field import FieldModel
 from physics.probe import effective_susceptibility
 from physics.traps import classify, find_traps, levitation_threshold
-from scene_factory import (constraint, cylinder_magnet, install_sphere_sdf_if_missing,
+from scene_factory import (constraint, cylinder_magnet,
                            magnet_probe, make_scene, soft_probe, sphere_magnet, weak_probe)
 
-
-@pytest.fixture(autouse=True)
-def _geometry(monkeypatch):
-    install_sphere_sdf_if_missing(monkeypatch)
 
 
 def traps(scene, **options):
