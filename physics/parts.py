@@ -11,6 +11,10 @@ from physics.sources import Source, magnetization_vector
 NEAR_ZONE_CELLS = 6.0
 HYBRID_CELLS_PER_DIMENSION = 6  # cell of a mesh's dipole set: its smallest dimension / 6
 EXACT_TRIANGLE_LIMIT = 60  # below this, exact everywhere beats any dipole set (40 ns/tri/point)
+# Cut cells of a mesh's set are weighed by 16^3 sub-samples (one ray per column of them, cheap):
+# the largest error of one part's set then falls from 3.5e-3 (4^3) to 1e-3 (measured on the
+# 12-segment benchmark rotor, 2026-12-02).
+MESH_SUBSAMPLES = 16
 RADIAL_CELLS_PER_WALL = 8  # radial parts have no closed form here: a dipole set of wall/8 cells
 
 
@@ -59,12 +63,18 @@ def smallest_dimension(magnet) -> float:
         return float(min(d))
     if magnet.shape == "sphere":
         return float(d[0])
-    lower, upper = body_bounds(magnet)
     vertices, faces = body_mesh(magnet)
     triangles = vertices[faces]
-    area = 0.5 * np.linalg.norm(
-        np.cross(triangles[:, 1] - triangles[:, 0], triangles[:, 2] - triangles[:, 0]), axis=1).sum()
-    return float(min((upper - lower).min(), 6.0 * part_volume(magnet) / area))
+    areas = 0.5 * np.linalg.norm(
+        np.cross(triangles[:, 1] - triangles[:, 0], triangles[:, 2] - triangles[:, 0]), axis=1)
+    # extents along the principal axes of the surface (area-weighted triangle centroids), so a
+    # part exported tilted in assembly coordinates is measured across its own thickness
+    centroids = triangles.mean(axis=1)
+    centred = centroids - np.average(centroids, axis=0, weights=areas)
+    axes = np.linalg.eigh((centred * areas[:, None]).T @ centred)[1]
+    along = vertices @ axes
+    extents = along.max(axis=0) - along.min(axis=0)
+    return float(min(extents.min(), 6.0 * part_volume(magnet) / areas.sum()))
 
 
 def largest_dimension(magnet) -> float:
@@ -160,7 +170,8 @@ def _dipole_source(magnet, index, accuracy, with_near_zone: bool) -> Source:
     field_of_cells = M if uniform else (lambda p: body_magnetization(magnet, p))
     try:
         positions, moments, _ = discretise(inside, lower, upper, cell, field_of_cells,
-                                           part_volume(magnet), sdf=sdf)
+                                           part_volume(magnet), sdf=sdf,
+                                           subsamples=MESH_SUBSAMPLES if sdf is None else 4)
     except ValueError as error:  # e.g. a cell_size so small the lattice would not fit
         from scene.errors import SceneError
 
