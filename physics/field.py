@@ -53,39 +53,38 @@ class FieldModel:
         chosen = [s for s in self.sources if s.part not in exclude]
         H = np.zeros_like(points)
         G = np.zeros((len(points), 3, 3)) if gradient else None
-        dipole_sets = [s for s in chosen if s.kind == "dipoles"]
-        if dipole_sets:
+        plain_sets = [s for s in chosen if s.kind == "dipoles" and s.near is None]
+        if plain_sets:
             from physics.dipole_sum import dipole_H
 
-            positions = np.concatenate([s.dipole_positions for s in dipole_sets])
-            moments = np.concatenate([s.dipole_moments for s in dipole_sets])
-            result = dipole_H(points, positions, moments, gradient=gradient)
-            _accumulate(H, G, result, gradient, slice(None))
-            for source in dipole_sets:
-                if source.near is not None:
-                    self._swap_near_zone(source, points, H, G, gradient)
+            positions = np.concatenate([s.dipole_positions for s in plain_sets])
+            moments = np.concatenate([s.dipole_moments for s in plain_sets])
+            _accumulate(H, G, dipole_H(points, positions, moments, gradient=gradient), gradient,
+                        slice(None))
         for source in chosen:
-            if source.kind != "dipoles":
+            if source.near is not None:
+                self._add_zoned(source, points, H, G, gradient)
+            elif source.kind != "dipoles":
                 source.add_closed_form_H(points, gradient, H, G)
         return H, G
 
     @staticmethod
-    def _swap_near_zone(source, points, H, G, gradient):
-        """Close to a dipole set its error grows (about 1e-1 one cell from the surface): there,
-        replace the set's contribution with the exact form it approximates."""
+    def _add_zoned(source, points, H, G, gradient):
+        """A part with an exact zone: its exact form there, its dipoles only outside it (they
+        sit inside the zone, so their own field is never evaluated close to them)."""
         from physics.dipole_sum import dipole_H
 
         near = source.in_near_zone(points)
-        if not near.any():
-            return
-        approx = dipole_H(points[near], source.dipole_positions, source.dipole_moments,
-                          gradient=gradient, method="direct")
-        exact = source.near.closed_form_H(points[near], gradient)
-        if gradient:
-            H[near] += exact[0] - approx[0]
-            G[near] += exact[1] - approx[1]
-        else:
-            H[near] += exact[0] - approx
+        if near.any():
+            h, g = source.near.closed_form_H(points[near], gradient)
+            H[near] += h
+            if gradient:
+                G[near] += g
+        far = ~near
+        if far.any():
+            result = dipole_H(points[far], source.dipole_positions, source.dipole_moments,
+                              gradient=gradient)
+            _accumulate(H, G, result, gradient, far)
 
     def acting_on(self, index: int, images_only: bool = False) -> "FieldModel":
         """The model of the sources that act on part `index`: all but the part's own charges

@@ -5,15 +5,12 @@ import numpy as np
 
 from physics.sources import Source, magnetization_vector
 
-# A dipole set is replaced by the exact form closer than this many cells to its surface, where
-# its error is above 5e-4 of the local field (physics/dipoles.py ERROR_AT_CELLS). The exact zone
-# is found as "within NEAR_ZONE_CELLS + half a cell diagonal of a dipole".
-NEAR_ZONE_CELLS = 6.0
-HYBRID_CELLS_PER_DIMENSION = 6  # cell of a mesh's dipole set: its smallest dimension / 6
-EXACT_TRIANGLE_LIMIT = 60  # below this, exact everywhere beats any dipole set (40 ns/tri/point)
-# Cut cells of a mesh's set are weighed by 16^3 sub-samples (one ray per column of them, cheap):
-# the largest error of one part's set then falls from 3.5e-3 (4^3) to 1e-3 (measured on the
-# 12-segment benchmark rotor, 2026-12-02).
+# Below this, exact everywhere beats the equivalent sources (the exact form costs ~30-40 ns per
+# triangle and point, 200 equivalent dipoles about 150 ns per point)
+EXACT_TRIANGLE_LIMIT = 60
+# Cut cells of a mesh's lattice set (method = "dipoles") are weighed by 16^3 sub-samples (one
+# ray per column of them, cheap): the largest error of one part's set then falls from 3.5e-3
+# (4^3) to 1e-3 (measured on the 12-segment benchmark rotor, 2026-12-02).
 MESH_SUBSAMPLES = 16
 RADIAL_CELLS_PER_WALL = 8  # radial parts have no closed form here: a dipole set of wall/8 cells
 
@@ -142,28 +139,25 @@ def _exact_source(magnet, index) -> Source:
     return _placed(magnet, index, "polyhedron", body_mesh(magnet), M)
 
 
-def default_cell_size(magnet, accuracy: float, with_near_zone: bool) -> float:
-    """A set with an exact near zone meets the accuracy whatever its cells, so they are chosen
-    for speed; a set on its own needs the cells that meet `accuracy` at 10% of the smallest
-    dimension (physics.dipoles.cell_size_for), but radial parts are capped at wall / 8 to keep
-    the set to a size a laptop builds in seconds (their accuracy then holds from ~half a wall)."""
+def default_cell_size(magnet, accuracy: float) -> float:
+    """The cells that meet `accuracy` at 10% of the smallest dimension
+    (physics.dipoles.cell_size_for), but radial parts are capped at wall / 8 to keep the set to
+    a size a laptop builds in seconds (their accuracy then holds from about half a wall)."""
     if magnet.cell_size:
         return float(magnet.cell_size)
     from physics.dipoles import cell_size_for
 
     smallest = smallest_dimension(magnet)
-    if with_near_zone:
-        return smallest / HYBRID_CELLS_PER_DIMENSION
     if magnet.radial:
         return smallest / RADIAL_CELLS_PER_WALL
     return cell_size_for(accuracy, smallest)
 
 
-def _dipole_source(magnet, index, accuracy, with_near_zone: bool) -> Source:
+def _dipole_source(magnet, index, accuracy) -> Source:
     from physics.dipoles import discretise
 
     inside, sdf = _inside_tests(magnet)
-    cell = default_cell_size(magnet, accuracy, with_near_zone)
+    cell = default_cell_size(magnet, accuracy)
     lower, upper = body_bounds(magnet)
     uniform = magnet.radial is None
     M = magnetization_vector(magnet.remanence, magnet.north) if uniform else None
@@ -178,18 +172,39 @@ def _dipole_source(magnet, index, accuracy, with_near_zone: bool) -> Source:
         raise SceneError(f"magnet '{magnet.name}' ({magnet.origin or 'scene'}): cannot build its "
                          f"dipole set: {error}.") from None
     R = np.asarray(magnet.rotation, float)
-    extra = {}
-    if with_near_zone and uniform:
-        extra = dict(near=_exact_source(magnet, index),
-                     near_radius=(NEAR_ZONE_CELLS + np.sqrt(3.0) / 2.0) * cell)
     source = _placed(magnet, index, "dipoles", (), M,
                      dipole_positions=positions @ R.T + magnet.position,
-                     dipole_moments=moments @ R.T, **extra)
+                     dipole_moments=moments @ R.T)
     if not uniform:
         from dataclasses import replace
 
         source = replace(source, moment=source.dipole_moments.sum(axis=0))
     return source
+
+
+def _equivalent_source(magnet, index) -> Source:
+    """A many-triangle mesh: its exact form within CHECK_RADIUS circumradii of its centre, and
+    beyond that equivalent dipoles fitted to it (physics/equivalent.py), far cheaper per point."""
+    from physics.equivalent import CHECK_RADIUS, fit_equivalent_dipoles
+
+    exact = _exact_source(magnet, index)
+    vertices, faces = body_mesh(magnet)
+    centre = 0.5 * (vertices.min(axis=0) + vertices.max(axis=0))
+    circumradius = float(np.linalg.norm(vertices - centre, axis=1).max())
+    M = exact.magnetization
+
+    def exact_H(body_points):
+        from physics.polyhedron import polyhedron_H
+
+        return polyhedron_H(body_points, vertices, faces, M)
+
+    positions, moments, _ = fit_equivalent_dipoles(exact_H, centre, circumradius)
+    R = np.asarray(magnet.rotation, float)
+    return _placed(magnet, index, "dipoles", (), M,
+                   dipole_positions=positions @ R.T + magnet.position,
+                   dipole_moments=moments @ R.T, near=exact,
+                   near_centre=R @ centre + magnet.position,
+                   near_radius=CHECK_RADIUS * circumradius)
 
 
 def _inside_tests(magnet):
@@ -211,12 +226,10 @@ def _inside_tests(magnet):
 
 def part_sources(magnet, index, accuracy=1e-3) -> list[Source]:
     """The sources that make up one magnet: exact where a closed form exists, else dipoles."""
-    if magnet.radial is not None:
-        return [_dipole_source(magnet, index, accuracy, with_near_zone=False)]
-    if magnet.method == "dipoles":
-        return [_dipole_source(magnet, index, accuracy, with_near_zone=False)]
+    if magnet.radial is not None or magnet.method == "dipoles":
+        return [_dipole_source(magnet, index, accuracy)]
     if magnet.method == "exact" or magnet.shape != "mesh":
         return [_exact_source(magnet, index)]
     if len(magnet.mesh_faces) < EXACT_TRIANGLE_LIMIT:
         return [_exact_source(magnet, index)]
-    return [_dipole_source(magnet, index, accuracy, with_near_zone=True)]
+    return [_equivalent_source(magnet, index)]

@@ -49,7 +49,7 @@ class Source:
     kind: a key of CLOSED_FORMS, or "dipoles". params: the body-frame dims passed to the closed
     form before the magnetisation (for "polyhedron": vertices, faces). For "dipoles" the world
     positions and moments are in dipole_positions / dipole_moments, and a polyhedron may be kept
-    in `near` to evaluate exactly at points within near_radius of one of the dipoles.
+    in `near` to evaluate exactly at points within near_radius of near_centre.
     """
 
     name: str
@@ -65,7 +65,8 @@ class Source:
     dipole_positions: np.ndarray | None = None
     dipole_moments: np.ndarray | None = None
     near: "Source | None" = None
-    near_radius: float = 0.0  # points closer than this to a dipole are evaluated by `near`
+    near_centre: np.ndarray | None = None  # world; points within near_radius of it use `near`
+    near_radius: float = 0.0
 
     def to_body(self, points: np.ndarray) -> np.ndarray:
         return (points - self.center) @ self.matrix
@@ -75,8 +76,7 @@ class Source:
         return distance > FAR_FIELD_SIZES * self.size
 
     def in_near_zone(self, points: np.ndarray) -> np.ndarray:
-        distance, _ = _cell_tree(self).query(points, distance_upper_bound=self.near_radius)
-        return np.isfinite(distance)
+        return np.linalg.norm(points - self.near_centre, axis=1) < self.near_radius
 
     def closed_form_H(self, points: np.ndarray, gradient: bool):
         """H (and dH/dx) of a closed-form source at world points, dipole far away."""
@@ -106,19 +106,6 @@ class Source:
         else:
             H_body = closed_form(self.kind)(body, *self.params, self.magnetization)
         H[near] += H_body @ R.T
-
-
-_TREES: dict = {}
-
-
-def _cell_tree(source: Source):
-    """k-d tree of a dipole set's positions, built once per source (sources are immutable)."""
-    from scipy.spatial import cKDTree
-
-    key = id(source.dipole_positions)
-    if key not in _TREES:
-        _TREES[key] = (source.dipole_positions, cKDTree(source.dipole_positions))
-    return _TREES[key][1]
 
 
 def point_dipole(points, center, moment, gradient=False):
@@ -160,7 +147,8 @@ def mirrored(source: Source, point: np.ndarray, normal: np.ndarray, name_suffix:
             dipole_moments=-(source.dipole_moments @ P.T),
         )
     if source.near is not None:
-        image = replace(image, near=mirrored(source.near, point, normal, name_suffix))
+        image = replace(image, near=mirrored(source.near, point, normal, name_suffix),
+                        near_centre=reflect(source.near_centre))
     return image
 
 
