@@ -37,7 +37,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from physics.constants import MU0
-from physics.parts import body_magnetization, largest_dimension
+from physics.parts import body_magnetization, bounding_diagonal
 
 GAUSS_ORDER = 4  # points per direction in each panel
 MAX_ROUNDS = 60  # rounds of refinement at most (each splits the worst panels in two)
@@ -217,7 +217,7 @@ class _PartIntegrand:
         self.families = families
         self.acting = acting
         self.reference = reference
-        self.scale = largest_dimension(magnet)
+        self.scale = bounding_diagonal(magnet)
         self.push = INWARD_PUSH * self.scale
         self.rules = {d: _gauss_box(d) for d in (2, 3)}
         self.rotation = np.asarray(magnet.rotation, float)

@@ -175,7 +175,7 @@ def saturation_onset_gap(scene, part=None, plate=None, relative: float = 1e-3) -
     """The gap (m) below which the plate-saturation warning holds (None: never, even in
     contact). The estimate falls with the gap; found by bisection."""
     from physics.field import FieldModel
-    from physics.parts import largest_dimension
+    from physics.parts import bounding_diagonal
     from physics.saturation import footprint, plate_flux_density
 
     moving = moving_parts(scene, part)
@@ -189,7 +189,7 @@ def saturation_onset_gap(scene, part=None, plate=None, relative: float = 1e-3) -
     if not saturated(0.0):
         return None
     low = 0.0
-    high = max(largest_dimension(scene.magnets[i]) for i in moving)
+    high = max(bounding_diagonal(scene.magnets[i]) for i in moving)
     for _ in range(ONSET_STEPS):
         if not saturated(high):
             break

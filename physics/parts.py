@@ -4,6 +4,8 @@ from __future__ import annotations
 import numpy as np
 
 from physics.sources import Source, magnetization_vector
+from scene.measures import smallest_dimension
+from scene.measures import volume as part_volume
 
 # Below this, exact everywhere beats the equivalent sources (the exact form costs ~30-40 ns per
 # triangle and point, 200 equivalent dipoles about 150 ns per point)
@@ -43,38 +45,8 @@ def body_mesh(magnet):
     raise ValueError(f"{magnet.shape} has no mesh")
 
 
-def part_volume(magnet) -> float:
-    from scene.measures import volume
-
-    return volume(magnet)
-
-
-def smallest_dimension(magnet) -> float:
-    """The thinnest extent of a part (a ring's or arc's wall counts), m."""
-    d = magnet.dims
-    if magnet.shape in ("ring", "arc"):
-        return min((d[0] - d[1]) / 2.0, d[2])
-    if magnet.shape == "box":
-        return float(min(d))
-    if magnet.shape == "cylinder":
-        return float(min(d))
-    if magnet.shape == "sphere":
-        return float(d[0])
-    vertices, faces = body_mesh(magnet)
-    triangles = vertices[faces]
-    areas = 0.5 * np.linalg.norm(
-        np.cross(triangles[:, 1] - triangles[:, 0], triangles[:, 2] - triangles[:, 0]), axis=1)
-    # extents along the principal axes of the surface (area-weighted triangle centroids), so a
-    # part exported tilted in assembly coordinates is measured across its own thickness
-    centroids = triangles.mean(axis=1)
-    centred = centroids - np.average(centroids, axis=0, weights=areas)
-    axes = np.linalg.eigh((centred * areas[:, None]).T @ centred)[1]
-    along = vertices @ axes
-    extents = along.max(axis=0) - along.min(axis=0)
-    return float(min(extents.min(), 6.0 * part_volume(magnet) / areas.sum()))
-
-
-def largest_dimension(magnet) -> float:
+def bounding_diagonal(magnet) -> float:
+    """Diagonal of the body-frame bounding box, m: the part's size for scales and far-field tests."""
     lower, upper = body_bounds(magnet)
     return float(np.linalg.norm(upper - lower))
 
@@ -125,7 +97,7 @@ def _placed(magnet, index, kind, params, magnetization, **extra) -> Source:
     return Source(
         name=magnet.name, part=index, kind=kind, params=params,
         center=np.asarray(magnet.position, float), matrix=np.asarray(magnet.rotation, float),
-        magnetization=magnetization, size=largest_dimension(magnet), moment=moment, **extra,
+        magnetization=magnetization, size=bounding_diagonal(magnet), moment=moment, **extra,
     )
 
 

@@ -115,8 +115,23 @@ def smallest_dimension(magnet) -> float:
     if magnet.shape in ("ring", "arc"):
         return float(min((d[0] - d[1]) / 2.0, d[2]))
     if magnet.shape == "mesh":
-        return float(np.ptp(magnet.mesh_vertices, axis=0).min())
+        return _mesh_thickness(np.asarray(magnet.mesh_vertices, float), np.asarray(magnet.mesh_faces))
     return float(min(d))
+
+
+def _mesh_thickness(vertices, faces) -> float:
+    """The smaller of the extent along the surface's principal axes (area-weighted triangle
+    centroids: a part exported tilted in assembly coordinates is measured across its own
+    thickness) and 6 V / A (a cube's edge, a sphere's diameter, three times a thin wall)."""
+    triangles = vertices[faces]
+    areas = 0.5 * np.linalg.norm(
+        np.cross(triangles[:, 1] - triangles[:, 0], triangles[:, 2] - triangles[:, 0]), axis=1)
+    centroids = triangles.mean(axis=1)
+    centred = centroids - np.average(centroids, axis=0, weights=areas)
+    axes = np.linalg.eigh((centred * areas[:, None]).T @ centred)[1]
+    along = vertices @ axes
+    extents = along.max(axis=0) - along.min(axis=0)
+    return float(min(extents.min(), 6.0 * mesh_volume(vertices, faces) / areas.sum()))
 
 
 def scene_bounding_box(magnets) -> tuple[np.ndarray, np.ndarray]:
