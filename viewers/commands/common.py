@@ -1,6 +1,7 @@
 """Options and helpers shared by the sub-commands."""
 from __future__ import annotations
 
+import contextlib
 import json
 import math
 import sys
@@ -27,6 +28,29 @@ def load_scene_from_args(args):
 
 def show_progress(args) -> bool:
     return not getattr(args, "quiet", False) and sys.stderr.isatty()
+
+
+@contextlib.contextmanager
+def progress(args, unit="pt", desc=None):
+    """A progress callback ``update(done, total, stage=None)`` drawn on stderr at a terminal, or
+    None (with --quiet or when stderr is not a terminal). The bar is closed on the way out."""
+    if not show_progress(args):
+        yield None
+        return
+    from tqdm import tqdm
+
+    bar = tqdm(file=sys.stderr, unit=unit, desc=desc, leave=False)
+
+    def update(done, total, stage=None):
+        bar.total = total
+        if stage is not None:
+            bar.set_description(stage)
+        bar.update(done - bar.n)
+
+    try:
+        yield update
+    finally:
+        bar.close()
 
 
 def _clean(value):

@@ -76,20 +76,12 @@ def write_check(scene, path: Path) -> Path:
 def find_report(scene, args):
     """The trap report, computed once and shared with the view."""
     from physics.traps import find_traps
-    from viewers.commands.common import show_progress
+    from viewers.commands.common import progress
     from viewers.layers.context import ViewContext
 
     ctx = ViewContext(scene)
-    bar = None
-    if show_progress(args):
-        from viewers.commands.traps import _progress_bar
-
-        bar = _progress_bar()
-    try:
-        report = find_traps(ctx.model, scene, progress=bar.update_to if bar else None)
-    finally:
-        if bar:
-            bar.close()
+    with progress(args, desc="scan") as update:
+        report = find_traps(ctx.model, scene, progress=update)
     ctx.__dict__["trap_report"] = report  # cached_property: the view uses this one
     return report, ctx
 

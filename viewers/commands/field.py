@@ -7,7 +7,7 @@ import math
 import numpy as np
 
 from scene.errors import SceneError
-from viewers.commands.common import add_scene_arguments, load_scene_from_args, show_progress
+from viewers.commands.common import add_scene_arguments, load_scene_from_args, progress
 
 AXES = {"x": 0, "y": 1, "z": 2}
 
@@ -34,12 +34,8 @@ def run(args) -> int:
     from physics.field import FieldModel
 
     model = FieldModel.from_scene(scene)
-    bar = _progress_bar(len(points)) if show_progress(args) else None
-    try:
-        H = model.applied_H(points, progress=bar.update_to if bar else None)
-    finally:
-        if bar:
-            bar.close()
+    with progress(args, unit="pt", desc="field") as update:
+        H = model.applied_H(points, progress=update)
     B = 4e-7 * np.pi * (H + model.magnetization(points))
     in_model = model.in_model(points)
     if args.out:
@@ -188,14 +184,3 @@ def _plot(path, scene, points, B, layout):
     finally:
         plt.close(fig)
 
-
-def _progress_bar(total):
-    from tqdm import tqdm
-
-    bar = tqdm(total=total, unit="pt", unit_scale=True, desc="field", leave=False)
-
-    def update_to(done, _total):
-        bar.update(done - bar.n)
-
-    bar.update_to = update_to
-    return bar

@@ -7,7 +7,7 @@ import re
 import numpy as np
 
 from scene.errors import SceneError
-from viewers.commands.common import (add_scene_arguments, load_scene_from_args, show_progress,
+from viewers.commands.common import (add_scene_arguments, load_scene_from_args, progress,
                                      stamp, write_json)
 
 _NUMBER = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"
@@ -70,13 +70,9 @@ def run(args) -> int:
     gaps = parse_gaps(args.gap)
     moving = moving_parts(scene, args.part)
     _, plate = choose_plate(scene, args.plate, moving)
-    bar = _progress_bar(len(gaps)) if show_progress(args) else None
-    try:
+    with progress(args, unit="gap", desc="pull") as update:
         rows = pull_curve(scene, gaps * scene.unit_scale, part=args.part, friction=args.friction,
-                          plate=plate.name, progress=bar.update_to if bar else None)
-    finally:
-        if bar:
-            bar.close()
+                          plate=plate.name, progress=update)
     onset = saturation_onset_gap(scene, part=args.part, plate=plate.name)
     onset_file = None if onset is None else onset / scene.unit_scale
     _print_table(scene, rows, plate, args, onset_file)
@@ -157,14 +153,3 @@ def _plot(path, scene, rows, plate, args):
     finally:
         plt.close(figure)
 
-
-def _progress_bar(total):
-    from tqdm import tqdm
-
-    bar = tqdm(total=total, unit="gap", desc="pull", leave=False)
-
-    def update_to(done, _total):
-        bar.update(done - bar.n)
-
-    bar.update_to = update_to
-    return bar

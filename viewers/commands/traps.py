@@ -2,11 +2,9 @@
 table on the terminal and JSON as DESIGN.md, Command line (null, never NaN)."""
 from __future__ import annotations
 
-import sys
-
 import numpy as np
 
-from viewers.commands.common import (add_scene_arguments, load_scene_from_args, show_progress,
+from viewers.commands.common import (add_scene_arguments, load_scene_from_args, progress,
                                      stamp, write_json)
 
 
@@ -21,29 +19,13 @@ def run(args) -> int:
 
     scene = load_scene_from_args(args)
     model = FieldModel.from_scene(scene)
-    bar = _progress_bar() if show_progress(args) else None
-    try:
-        report = find_traps(model, scene, progress=bar.update_to if bar else None)
-    finally:
-        if bar:
-            bar.close()
+    with progress(args, desc="scan") as update:
+        report = find_traps(model, scene, progress=update)
     print(format_table(report, scene))
     if args.json:
         write_json(args.json, stamp(scene, report_json(report, scene)))
         print(f"wrote {args.json}")
     return 0
-
-
-def _progress_bar():
-    from tqdm import tqdm
-
-    class Bar(tqdm):
-        def update_to(self, done, total, stage="scan"):
-            self.total = total
-            self.set_description(stage)
-            self.update(done - self.n)
-
-    return Bar(file=sys.stderr, unit="pt", leave=False)
 
 
 # -- JSON -----------------------------------------------------------------------------------------
