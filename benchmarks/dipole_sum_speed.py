@@ -24,10 +24,9 @@ from pathlib import Path  # noqa: E402
 
 import numpy as np  # noqa: E402
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from physics import fmm  # noqa: E402
-from physics.dipole_sum import dipole_H, dipole_H_numpy  # noqa: E402
+from trapscape.physics.field import fmm  # noqa: E402
+from trapscape.physics.field.dipole_sum import dipole_H, dipole_H_numpy  # noqa: E402
 
 MU0 = 4e-7 * np.pi
 PARTS = 12

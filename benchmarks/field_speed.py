@@ -25,7 +25,6 @@ from pathlib import Path
 import numpy as np
 
 ROOT = Path(__file__).resolve().parents[1]
-sys.path.insert(0, str(ROOT))
 
 ARC_STEPS = 96  # facets along each arc: 4 * 96 * 2 + 4 = 772 triangles per part
 
@@ -76,8 +75,8 @@ def run_engine(scene: Path, count: int, gradient: bool, grid: int | None) -> tup
     out = scene.with_suffix(".npy")
     code = textwrap.dedent(f"""
         import numpy as np
-        from scene.loader import load_scene
-        from physics.field import FieldModel
+        from trapscape.scene.loader import load_scene
+        from trapscape.physics.field.model import FieldModel
         scene = load_scene({str(scene)!r})
         model = FieldModel.from_scene(scene)
         grid = {grid!r}
@@ -100,10 +99,10 @@ def run_engine(scene: Path, count: int, gradient: bool, grid: int | None) -> tup
 def plain_dipole_reference(scene_path: Path, points: np.ndarray, cells: int = 15) -> np.ndarray:
     """Each part as cells^3 cubes on its bounding box, kept where the centre is inside, summed
     with numpy broadcasting (the implementation anyone would write first)."""
-    from physics.constants import MU0
-    from physics.parts import body_bounds, body_mesh, part_volume
-    from physics.polyhedron import winding_number
-    from scene.loader import load_scene
+    from trapscape.scene.units import MU0
+    from trapscape.physics.field.parts import body_bounds, body_mesh, part_volume
+    from trapscape.physics.field.polyhedron import winding_number
+    from trapscape.scene.loader import load_scene
 
     scene = load_scene(scene_path)
     B = np.zeros_like(points)
@@ -131,9 +130,9 @@ def exact_reference(scene_path: Path, points: np.ndarray):
     s = max(|B|, 0.01 sum_k |B_k|), from each part's own exact field."""
     from dataclasses import replace
 
-    from physics.constants import MU0
-    from physics.field import FieldModel
-    from scene.loader import load_scene
+    from trapscape.scene.units import MU0
+    from trapscape.physics.field.model import FieldModel
+    from trapscape.scene.loader import load_scene
 
     scene = load_scene(scene_path)
     parts = [MU0 * FieldModel.from_scene(replace(scene, magnets=(replace(m, method="exact"),)))
@@ -159,8 +158,8 @@ def case_mesh(points_count: int) -> None:
         B_plain = plain_dipole_reference(scene, subset)
         plain_s = (time.perf_counter() - start) * points_count / len(subset)
         truth, scale = exact_reference(scene, subset)
-        from physics.field import FieldModel
-        from scene.loader import load_scene
+        from trapscape.physics.field.model import FieldModel
+        from trapscape.scene.loader import load_scene
 
         outside = FieldModel.from_scene(load_scene(scene)).inside_magnet(subset) < 0
         e_engine = scale_errors(B_engine[:len(subset)], truth, scale)[outside]

@@ -13,9 +13,8 @@ import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
-sys.path.insert(0, str(ROOT))
 
-from viewers.render import prefer_egl  # noqa: E402
+from trapscape.viewers.render import prefer_egl  # noqa: E402
 
 prefer_egl()
 
@@ -23,11 +22,11 @@ TARGET_S = 10.0
 
 
 def time_sample(name: str, spec: str | None, size=(1600, 1200)) -> tuple[float, float]:
-    from scene.loader import load_scene
-    from viewers.layers import layer_module, parse_layers
-    from viewers.layers.context import ViewContext
-    from viewers.layers.section import section_grid
-    from viewers.render import RenderOptions, prepare, render_png
+    from trapscape.scene.loader import load_scene
+    from trapscape.viewers.layers import layer_module, parse_layers
+    from trapscape.viewers.layers.context import ViewContext
+    from trapscape.viewers.layers.section import section_grid
+    from trapscape.viewers.render import RenderOptions, prepare, render_png
 
     scene = load_scene(str(ROOT / "samples" / f"{name}.toml"))
     layers = parse_layers(spec, scene)

@@ -20,9 +20,9 @@ SAMPLES = os.path.join(HERE, "..", "samples")
 
 
 def time_sample(path: str) -> tuple:
-    from physics.field import FieldModel
-    from physics.traps import find_traps, scan_grid_geometry
-    from scene.loader import load_scene
+    from trapscape.physics.field.model import FieldModel
+    from trapscape.physics.traps.search import find_traps, scan_grid_geometry
+    from trapscape.scene.loader import load_scene
 
     scene = load_scene(path)
     model = FieldModel.from_scene(scene)

@@ -10,8 +10,8 @@ import ast
 import math
 import operator
 
-from scene.errors import SceneError
-from scene.names import did_you_mean
+from trapscape.scene.errors import SceneError
+from trapscape.scene.names import did_you_mean
 
 FUNCTIONS = {
     "sqrt": math.sqrt, "sin": math.sin, "cos": math.cos, "tan": math.tan,

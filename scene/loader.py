@@ -39,18 +39,18 @@ from pathlib import Path
 
 import numpy as np
 
-from scene import reading
-from scene.errors import SceneError, SceneWarning
-from scene.expressions import evaluate_params
-from scene.grades import built_in_grades, find_grade, load_materials
-from scene.measures import largest_dimension, scene_bounding_box
-from scene.model import (CONSTRAINT_KINDS, PROBE_KINDS, Constraint, Probe, Scene, SearchBox,
+from trapscape.scene import reading
+from trapscape.scene.errors import SceneError, SceneWarning
+from trapscape.scene.expressions import evaluate_params
+from trapscape.scene.grades import built_in_grades, find_grade, load_materials
+from trapscape.scene.measures import largest_dimension, scene_bounding_box
+from trapscape.scene.model import (CONSTRAINT_KINDS, PROBE_KINDS, Constraint, Probe, Scene, SearchBox,
                          SteelPlate, frozen_array)
-from scene.overlaps import overlapping_pairs
-from scene.parts import AXIS_WORDS, check_remanence, read_magnets
-from scene.reading import Context
-from scene.tomlfile import parse_toml
-from scene.units import unit_scale
+from trapscape.scene.overlaps import overlapping_pairs
+from trapscape.scene.parts import AXIS_WORDS, check_remanence, read_magnets
+from trapscape.scene.reading import Context
+from trapscape.scene.tomlfile import parse_toml
+from trapscape.scene.units import unit_scale
 
 TOP_KEYS = ("version", "title", "units", "gravity", "params", "materials", "magnet",
             "steel_plate", "probe", "search_box")
@@ -205,7 +205,7 @@ def _plates(ctx: Context, document, magnets) -> list:
 
 
 def _check_in_front(ctx, plate, magnets, where):
-    from scene.measures import extent_along
+    from trapscape.scene.measures import extent_along
 
     for magnet in magnets:
         low, _ = extent_along(magnet, plate.normal)

@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from physics.constants import MU0  # a plain constant module: importing it pulls in no physics
+from trapscape.scene.units import MU0
 
 
 def mesh_volume(vertices: np.ndarray, faces: np.ndarray) -> float:

@@ -15,9 +15,9 @@ from pathlib import Path
 
 import numpy as np
 
-from scene.errors import SceneError, SceneWarning
-from scene.measures import mesh_volume
-from scene.units import METRES_PER_3MF_UNIT
+from trapscape.scene.errors import SceneError, SceneWarning
+from trapscape.scene.measures import mesh_volume
+from trapscape.scene.units import METRES_PER_3MF_UNIT
 
 FORMATS = {".stl": "stl", ".obj": "obj", ".ply": "ply", ".3mf": "3mf"}
 REPAIR_HINT = "repair it in CAD or a mesh tool (close the holes, export as a solid) and export again"

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from scene.measures import bounding_box, smallest_dimension
+from trapscape.scene.measures import bounding_box, smallest_dimension
 
 LATTICE = 21  # points per axis (odd, so the centre of the intersection is on it)
 PAIR_BUDGET = 4e6  # point-triangle pairs of winding numbers per mesh test (~0.3 s of numpy)

@@ -6,13 +6,13 @@ from pathlib import Path
 
 import numpy as np
 
-from scene import patterns, reading
-from scene.errors import SceneError, SceneWarning
-from scene.grades import find_grade
-from scene.meshes import read_mesh
-from scene.model import SHAPES, Magnet, frozen_array
-from scene.reading import Context
-from scene.units import unit_scale
+from trapscape.scene import patterns, reading
+from trapscape.scene.errors import SceneError, SceneWarning
+from trapscape.scene.grades import find_grade
+from trapscape.scene.meshes import read_mesh
+from trapscape.scene.model import SHAPES, Magnet, frozen_array
+from trapscape.scene.reading import Context
+from trapscape.scene.units import unit_scale
 
 MAX_PARTS = 10000  # more parts than any assembly we model; also bounds the pairwise checks
 
@@ -191,7 +191,7 @@ def _north(ctx, entry, shape, where):
             return None, word
         if word in AXIS_WORDS:
             return AXIS_WORDS[word].copy(), None
-        from scene.names import did_you_mean
+        from trapscape.scene.names import did_you_mean
 
         hint = did_you_mean(word, list(AXIS_WORDS) + list(RADIAL))
         raise SceneError(f"{key_where}: \"{value}\" is not a direction{hint}; write an axis "

@@ -10,9 +10,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from scene.errors import SceneError
-from scene.expressions import evaluate, type_word
-from scene.names import did_you_mean, listing
+from trapscape.scene.errors import SceneError
+from trapscape.scene.expressions import evaluate, type_word
+from trapscape.scene.names import did_you_mean, listing
 
 REQUIRED = object()
 # keys of the file's top level: written after a [table] header, TOML puts them in that table

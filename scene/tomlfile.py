@@ -4,7 +4,7 @@ from __future__ import annotations
 import re
 import sys
 
-from scene.errors import SceneError
+from trapscape.scene.errors import SceneError
 
 if sys.version_info >= (3, 11):
     import tomllib

@@ -1,8 +1,10 @@
 """Length units of scene and mesh files, converted to metres at load time."""
 from __future__ import annotations
 
-from scene.errors import SceneError
-from scene.names import did_you_mean, listing
+import math
+
+from trapscape.scene.errors import SceneError
+from trapscape.scene.names import did_you_mean, listing
 
 # metres per unit; the inch is exactly 25.4 mm by definition (international yard and pound, 1959)
 METRES_PER_UNIT = {"mm": 1e-3, "cm": 1e-2, "m": 1.0, "in": 0.0254}
@@ -22,3 +24,5 @@ def unit_scale(unit, where: str) -> float:
             f"use one of {listing(sorted(METRES_PER_UNIT))}."
         )
     return METRES_PER_UNIT[unit]
+
+MU0 = 4e-7 * math.pi  # vacuum permeability, T m / A (CODATA 2018 value differs by < 1e-9 relative)

@@ -12,7 +12,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from viewers.render import prefer_egl  # noqa: E402
+from trapscape.viewers.render import prefer_egl  # noqa: E402
 
 prefer_egl()
 
@@ -24,12 +24,12 @@ PICTURES = (  # (sample, file, what)
 
 
 def main() -> int:
-    from scene.loader import load_scene
-    from viewers.commands.render import parse_size
-    from viewers.layers import default_layers
-    from viewers.layers.context import ViewContext
-    from viewers.polarity import draw_polarity_map
-    from viewers.render import RenderOptions, render_png
+    from trapscape.scene.loader import load_scene
+    from trapscape.viewers.commands.render import parse_size
+    from trapscape.viewers.layers import default_layers
+    from trapscape.viewers.layers.context import ViewContext
+    from trapscape.viewers.polarity import draw_polarity_map
+    from trapscape.viewers.render import RenderOptions, render_png
 
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--size", default="1200x900")

@@ -5,7 +5,7 @@ import math
 
 import numpy as np
 
-from scene.model import (Constraint, Magnet, Probe, Scene, SearchBox, SteelPlate, frozen_array)
+from trapscape.scene.model import (Constraint, Magnet, Probe, Scene, SearchBox, SteelPlate, frozen_array)
 
 N42_REMANENCE = 1.30  # tesla, typical of N42 (from memory)
 

@@ -28,7 +28,7 @@ def write_diagonal(name: str, path: Path) -> Path:
     """61 points on the search box's diagonal, in the scene unit, as a `field --points` CSV."""
     import numpy as np
 
-    from scene.loader import load_scene
+    from trapscape.scene.loader import load_scene
 
     scene = load_scene(SAMPLES / f"{name}.toml")
     lo, hi = (np.asarray(v) / scene.unit_scale for v in (scene.search_box.min, scene.search_box.max))
@@ -59,7 +59,7 @@ def commands(name: str, out: Path) -> dict[str, list[str]]:
 
 def produce(name: str, out: Path) -> list[Path]:
     """Run the commands of one sample in this process; return the files written."""
-    from viewers.cli import main
+    from trapscape.viewers.cli import main
 
     written = []
     for kind, args in commands(name, out).items():

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from scene.model import Constraint, Magnet, Probe, Scene, SearchBox, SteelPlate, frozen_array
+from trapscape.scene.model import Constraint, Magnet, Probe, Scene, SearchBox, SteelPlate, frozen_array
 
 
 def sphere_magnet(name, position, diameter, north=(0, 0, 1), remanence=1.3) -> Magnet:

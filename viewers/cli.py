@@ -8,7 +8,7 @@ import argparse
 import importlib
 import sys
 
-from scene.errors import SceneError
+from trapscape.scene.errors import SceneError
 
 COMMANDS = {
     "check": "validate a scene and list its parts, volumes and moments",
@@ -39,7 +39,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"trapscape {tool_version}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     for name, help_text in COMMANDS.items():
-        module = importlib.import_module(f"viewers.commands.{name}")
+        module = importlib.import_module(f"trapscape.viewers.commands.{name}")
         command_parser = sub.add_parser(name, help=help_text, description=help_text)
         module.add_arguments(command_parser)
         command_parser.set_defaults(run=module.run)
@@ -47,7 +47,7 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def _one_line_warning(message, category, filename, lineno, file=None, line=None):
-    from scene.errors import SceneWarning
+    from trapscape.scene.errors import SceneWarning
 
     if issubclass(category, SceneWarning):
         print(f"trapscape: warning: {message}", file=sys.stderr)

@@ -13,7 +13,7 @@ from pathlib import Path
 
 import numpy as np
 
-from scene.errors import SceneError
+from trapscape.scene.errors import SceneError
 
 GEOMETRY_DEFAULTS = ("magnets", "markers", "wells", "isosurfaces", "hover")
 MAX_GRID_POINTS = 2_000_000  # beyond this the .vti grid is coarsened (said on stderr)
@@ -38,7 +38,7 @@ def format_of(path: str) -> str:
 
 
 def _stamp(ctx, dataset) -> None:
-    from viewers.commands.common import tool_version
+    from trapscape.viewers.commands.common import tool_version
 
     dataset.field_data["length_unit"] = np.array([ctx.unit])
     dataset.field_data["metres_per_length_unit"] = np.array([ctx.scale])
@@ -72,7 +72,7 @@ def grid_spacing(ctx, spacing=None, resolution=None) -> tuple[float, str | None]
 
 def field_grid(ctx, spacing: float):
     """ImageData over the search box (scene unit) with the field and probe arrays."""
-    from viewers.layers.probe_data import energy_and_force
+    from trapscape.viewers.layers.probe_data import energy_and_force
 
     lower, upper = ctx.box_bounds
     grid = ctx.sample_grid(lower, upper, spacing)
@@ -97,7 +97,7 @@ def export_vti(ctx, path: str, spacing=None, resolution=None) -> list:
 
 def layer_geometry(ctx, layers) -> list:
     """[(layer, object name, PolyData)] of every chosen layer that has geometry."""
-    from viewers.layers import layer_module
+    from trapscape.viewers.layers import layer_module
 
     pieces = []
     for layer in layers:
@@ -160,7 +160,7 @@ def export_stl(ctx, path: str, layers) -> list:
 
 def export_html(ctx, path: str, options) -> list:
     """The scene view as one HTML file (vtk.js inside, no server, nothing fetched)."""
-    from viewers.render import build_plotter
+    from trapscape.viewers.render import build_plotter
 
     try:
         import trame_pyvista  # noqa: F401  (pyvista's HTML export goes through it)
@@ -185,8 +185,8 @@ def _add_page_text(ctx, path: str, options, legend) -> None:
     """Title, legend and equilibria as plain HTML over the 3D view (vtk.js draws no text)."""
     import html
 
-    from viewers.layers.annotations import title_lines
-    from viewers.layers.markers import table_rows
+    from trapscape.viewers.layers.annotations import title_lines
+    from trapscape.viewers.layers.markers import table_rows
 
     title, subtitle = title_lines(ctx.scene, ctx.section)
     title = options.title or title
@@ -219,7 +219,7 @@ def _add_page_text(ctx, path: str, options, legend) -> None:
 def _css_colour_bar(ctx, options) -> str:
     """The |B| colour scale as a CSS gradient with five labelled stops (vtk.js's own bar shows
     a log scale's ticks wrongly)."""
-    from viewers.render import colour_scale
+    from trapscape.viewers.render import colour_scale
 
     scale = colour_scale(ctx, options)
     low, high = scale.clim
@@ -244,7 +244,7 @@ def _css(colour) -> str:
 
 def export(ctx, path: str, layers=None, options=None, spacing=None, resolution=None) -> list:
     """Write `path` in the format its extension names; returns the files written."""
-    from viewers.render import RenderOptions, prepare
+    from trapscape.viewers.render import RenderOptions, prepare
 
     kind = format_of(path)
     check_writable(path)

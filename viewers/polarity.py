@@ -6,14 +6,14 @@ from __future__ import annotations
 
 import numpy as np
 
-from viewers.layers import style
+from trapscape.viewers.layers import style
 
 UP_THRESHOLD = 0.7  # |north . z| above this: the part shows a pole face from above
 
 
 def footprint_triangles(ctx, index: int) -> np.ndarray:
     """(T, 3, 2) the part's upward-facing triangles seen from above (x, y), scene unit."""
-    from viewers.layers.magnets import world_meshes
+    from trapscape.viewers.layers.magnets import world_meshes
 
     mesh = world_meshes(ctx)[index].triangulate().compute_normals(
         cell_normals=True, point_normals=False, split_vertices=False, consistent_normals=False)
@@ -25,7 +25,7 @@ def footprint_triangles(ctx, index: int) -> np.ndarray:
 def silhouette_segments(ctx, index: int) -> np.ndarray:
     """(S, 2, 2) outline seen from above: edges between a face looking up and one that does
     not (derived here: the silhouette of a closed surface under a view along z)."""
-    from viewers.layers.magnets import world_meshes
+    from trapscape.viewers.layers.magnets import world_meshes
 
     mesh = world_meshes(ctx)[index].triangulate().compute_normals(
         cell_normals=True, point_normals=False, split_vertices=False, consistent_normals=False)
@@ -160,7 +160,7 @@ def _side_arrows(ctx, index, magnet, anchor):
     if magnet.radial is None:
         north = R @ (magnet.north / np.linalg.norm(magnet.north))
         flat = north[:2] / (np.linalg.norm(north[:2]) or 1.0)
-        from viewers.layers.magnets import world_meshes
+        from trapscape.viewers.layers.magnets import world_meshes
 
         points = np.asarray(world_meshes(ctx)[index].points)
         reach = float(np.max((points[:, :2] - anchor) @ flat))

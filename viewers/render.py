@@ -48,8 +48,8 @@ class RenderOptions:
 def view_vectors(camera: str):
     """(direction to the camera, up, right), unit vectors."""
     if camera not in CAMERAS:
-        from scene.errors import SceneError
-        from scene.names import did_you_mean, listing
+        from trapscape.scene.errors import SceneError
+        from trapscape.scene.names import did_you_mean, listing
 
         raise SceneError(f"--camera {camera!r} is not a preset{did_you_mean(camera, CAMERAS)}; "
                          f"choose {listing(CAMERAS)}.")
@@ -74,7 +74,7 @@ def prepare(ctx, options: RenderOptions) -> None:
     ctx.iso_levels_T = options.iso_levels_T
     ctx.cutaway = options.cutaway
     if "section" in options.layers:
-        from viewers.layers.section import choose_section
+        from trapscape.viewers.layers.section import choose_section
 
         ctx.section = choose_section(ctx, direction, options.section_axis, options.section_level)
     else:
@@ -82,7 +82,7 @@ def prepare(ctx, options: RenderOptions) -> None:
 
 
 def colour_scale(ctx, options):
-    from viewers.layers.annotations import ColourScale
+    from trapscape.viewers.layers.annotations import ColourScale
 
     low, high = ctx.B_range_mT
     if not options.log_scale:
@@ -99,11 +99,11 @@ def build_plotter(ctx, options: RenderOptions, off_screen: bool = True, overlay:
         prefer_egl()
     import pyvista as pv
 
-    from viewers.layers import layer_module
-    from viewers.layers.annotations import Legend
-    from viewers.layers.cutaway import hidden_parts
-    from viewers.layers.magnets import world_meshes
-    from viewers.layers.style import BACKGROUND
+    from trapscape.viewers.layers import layer_module
+    from trapscape.viewers.layers.annotations import Legend
+    from trapscape.viewers.layers.cutaway import hidden_parts
+    from trapscape.viewers.layers.magnets import world_meshes
+    from trapscape.viewers.layers.style import BACKGROUND
 
     prepare(ctx, options)
     plotter = pv.Plotter(off_screen=off_screen, window_size=list(options.size))
@@ -130,7 +130,7 @@ def build_plotter(ctx, options: RenderOptions, off_screen: bool = True, overlay:
     _frame(plotter, ctx, options, layout)
     plotter._trapscape_layout = layout
     if "markers" in options.layers:
-        from viewers.layers.markers import draw_labels
+        from trapscape.viewers.layers.markers import draw_labels
 
         draw_labels(plotter, ctx, plotter._trapscape_world_per_pixel, layout.content[1])
     if annotations == "html":
@@ -214,7 +214,7 @@ class Layout:
 
 
 def plan_layout(plotter, ctx, options, legend) -> Layout:
-    from viewers.layers.annotations import text_width
+    from trapscape.viewers.layers.annotations import text_width
 
     width, height = options.size
     layout = Layout(width=width, height=height, font=ctx.font_size)
@@ -264,13 +264,13 @@ def _frame(plotter, ctx, options, layout: Layout) -> None:
 
 
 def _annotate(plotter, ctx, options, legend, scale, layout: Layout) -> None:
-    from viewers.layers.annotations import draw_scale_bar, title_lines
-    from viewers.layers.style import TEXT
+    from trapscape.viewers.layers.annotations import draw_scale_bar, title_lines
+    from trapscape.viewers.layers.style import TEXT
 
     width, height = options.size
     font = ctx.font_size
     if options.title != "":
-        from viewers.layers.annotations import text_width
+        from trapscape.viewers.layers.annotations import text_width
 
         title, subtitle = title_lines(ctx.scene, ctx.section)
         title = options.title or title
@@ -321,8 +321,8 @@ def _annotate_html(plotter, ctx, options, legend, scale) -> None:
 
 def _draw_table(plotter, rows, left, top, font, floor) -> None:
     """The equilibria, one per line, as many as fit above `floor` (pixels)."""
-    from viewers.layers.annotations import text_width
-    from viewers.layers.style import TEXT
+    from trapscape.viewers.layers.annotations import text_width
+    from trapscape.viewers.layers.style import TEXT
 
     room = plotter.window_size[0] - left - 4
     widest = max(rows + ["Equilibria (firmest first)"], key=len)
@@ -352,7 +352,7 @@ def render_png(ctx, options: RenderOptions, path: str) -> str:
 def show_window(ctx, options: RenderOptions) -> None:
     """The interactive window with the same layers (needs a display)."""
     if not os.environ.get("DISPLAY") and os.name != "nt" and not os.environ.get("WAYLAND_DISPLAY"):
-        from scene.errors import SceneError
+        from trapscape.scene.errors import SceneError
 
         raise SceneError("--show needs a display and none is set (DISPLAY is empty); "
                          "write a picture with -o OUT.png instead.")

@@ -11,9 +11,9 @@ import warnings
 
 import numpy as np
 
-from scene.errors import SceneWarning
-from scene.measures import mass, moment_world, scene_bounding_box, volume
-from viewers.commands.common import add_scene_arguments, load_scene_from_args, stamp, write_json
+from trapscape.scene.errors import SceneWarning
+from trapscape.scene.measures import mass, moment_world, scene_bounding_box, volume
+from trapscape.viewers.commands.common import add_scene_arguments, load_scene_from_args, stamp, write_json
 
 AXIS_NAMES = {(1, 0, 0): "+x", (-1, 0, 0): "-x", (0, 1, 0): "+y", (0, -1, 0): "-y",
               (0, 0, 1): "+z", (0, 0, -1): "-z"}

@@ -8,7 +8,7 @@ import sys
 
 import numpy as np
 
-from scene.errors import SceneError
+from trapscape.scene.errors import SceneError
 
 
 def add_scene_arguments(parser) -> None:
@@ -21,7 +21,7 @@ def add_scene_arguments(parser) -> None:
 
 
 def load_scene_from_args(args):
-    from scene.loader import load_scene, parse_overrides
+    from trapscape.scene.loader import load_scene, parse_overrides
 
     return load_scene(args.scene, overrides=parse_overrides(args.set))
 

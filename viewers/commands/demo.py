@@ -6,7 +6,7 @@ from __future__ import annotations
 import warnings
 from pathlib import Path
 
-from scene.errors import SceneError
+from trapscape.scene.errors import SceneError
 
 DEMO_SAMPLE = "level_gauge.toml"
 DEFAULT_DIR = "trapscape-demo"
@@ -14,7 +14,7 @@ DEFAULT_DIR = "trapscape-demo"
 
 def samples_dir() -> Path:
     """samples/ beside the packages (the repository, installed editable or run in place)."""
-    import viewers
+    from trapscape import viewers
 
     here = Path(viewers.__file__).resolve().parent
     for candidate in (here.parent / "samples", here / "samples"):
@@ -34,8 +34,8 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    from scene.loader import load_scene
-    from viewers.commands.render import parse_size
+    from trapscape.scene.loader import load_scene
+    from trapscape.viewers.commands.render import parse_size
 
     sample = samples_dir() / args.sample
     if not sample.is_file():
@@ -59,15 +59,15 @@ def run(args) -> int:
     for what, path in written:
         print(f"{what:>12}: {path}")
     print(headline_sentence(ctx))
-    from physics.traps import CAUTION
+    from trapscape.physics.traps.search import CAUTION
 
     print(CAUTION)
     return 0
 
 
 def write_check(scene, path: Path) -> Path:
-    from viewers.commands.check import summarise
-    from viewers.commands.common import stamp, write_json
+    from trapscape.viewers.commands.check import summarise
+    from trapscape.viewers.commands.common import stamp, write_json
 
     write_json(str(path), stamp(scene, summarise(scene)))
     return path
@@ -75,9 +75,9 @@ def write_check(scene, path: Path) -> Path:
 
 def find_report(scene, args):
     """The trap report, computed once and shared with the view."""
-    from physics.traps import find_traps
-    from viewers.commands.common import progress
-    from viewers.layers.context import ViewContext
+    from trapscape.physics.traps.search import find_traps
+    from trapscape.viewers.commands.common import progress
+    from trapscape.viewers.layers.context import ViewContext
 
     ctx = ViewContext(scene)
     with progress(args, desc="scan") as update:
@@ -87,23 +87,23 @@ def find_report(scene, args):
 
 
 def write_traps(scene, report, path: Path) -> Path:
-    from viewers.commands.common import stamp, write_json
-    from viewers.commands.traps import report_json
+    from trapscape.viewers.commands.common import stamp, write_json
+    from trapscape.viewers.commands.traps import report_json
 
     write_json(str(path), stamp(scene, report_json(report, scene)))
     return path
 
 
 def write_render(ctx, path: Path, size) -> Path:
-    from viewers.layers import default_layers
-    from viewers.render import RenderOptions, render_png
+    from trapscape.viewers.layers import default_layers
+    from trapscape.viewers.render import RenderOptions, render_png
 
     render_png(ctx, RenderOptions(layers=default_layers(ctx.scene), size=size), str(path))
     return path
 
 
 def write_polarity(ctx, path: Path, size) -> Path:
-    from viewers.polarity import draw_polarity_map
+    from trapscape.viewers.polarity import draw_polarity_map
 
     draw_polarity_map(ctx, str(path), size=size)
     return path
@@ -111,7 +111,7 @@ def write_polarity(ctx, path: Path, size) -> Path:
 
 def headline_sentence(ctx) -> str:
     """The trap a reader asks about first, in one plain sentence."""
-    from viewers.layers.traps_data import describe_force, describe_position
+    from trapscape.viewers.layers.traps_data import describe_force, describe_position
 
     scene = ctx.scene
     probe = {"soft": "The steel probe", "magnet": "The magnet probe",

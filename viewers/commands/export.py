@@ -3,9 +3,9 @@ geometry of the layers as polydata or STL (scene coordinates and unit, for CAD),
 HTML file with the interactive 3D view."""
 from __future__ import annotations
 
-from scene.errors import SceneError
-from viewers.commands.common import add_scene_arguments, load_scene_from_args
-from viewers.commands.render import (add_view_arguments, print_notes, render_options,
+from trapscape.scene.errors import SceneError
+from trapscape.viewers.commands.common import add_scene_arguments, load_scene_from_args
+from trapscape.viewers.commands.render import (add_view_arguments, print_notes, render_options,
                                      view_context)
 
 
@@ -20,8 +20,8 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    from viewers.export import GEOMETRY_DEFAULTS, export, format_of
-    from viewers.layers import parse_layers
+    from trapscape.viewers.export import GEOMETRY_DEFAULTS, export, format_of
+    from trapscape.viewers.layers import parse_layers
 
     kind = format_of(args.out)
     scene = load_scene_from_args(args)
@@ -42,7 +42,7 @@ def run(args) -> int:
 
 def _relative_to(defaults, spec, scene):
     """'+section,-isosurfaces' applied to the geometry defaults rather than the picture's."""
-    from viewers.layers import LAYERS, _expand
+    from trapscape.viewers.layers import LAYERS, _expand
 
     chosen = set(defaults)
     for item in (i.strip() for i in spec.split(",") if i.strip()):

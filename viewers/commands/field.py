@@ -6,8 +6,8 @@ import math
 
 import numpy as np
 
-from scene.errors import SceneError
-from viewers.commands.common import add_scene_arguments, load_scene_from_args, progress
+from trapscape.scene.errors import SceneError
+from trapscape.viewers.commands.common import add_scene_arguments, load_scene_from_args, progress
 
 AXES = {"x": 0, "y": 1, "z": 2}
 
@@ -31,7 +31,7 @@ def run(args) -> int:
     points, layout = _sample_points(scene, args)
     if not (args.out or args.plot):
         raise SceneError("field: say where the result goes with --out OUT.csv (and/or --plot FILE.png).")
-    from physics.field import FieldModel
+    from trapscape.physics.field.model import FieldModel
 
     model = FieldModel.from_scene(scene)
     with progress(args, unit="pt", desc="field") as update:

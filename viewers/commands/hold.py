@@ -6,8 +6,8 @@ import re
 
 import numpy as np
 
-from scene.errors import SceneError
-from viewers.commands.common import (add_scene_arguments, load_scene_from_args, progress,
+from trapscape.scene.errors import SceneError
+from trapscape.viewers.commands.common import (add_scene_arguments, load_scene_from_args, progress,
                                      stamp, write_json)
 
 _NUMBER = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"
@@ -64,7 +64,7 @@ def parse_gaps(text: str) -> np.ndarray:
 
 
 def run(args) -> int:
-    from physics.hold import choose_plate, moving_parts, pull_curve, saturation_onset_gap
+    from trapscape.physics.holding.pull import choose_plate, moving_parts, pull_curve, saturation_onset_gap
 
     scene = load_scene_from_args(args)
     gaps = parse_gaps(args.gap)

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import sys
 
-from scene.errors import SceneError
-from viewers.commands.common import add_scene_arguments, load_scene_from_args, show_progress
+from trapscape.scene.errors import SceneError
+from trapscape.viewers.commands.common import add_scene_arguments, load_scene_from_args, show_progress
 
 AXES = {"x": 0, "y": 1, "z": 2}
 DEFAULT_RESOLUTION = 64
@@ -13,7 +13,7 @@ DEFAULT_RESOLUTION = 64
 
 def add_view_arguments(parser) -> None:
     """Options shared by render and export (layers, camera, section, colour scale)."""
-    from viewers.layers import LAYERS
+    from trapscape.viewers.layers import LAYERS
 
     parser.add_argument(
         "--layers", metavar="SPEC",
@@ -80,7 +80,7 @@ def parse_section(text):
 
 
 def view_context(scene, args):
-    from viewers.layers.context import ViewContext
+    from trapscape.viewers.layers.context import ViewContext
 
     resolution = args.resolution or DEFAULT_RESOLUTION
     if resolution < 8:
@@ -104,9 +104,9 @@ def _progress(args):
 
 
 def render_options(scene, args, size=(1600, 1200), transparent=False, cutaway=False):
-    from viewers.layers import parse_layers
-    from viewers.layers.isosurfaces import parse_levels
-    from viewers.render import RenderOptions
+    from trapscape.viewers.layers import parse_layers
+    from trapscape.viewers.layers.isosurfaces import parse_levels
+    from trapscape.viewers.render import RenderOptions
 
     axis, level = parse_section(args.section)
     return RenderOptions(
@@ -128,21 +128,21 @@ def run(args) -> int:
     if args.out and not args.out.lower().endswith(".png"):
         raise SceneError(f"render: {args.out!r} is not a .png; write -o OUT.png.")
     if args.out:
-        from viewers.export import check_writable
+        from trapscape.viewers.export import check_writable
 
         check_writable(args.out)
     scene = load_scene_from_args(args)
     size = parse_size(args.size)
     ctx = view_context(scene, args)
     if args.view == "polarity":
-        from viewers.polarity import draw_polarity_map
+        from trapscape.viewers.polarity import draw_polarity_map
 
         if args.out:
             draw_polarity_map(ctx, args.out, size=size, title=args.title,
                               transparent=args.transparent)
             print(f"wrote the polarity map to {args.out}")
         return 0
-    from viewers.render import render_png, show_window
+    from trapscape.viewers.render import render_png, show_window
 
     options = render_options(scene, args, size, args.transparent, args.cutaway)
     if args.out:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from viewers.commands.common import (add_scene_arguments, load_scene_from_args, progress,
+from trapscape.viewers.commands.common import (add_scene_arguments, load_scene_from_args, progress,
                                      stamp, write_json)
 
 
@@ -14,8 +14,8 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    from physics.field import FieldModel
-    from physics.traps import find_traps
+    from trapscape.physics.field.model import FieldModel
+    from trapscape.physics.traps.search import find_traps
 
     scene = load_scene_from_args(args)
     model = FieldModel.from_scene(scene)

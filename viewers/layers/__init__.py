@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import importlib
 
-from scene.errors import SceneError
-from scene.names import did_you_mean, listing
+from trapscape.scene.errors import SceneError
+from trapscape.scene.names import did_you_mean, listing
 
 LAYERS = {  # drawing order
     "magnets": "the magnets: north faces dark lettered N, south faces light lettered S, arrow = M",
@@ -62,7 +62,7 @@ def _expand(name: str, scene) -> set:
 
 
 def layer_module(name: str):
-    return importlib.import_module(f"viewers.layers.{name}")
+    return importlib.import_module(f"trapscape.viewers.layers.{name}")
 
 
 def describe_layers() -> str:

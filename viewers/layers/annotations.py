@@ -6,7 +6,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from viewers.layers import style
+from trapscape.viewers.layers import style
 
 
 def text_width(plotter, text: str, font_size: int) -> float:
@@ -102,7 +102,7 @@ class Legend:
 
     def draw(self, plotter, left: float, top: float, width: float, font_size: int) -> None:
         """left, top, width in pixels of the panel (display coordinates, y up)."""
-        from viewers.layers import style
+        from trapscape.viewers.layers import style
 
         if not self.entries:
             return

@@ -11,7 +11,7 @@ from functools import cached_property
 
 import numpy as np
 
-from physics.constants import MU0
+from trapscape.scene.units import MU0
 
 AXIS_NAMES = ("x", "y", "z")
 
@@ -45,7 +45,7 @@ class ViewContext:
 
     def __post_init__(self):
         if self.model is None:
-            from physics.field import FieldModel
+            from trapscape.physics.field.model import FieldModel
 
             self.model = FieldModel.from_scene(self.scene)
 
@@ -82,7 +82,7 @@ class ViewContext:
 
     @cached_property
     def magnet_bounds(self) -> np.ndarray:
-        from viewers.layers.magnets import world_meshes
+        from trapscape.viewers.layers.magnets import world_meshes
 
         meshes = world_meshes(self)
         if not meshes:
@@ -159,20 +159,20 @@ class ViewContext:
 
     @cached_property
     def trap_report(self):
-        """physics.traps' report for this scene, or None while that module is not there."""
-        from viewers.layers.traps_data import find_report
+        """physics.traps.search' report for this scene, or None while that module is not there."""
+        from trapscape.viewers.layers.traps_data import find_report
 
         return find_report(self)
 
     @cached_property
     def equilibria(self) -> list:
-        from viewers.layers.traps_data import equilibria_of
+        from trapscape.viewers.layers.traps_data import equilibria_of
 
         return equilibria_of(self)
 
     @property
     def headline(self):
         """The equilibrium a customer asks about first: the firmest stable one, else the first."""
-        from viewers.layers.traps_data import headline_of
+        from trapscape.viewers.layers.traps_data import headline_of
 
         return headline_of(self.equilibria)

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from viewers.layers import style
+from trapscape.viewers.layers import style
 
 SEEDS_PER_PART = 10
 MAX_SEEDS = 240
@@ -12,7 +12,7 @@ MAX_SEEDS = 240
 def seeds(ctx):
     import pyvista as pv
 
-    from viewers.layers.magnets import world_meshes
+    from trapscape.viewers.layers.magnets import world_meshes
 
     meshes = world_meshes(ctx)
     per_part = max(2, min(SEEDS_PER_PART, MAX_SEEDS // max(len(meshes), 1)))
@@ -68,7 +68,7 @@ def meshes(ctx) -> dict:
 
 
 def draw(plotter, ctx, legend, colour_scale) -> None:
-    from viewers.layers.cutaway import active, kept_side
+    from trapscape.viewers.layers.cutaway import active, kept_side
 
     traced = lines(ctx)
     if traced is None:

@@ -5,9 +5,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from viewers.layers import style
-from viewers.layers.probe_data import energy_and_force
-from viewers.layers.traps_data import describe_force
+from trapscape.viewers.layers import style
+from trapscape.viewers.layers.probe_data import energy_and_force
+from trapscape.viewers.layers.traps_data import describe_force
 
 LATTICE_FREE = 9  # points on the longest side of the box
 LATTICE_PLANE = 17
@@ -19,7 +19,7 @@ def lattice(ctx) -> np.ndarray:
     lower, upper = ctx.box_bounds
     constraint = ctx.scene.constraint
     if constraint.kind == "line":
-        from viewers.layers.guide import line_through_box
+        from trapscape.viewers.layers.guide import line_through_box
 
         chord = line_through_box(ctx, ctx.to_units(constraint.point), constraint.direction)
         if chord is None:
@@ -27,7 +27,7 @@ def lattice(ctx) -> np.ndarray:
         t = (np.arange(LATTICE_LINE) + 0.5) / LATTICE_LINE
         return chord[0] + t[:, None] * (chord[1] - chord[0])
     if constraint.kind == "plane":
-        from viewers.layers.guide import plane_in_box
+        from trapscape.viewers.layers.guide import plane_in_box
 
         polygon = plane_in_box(ctx, ctx.to_units(constraint.point), constraint.direction)
         if polygon is None:
@@ -53,8 +53,8 @@ def _plane_lattice(corners, normal) -> np.ndarray:
 
 
 def allowed_force(ctx, force) -> np.ndarray:
-    """The part of the force the constraint does not take up (physics.probe.projected_force)."""
-    from physics.probe import allowed_basis, projected_force
+    """The part of the force the constraint does not take up (physics.probe.laws.projected_force)."""
+    from trapscape.physics.probe.laws import allowed_basis, projected_force
 
     return projected_force(force, allowed_basis(ctx.scene.constraint))
 

@@ -6,8 +6,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from viewers.layers import style
-from viewers.layers.probe_data import energy_and_force, guide_direction
+from trapscape.viewers.layers import style
+from trapscape.viewers.layers.probe_data import energy_and_force, guide_direction
 
 RESOLUTION = 48  # grid points on the longest side
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from physics.constants import MU0
+from trapscape.scene.units import MU0
 
 NICE = (1.0, 2.0, 5.0)
 QUANTILES = (0.8, 0.93, 0.985)  # of |B| over the free part of the box: wide, middle, close shells
@@ -42,7 +42,7 @@ def auto_levels_T(ctx) -> list:
 
 def parse_levels(text: str) -> list:
     """'20,50mT,0.1T,1000J/m3' -> |B| levels in T (a bare number is mT)."""
-    from scene.errors import SceneError
+    from trapscape.scene.errors import SceneError
 
     levels = []
     for item in (t.strip() for t in text.split(",") if t.strip()):
@@ -92,7 +92,7 @@ def meshes(ctx) -> dict:
 
 
 def draw(plotter, ctx, legend, colour_scale) -> None:
-    from viewers.layers.cutaway import active, towards_camera
+    from trapscape.viewers.layers.cutaway import active, towards_camera
 
     levels = getattr(ctx, "iso_levels_T", None) or auto_levels_T(ctx)
     shells = surfaces(ctx, levels)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from viewers.layers import style
+from trapscape.viewers.layers import style
 
 POLARITY_TOLERANCE = 0.5  # a face is a pole face when its normal is within 60 degrees of M
 
@@ -26,7 +26,7 @@ def body_polydata(magnet):
         return pv.Sphere(radius=d[0] / 2.0, theta_resolution=48, phi_resolution=32)
     if magnet.shape == "ring":
         return _ring(d[0] / 2.0, d[1] / 2.0, d[2])
-    from physics.parts import body_mesh
+    from trapscape.physics.field.parts import body_mesh
 
     vertices, faces = body_mesh(magnet)
     return pv.PolyData.from_regular_faces(np.asarray(vertices, float), np.asarray(faces))
@@ -192,7 +192,7 @@ def meshes(ctx) -> dict:
 
 def draw(plotter, ctx, legend, hidden=()) -> None:
     """hidden: indices of parts cut away for the section (drawn as faint outlines)."""
-    from viewers.layers.cutaway import cut_part
+    from trapscape.viewers.layers.cutaway import cut_part
 
     any_radial = False
     for index, (magnet, mesh) in enumerate(zip(ctx.scene.magnets, world_meshes(ctx))):
@@ -214,7 +214,7 @@ def draw(plotter, ctx, legend, hidden=()) -> None:
 
 
 def _in_kept_half(ctx, glyph) -> bool:
-    from viewers.layers.cutaway import kept_side
+    from trapscape.viewers.layers.cutaway import kept_side
 
     return bool(np.all(kept_side(ctx, np.asarray(glyph.points)) >= 0))
 

@@ -5,8 +5,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from viewers.layers import style
-from viewers.layers.traps_data import describe_force, describe_position
+from trapscape.viewers.layers import style
+from trapscape.viewers.layers.traps_data import describe_force, describe_position
 
 FULL_LABELS = 4  # with more equilibria than this, markers carry their number and class only
 MAX_LABELS = 6  # of many equilibria, this many (the stable ones first) carry a label
@@ -142,8 +142,8 @@ def draw(plotter, ctx, legend, overlay=None) -> None:
 def draw_labels(plotter, ctx, world_per_pixel: float, right_edge_px: float) -> None:
     """After the camera is set: labels to the right of their markers, or to the left where the
     label would run past the content's right edge (into the legend)."""
-    from viewers.render import world_to_pixels
-    from viewers.layers.annotations import text_width
+    from trapscape.viewers.render import world_to_pixels
+    from trapscape.viewers.layers.annotations import text_width
 
     pending = getattr(ctx, "pending_labels", [])
     if not pending:

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from viewers.layers import style
+from trapscape.viewers.layers import style
 
 
 def plate_slab(ctx, plate):

@@ -8,7 +8,7 @@ import numpy as np
 def probe_model(ctx):
     cached = getattr(ctx, "_probe_model", None)
     if cached is None:
-        from physics.probe import PointProbe, ProbeLaw
+        from trapscape.physics.probe.laws import PointProbe, ProbeLaw
 
         cached = PointProbe(ctx.model, ProbeLaw.from_scene(ctx.scene))
         ctx._probe_model = cached

@@ -7,8 +7,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from viewers.layers import style
-from viewers.layers.context import Section
+from trapscape.viewers.layers import style
+from trapscape.viewers.layers.context import Section
 
 PREFERENCE = (1, 0, 2)  # y, then x, then z: the front view first
 SEPARATION = 11  # cells between neighbouring 2D field lines (of about 220 on the long side)
@@ -150,7 +150,7 @@ def meshes(ctx) -> dict:
 
 
 def draw(plotter, ctx, legend, colour_scale) -> None:
-    from viewers.layers.cutaway import towards_camera
+    from trapscape.viewers.layers.cutaway import towards_camera
 
     surface = field_map(ctx)
     if surface is None:

@@ -21,9 +21,9 @@ class ViewEquilibrium:
 
 
 def find_report(ctx):
-    """Run physics.traps.find_traps on the context's field model; None when it cannot."""
+    """Run physics.traps.search.find_traps on the context's field model; None when it cannot."""
     try:
-        from physics.traps import find_traps
+        from trapscape.physics.traps.search import find_traps
     except ImportError:
         ctx.note("traps: physics/traps.py is not available yet, so no equilibria are drawn.")
         return None

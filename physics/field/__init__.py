@@ -1,0 +1,1 @@
+"""The combined field: closed-form kernels, dipole sets, sources and the field model."""

@@ -1,0 +1,165 @@
+"""The assembled field of a scene: every magnet, its images in the steel plates, B, H and dB/dx.
+
+H comes from the magnets' charges (closed forms or dipole sets); B = mu0 (H + M), so inside a
+magnet B includes its magnetisation (DESIGN.md, Physics).
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from trapscape.scene.units import MU0
+from trapscape.physics.field.parts import part_contains, part_magnetization, part_sdf, part_sources
+from trapscape.physics.field.sources import Source, mirrored
+
+CHUNK = 250_000  # points per batch: bounds memory and lets long work report progress
+
+
+class FieldModel:
+    def __init__(self, scene, sources: list[Source]):
+        self.scene = scene
+        self.magnets = scene.magnets
+        self.plates = scene.plates
+        self.sources = sources
+
+    @classmethod
+    def from_scene(cls, scene, accuracy: float = 1e-3) -> "FieldModel":
+        sources = []
+        for index, magnet in enumerate(scene.magnets):
+            sources.extend(part_sources(magnet, index, accuracy))
+        images = []
+        for plate in scene.plates:
+            suffix = f" (image in {plate.name})"
+            images.extend(mirrored(s, plate.point, plate.normal, suffix) for s in sources)
+        return cls(scene, sources + images)
+
+    # -- H of the charges -------------------------------------------------------------------
+
+    def applied_H(self, points, exclude=(), gradient=False, progress=None):
+        """H (and dH/dx) of every source whose part index is not in `exclude`."""
+        points = np.ascontiguousarray(points, dtype=float).reshape(-1, 3)
+        H = np.zeros_like(points)
+        G = np.zeros((len(points), 3, 3)) if gradient else None
+        for start in range(0, len(points), CHUNK):
+            chunk = slice(start, start + CHUNK)
+            h, g = self._H_batch(points[chunk], set(exclude), gradient)
+            H[chunk] = h
+            if gradient:
+                G[chunk] = g
+            if progress is not None:
+                progress(min(start + CHUNK, len(points)), len(points))
+        return (H, G) if gradient else H
+
+    def _H_batch(self, points, exclude, gradient):
+        chosen = [s for s in self.sources if s.part not in exclude]
+        H = np.zeros_like(points)
+        G = np.zeros((len(points), 3, 3)) if gradient else None
+        plain_sets = [s for s in chosen if s.kind == "dipoles" and s.near is None]
+        if plain_sets:
+            from trapscape.physics.field.dipole_sum import dipole_H
+
+            positions = np.concatenate([s.dipole_positions for s in plain_sets])
+            moments = np.concatenate([s.dipole_moments for s in plain_sets])
+            _accumulate(H, G, dipole_H(points, positions, moments, gradient=gradient), gradient,
+                        slice(None))
+        for source in chosen:
+            if source.near is not None:
+                self._add_zoned(source, points, H, G, gradient)
+            elif source.kind != "dipoles":
+                source.add_closed_form_H(points, gradient, H, G)
+        return H, G
+
+    @staticmethod
+    def _add_zoned(source, points, H, G, gradient):
+        """A part with an exact zone: its exact form there, its dipoles only outside it (they
+        sit inside the zone, so their own field is never evaluated close to them)."""
+        from trapscape.physics.field.dipole_sum import dipole_H
+
+        near = source.in_near_zone(points)
+        if near.any():
+            h, g = source.near.closed_form_H(points[near], gradient)
+            H[near] += h
+            if gradient:
+                G[near] += g
+        far = ~near
+        if far.any():
+            result = dipole_H(points[far], source.dipole_positions, source.dipole_moments,
+                              gradient=gradient)
+            _accumulate(H, G, result, gradient, far)
+
+    def acting_on(self, index: int, images_only: bool = False) -> "FieldModel":
+        """The model of the sources that act on part `index`: all but the part's own charges
+        (its images in the plates stay: they pull it to the plate); with images_only, the plate
+        images alone (what acts on the rigid assembly as a whole). Used by physics/forces.py."""
+        keep = [s for s in self.sources
+                if s.is_image or (not images_only and s.part != index)]
+        return FieldModel(self.scene, keep)
+
+    def H(self, points, progress=None):
+        return self.applied_H(points, progress=progress)
+
+    # -- B ----------------------------------------------------------------------------------
+
+    def magnetization(self, points) -> np.ndarray:
+        """M at world points: the part's magnetisation inside it, zero outside."""
+        points = np.asarray(points, dtype=float).reshape(-1, 3)
+        M = np.zeros_like(points)
+        owner = self.inside_magnet(points)
+        for index, magnet in enumerate(self.magnets):
+            mask = owner == index
+            if mask.any():
+                M[mask] = part_magnetization(magnet, points[mask])
+        return M
+
+    def B(self, points, progress=None):
+        points = np.asarray(points, dtype=float).reshape(-1, 3)
+        return MU0 * (self.applied_H(points, progress=progress) + self.magnetization(points))
+
+    def B_and_gradient(self, points, progress=None):
+        """B (N, 3) in T and dB_i/dx_j (N, 3, 3) in T/m (M is uniform inside a part, so the
+        gradient is mu0 dH/dx there too; radially magnetised parts excepted inside)."""
+        points = np.asarray(points, dtype=float).reshape(-1, 3)
+        H, G = self.applied_H(points, gradient=True, progress=progress)
+        return MU0 * (H + self.magnetization(points)), MU0 * G
+
+    # -- geometry ---------------------------------------------------------------------------
+
+    def part_distances(self, points) -> np.ndarray:
+        """(N, n_magnets) signed distance to each magnet's surface (negative inside), m."""
+        points = np.asarray(points, dtype=float).reshape(-1, 3)
+        if not self.magnets:
+            return np.full((len(points), 0), np.inf)
+        return np.stack([part_sdf(m, points) for m in self.magnets], axis=1)
+
+    def inside_magnet(self, points) -> np.ndarray:
+        """Index of the magnet containing each point, -1 where none does (the first one where
+        parts overlap)."""
+        points = np.asarray(points, dtype=float).reshape(-1, 3)
+        owner = np.full(len(points), -1)
+        for index in reversed(range(len(self.magnets))):
+            owner[part_contains(self.magnets[index], points)] = index
+        return owner
+
+    def plate_distances(self, points) -> np.ndarray:
+        """(N, n_plates) signed distance to each plate's face (negative behind it), m."""
+        points = np.asarray(points, dtype=float).reshape(-1, 3)
+        if not self.plates:
+            return np.full((len(points), 0), np.inf)
+        return np.stack([(points - p.point) @ p.normal for p in self.plates], axis=1)
+
+    def in_model(self, points) -> np.ndarray:
+        """False behind a steel plate's face, where the mirror model says nothing."""
+        distances = self.plate_distances(points)
+        return np.all(distances >= 0.0, axis=1) if distances.shape[1] else np.ones(len(distances), bool)
+
+    def clearance(self, points) -> np.ndarray:
+        """Distance to the nearest magnet surface or plate face; negative inside or behind."""
+        both = np.concatenate([self.part_distances(points), self.plate_distances(points)], axis=1)
+        return both.min(axis=1) if both.shape[1] else np.full(len(both), np.inf)
+
+
+def _accumulate(H, G, result, gradient, where):
+    if gradient:
+        H[where] += result[0]
+        G[where] += result[1]
+    else:
+        H[where] += result

@@ -1,0 +1,1 @@
+"""Forces on parts, pull on steel against the gap, plate saturation."""

@@ -1,0 +1,1 @@
+"""Probe laws (one per kind) and the finite-size probe."""

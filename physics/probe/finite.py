@@ -1,0 +1,188 @@
+"""A probe that is not small against the field's variation: energy averaged over its volume.
+
+The energy density of DESIGN.md, Physics is averaged over the sphere by a product rule: Gauss-
+Jacobi points in r (weight r^2) times a Lebedev set on the unit sphere. The rule of degree p
+integrates every polynomial of total degree <= p over the ball exactly (derived here: a monomial of
+degree j is r^j times an angular polynomial of degree j; the radial rule with n points is exact
+for r^j, j <= 2n - 1, and the Lebedev set of order p for angular degree <= p). Degree 7 (the
+default): 4 radii x 26 directions = 104 points.
+
+For a magnet probe the averaging is over B, not over the energy: a rigid, uniformly magnetised
+sphere has U = -m . <B> (Jackson 5.72 integrated over the volume) and B is harmonic outside the
+magnets, so <B> over the ball equals B at its centre (mean-value theorem): the point model is
+exact for magnet probes and the correction vanishes (to the rule's accuracy).
+
+For soft and weak probes the volume average is the local approximation M(x) = chi_eff H0(x),
+exact to first order in chi (U = -mu0 chi/2 integral H0^2 dV; Landau & Lifshitz, Electrodynamics
+of Continuous Media, section 32), not the self-consistent induced field of a permeable sphere.
+"""
+from __future__ import annotations
+
+import math
+from functools import lru_cache
+
+import numpy as np
+from scipy.integrate import lebedev_rule
+from scipy.special import roots_jacobi
+
+from trapscape.physics.probe.laws import ProbeModel
+
+DEFAULT_DEGREE = 7
+LEBEDEV_ORDERS = (3, 5, 7, 9, 11, 13, 15, 17, 19, 21, 23, 25, 27, 29, 31)
+
+
+@lru_cache(maxsize=8)
+def ball_rule(degree: int = DEFAULT_DEGREE):
+    """(points (Q, 3) in the unit ball, weights (Q,) summing to 1) exact to total degree
+    `degree` for the mean over the ball (see the module's docstring)."""
+    order = next((o for o in LEBEDEV_ORDERS if o >= degree), LEBEDEV_ORDERS[-1])
+    directions, angular = lebedev_rule(order)  # (3, M), weights summing to 4 pi
+    n_radial = max(1, math.ceil((degree + 1) / 2))
+    x, w = roots_jacobi(n_radial, 0.0, 2.0)  # weight (1 + x)^2 on [-1, 1]
+    radii = (1.0 + x) / 2.0
+    radial = w / w.sum()
+    points = (radii[:, None, None] * directions.T[None, :, :]).reshape(-1, 3)
+    weights = (radial[:, None] * (angular / angular.sum())[None, :]).reshape(-1)
+    points.setflags(write=False)
+    weights.setflags(write=False)
+    return points, weights
+
+
+def rule_description(degree: int = DEFAULT_DEGREE) -> str:
+    points, _ = ball_rule(degree)
+    n_radial = max(1, math.ceil((degree + 1) / 2))
+    return (f"volume average by a degree-{degree} rule over the sphere: {n_radial} Gauss-Jacobi "
+            f"radii x {len(points) // n_radial} Lebedev directions = {len(points)} points")
+
+
+class AveragedProbe(ProbeModel):
+    """The probe's magnetic energy and force averaged over its volume (gravity is linear, so
+    its centre value is exact). Same interface as physics.probe.laws.PointProbe."""
+
+    def __init__(self, field_model, law, degree: int = DEFAULT_DEGREE):
+        super().__init__(field_model, law)
+        self.degree = degree
+        self.description = rule_description(degree)
+        unit, self.weights = ball_rule(degree)
+        self.offsets = unit * (law.diameter / 2.0)
+
+    def magnetic_energy_and_force(self, points):
+        points = np.asarray(points, float).reshape(-1, 3)
+        n, q = len(points), len(self.weights)
+        samples = (points[:, None, :] + self.offsets[None, :, :]).reshape(-1, 3)
+        B, G = self.applied_field(samples)
+        if self.law.kind == "magnet":
+            B_mean = np.einsum("nqi,q->ni", B.reshape(n, q, 3), self.weights)
+            G_mean = np.einsum("nqij,q->nij", G.reshape(n, q, 3, 3), self.weights)
+            return self.law.magnetic_energy(B_mean), self.law.magnetic_force(B_mean, G_mean)
+        U = self.law.magnetic_energy(B).reshape(n, q) @ self.weights
+        F = np.einsum("nqi,q->ni", self.law.magnetic_force(B, G).reshape(n, q, 3), self.weights)
+        return U, F
+
+
+def relative_energy_correction(point_probe, averaged_probe, points) -> np.ndarray:
+    """|U_avg - U_point| / |U_point| of the magnetic energy at points (N,), 0 where both vanish."""
+    points = np.asarray(points, float).reshape(-1, 3)
+    U_point = point_probe.magnetic_energy_and_force(points)[0]
+    U_mean = averaged_probe.magnetic_energy_and_force(points)[0]
+    difference = np.abs(U_mean - U_point)
+    scale = np.abs(U_point)
+    return np.divide(difference, scale, out=np.zeros_like(difference), where=scale > 0)
+
+
+# -- the exact response of a linear sphere ------------------------------------------------------
+
+DEFAULT_MAX_DEGREE = 12
+SAMPLE_DEPTH = 1e-6  # relative depth below the probe's surface where the field is sampled
+
+
+def multipole_susceptibility(chi: float, degree: int) -> float:
+    """chi_l = (2l+1) chi / (l (2 + chi) + 1): the weight of the l-th multipole of the applied
+    field in the energy of a linear sphere (derived here from the boundary conditions of the
+    l-th solid harmonic at r = a, as in Jackson 5.11 for l = 1; chi_1 = chi_eff, chi_l -> chi for
+    small chi, -> 2 + 1/l for chi -> inf)."""
+    return (2 * degree + 1) * chi / (degree * (2.0 + chi) + 1.0)
+
+
+@lru_cache(maxsize=4)
+def _surface_harmonics(max_degree: int):
+    """Lebedev directions (Q, 3), the conjugate harmonics times weights (L, Q) for l = 1..L, and
+    the degree of each row."""
+    from scipy.special import sph_harm_y
+
+    order = next(o for o in LEBEDEV_ORDERS if o >= 2 * max_degree + 1)
+    directions, weights = lebedev_rule(order)
+    x, y, z = directions
+    theta = np.arccos(np.clip(z, -1.0, 1.0))
+    phi = np.arctan2(y, x)
+    rows, degrees = [], []
+    for l in range(1, max_degree + 1):
+        for m in range(-l, l + 1):
+            rows.append(np.conj(sph_harm_y(l, m, theta, phi)) * weights)
+            degrees.append(l)
+    return directions.T.copy(), np.array(rows), np.array(degrees)
+
+
+class MultipoleProbe(ProbeModel):
+    """A linear (unsaturated soft, or weak) sphere of any size in the magnets' field, exactly:
+    U = -(mu0/2) a^3 sum_l chi_l / l sum_m |h_lm|^2, where h_lm are the coefficients of the
+    applied radial field H.r on the sphere r = a in orthonormal spherical harmonics (derived
+    here: U = -(mu0/2) integral M.H0 dV with the induced M of each solid harmonic; the l-th part
+    of integral H0^2 dV over the ball is a^3 sum_m |h_lm|^2 / l by Green's identity). Valid while
+    the ball holds no source (clearance >= d/2). Harmonics above max_degree are dropped: their
+    share of the energy is reported by truncation_share()."""
+
+    def __init__(self, field_model, law, max_degree: int = DEFAULT_MAX_DEGREE):
+        super().__init__(field_model, law)
+        if law.kind == "magnet":
+            raise ValueError("MultipoleProbe is for soft and weak probes")
+        self.max_degree = max_degree
+        self.radius = law.diameter / 2.0
+        # Sample just inside the surface, so that a probe touching a magnet never samples the
+        # magnet's inside; the coefficients are carried out to r = a as (a / rho)^(l - 1).
+        self.sample_radius = self.radius * (1.0 - SAMPLE_DEPTH)
+        self.directions, self.harmonics, self.degrees = _surface_harmonics(max_degree)
+        self.harmonics = self.harmonics * ((1.0 / (1.0 - SAMPLE_DEPTH)) ** (self.degrees - 1))[:, None]
+        self.weights = np.array([multipole_susceptibility(law.susceptibility, l) / l
+                                 for l in self.degrees])
+        self.description = (f"exact linear sphere: applied field's multipoles up to degree "
+                            f"{max_degree} on {len(self.directions)} Lebedev points")
+
+    def _coefficients(self, points, gradient=True):
+        points = np.asarray(points, float).reshape(-1, 3)
+        n, q = len(points), len(self.directions)
+        samples = (points[:, None, :] + self.sample_radius * self.directions[None]).reshape(-1, 3)
+        if gradient:
+            H, G = self.field_model.applied_H(samples, gradient=True)
+        else:
+            H, G = self.field_model.applied_H(samples), None
+        H_r = np.einsum("nqi,qi->nq", H.reshape(n, q, 3), self.directions)
+        h = H_r @ self.harmonics.T  # (n, L)
+        if not gradient:
+            return h, None
+        dH_r = np.einsum("nqij,qi->nqj", G.reshape(n, q, 3, 3), self.directions)
+        dh = np.einsum("lq,nqj->nlj", self.harmonics, dH_r)
+        return h, dh
+
+    def magnetic_energy_and_force(self, points):
+        from trapscape.scene.units import MU0
+
+        h, dh = self._coefficients(points)
+        scale = -0.5 * MU0 * self.radius**3
+        U = scale * (np.abs(h) ** 2) @ self.weights
+        grad = scale * 2.0 * np.einsum("l,nl,nlj->nj", self.weights, np.conj(h), dh).real
+        return U, -grad
+
+    def truncation_share(self, points) -> np.ndarray:
+        """The share of integral H.r^2 over the sphere that degrees above max_degree carry (N,):
+        an estimate of the energy dropped (it bounds it when chi_l/l falls with l)."""
+        h, _ = self._coefficients(points, gradient=False)
+        points = np.asarray(points, float).reshape(-1, 3)
+        n, q = len(points), len(self.directions)
+        samples = (points[:, None, :] + self.sample_radius * self.directions[None]).reshape(-1, 3)
+        H = self.field_model.applied_H(samples).reshape(n, q, 3)
+        H_r = np.einsum("nqi,qi->nq", H, self.directions)
+        _, weights = lebedev_rule(next(o for o in LEBEDEV_ORDERS if o >= 2 * self.max_degree + 1))
+        total = (H_r**2) @ weights
+        kept = (np.abs(h) ** 2).sum(axis=1)
+        return np.divide(np.abs(total - kept), total, out=np.zeros_like(total), where=total > 0)

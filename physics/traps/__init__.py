@@ -1,0 +1,1 @@
+"""The trap search: scan, contact, refinement, classification, wells and escape."""

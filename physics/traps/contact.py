@@ -1,0 +1,221 @@
+"""The probe against the surfaces it may not pass: admissible points (its centre at least d/2
+from every magnet and plate), surface normals and curvatures, and the search for contact
+equilibria along a surface (descent, then Newton on the surface-restricted Hessian)."""
+from __future__ import annotations
+
+import numpy as np
+
+from trapscape.physics.field.parts import body_bounds, part_sdf
+
+DESCENT_ITERATIONS = 300
+
+
+def in_box(points, low, high, tolerance) -> np.ndarray:
+    return np.all((points >= low - tolerance) & (points <= high + tolerance), axis=1)
+
+
+def world_box(magnet):
+    """World-frame bounding box (low, high) of a placed part, m."""
+    low, high = body_bounds(magnet)
+    corners = np.array([[x, y, z] for x in (low[0], high[0]) for y in (low[1], high[1])
+                        for z in (low[2], high[2])])
+    world = corners @ np.asarray(magnet.rotation, float).T + np.asarray(magnet.position, float)
+    return world.min(axis=0), world.max(axis=0)
+
+
+class ProbeGeometry:
+    """Admissibility and surfaces: the probe's centre keeps d/2 from magnets and plates."""
+
+    def __init__(self, field_model, scene, law):
+        self.field_model = field_model
+        self.radius = law.diameter / 2.0
+        self.low = np.asarray(scene.search_box.min, float)
+        self.high = np.asarray(scene.search_box.max, float)
+        self.spacing = float(scene.search_box.spacing)
+        self.names = [m.name for m in scene.magnets] + [p.name for p in scene.plates]
+        self.part_boxes = [world_box(m) for m in scene.magnets]
+
+    def clearance(self, points) -> np.ndarray:
+        return self.field_model.clearance(np.asarray(points, float).reshape(-1, 3))
+
+    def admissible(self, points, tolerance=1e-9) -> np.ndarray:
+        """Inside the box, in front of every plate and at least d/2 from every part. A part's
+        signed distance is only computed near its bounding box (exact distances are costly
+        for meshes)."""
+        points = np.asarray(points, float).reshape(-1, 3)
+        limit = self.radius * (1.0 - tolerance)
+        ok = in_box(points, self.low, self.high, tolerance * self.spacing)
+        plates = self.field_model.plate_distances(points)
+        if plates.shape[1]:
+            ok &= plates.min(axis=1) >= limit
+        for magnet, (low, high) in zip(self.field_model.magnets, self.part_boxes):
+            near = ok & np.all((points >= low - self.radius) & (points <= high + self.radius), axis=1)
+            if near.any():
+                ok[near] = part_sdf(magnet, points[near]) >= limit
+        return ok
+
+    def surface_name(self, points) -> list:
+        points = np.asarray(points, float).reshape(-1, 3)
+        both = np.concatenate([self.field_model.part_distances(points),
+                               self.field_model.plate_distances(points)], axis=1)
+        return [self.names[i] for i in np.argmin(both, axis=1)]
+
+    def normal(self, points) -> np.ndarray:
+        """Unit gradient of the clearance (N, 3), central differences."""
+        points = np.asarray(points, float).reshape(-1, 3)
+        h = 1e-6 * self.radius
+        offsets = np.concatenate([np.eye(3), -np.eye(3)]) * h
+        values = self.clearance((points[:, None, :] + offsets[None]).reshape(-1, 3))
+        values = values.reshape(len(points), 6)
+        gradient = (values[:, :3] - values[:, 3:]) / (2.0 * h)
+        return gradient / np.maximum(np.linalg.norm(gradient, axis=1, keepdims=True), 1e-300)
+
+    def clearance_hessian(self, points, tangents) -> np.ndarray:
+        """Second derivatives of the clearance along tangents (N, m, 3): (N, m, m)."""
+        points = np.asarray(points, float).reshape(-1, 3)
+        n, m = tangents.shape[0], tangents.shape[1]
+        h = 1e-3 * self.radius
+        c0 = self.clearance(points)
+        result = np.zeros((n, m, m))
+        for a in range(m):
+            for b in range(a, m):
+                ta, tb = tangents[:, a] * h, tangents[:, b] * h
+                pp = self.clearance(points + ta + tb)
+                mm = self.clearance(points - ta - tb)
+                if a == b:
+                    result[:, a, a] = (pp - 2.0 * c0 + mm) / (4.0 * h * h)
+                else:
+                    pm = self.clearance(points + ta - tb)
+                    mp = self.clearance(points - ta + tb)
+                    result[:, a, b] = result[:, b, a] = (pp - pm - mp + mm) / (4.0 * h * h)
+        return result
+
+    def project_to_surface(self, points, basis, iterations=6) -> np.ndarray:
+        """Move points along the allowed directions onto clearance = d/2 (Newton steps)."""
+        x = np.asarray(points, float).reshape(-1, 3).copy()
+        projector = basis.T @ basis
+        for _ in range(iterations):
+            gap = self.clearance(x) - self.radius
+            n_allowed = self.normal(x) @ projector
+            size2 = np.einsum("ni,ni->n", n_allowed, n_allowed)
+            step = np.divide(gap, size2, out=np.zeros_like(gap), where=size2 > 1e-12)
+            x -= step[:, None] * n_allowed
+        return x
+
+
+def pseudo_solve(K, g):
+    """K^+ g per point, ignoring eigenvalues below 1e-10 of the largest (marginal directions)."""
+    values, vectors = np.linalg.eigh(K)
+    top = np.max(np.abs(values), axis=1, keepdims=True)
+    inverse = np.divide(1.0, values, out=np.zeros_like(values), where=np.abs(values) > 1e-10 * top)
+    return np.einsum("nij,nj,nkj,nk->ni", vectors, inverse, vectors, g)
+
+
+def line_contacts(grid, geometry, starts) -> np.ndarray:
+    """On a line: bisect for clearance = d/2 between each boundary sample and its blocked
+    neighbour; (points (M, 3))."""
+    n = len(grid.points)
+    blocked = grid.inside_box & ~grid.admissible
+    found = []
+    for step in (-1, 1):
+        neighbour = starts + step
+        valid = (neighbour >= 0) & (neighbour < n)
+        valid[valid] &= blocked[neighbour[valid]]
+        a, b = grid.points[starts[valid]], grid.points[neighbour[valid]]
+        for _ in range(60):
+            middle = 0.5 * (a + b)
+            good = geometry.clearance(middle) >= geometry.radius
+            a = np.where(good[:, None], middle, a)
+            b = np.where(good[:, None], b, middle)
+        found.append(a)
+    return np.concatenate(found) if found else np.zeros((0, 3))
+
+
+def tangent_basis(normals, basis):
+    """(N, m, 3) orthonormal directions allowed by the constraint and along the surface."""
+    projector = basis.T @ basis
+    n_allowed = normals @ projector
+    size = np.linalg.norm(n_allowed, axis=1, keepdims=True)
+    unit = np.divide(n_allowed, size, out=np.zeros_like(n_allowed), where=size > 1e-12)
+    m = basis.shape[0] - 1
+    result = np.zeros((len(normals), max(m, 0), 3))
+    if m <= 0:
+        return result
+    for i in range(len(normals)):  # small: one SVD per contact candidate
+        allowed = basis - np.outer(basis @ unit[i], unit[i])
+        _, s, vt = np.linalg.svd(allowed)
+        result[i] = vt[:m]
+    return result
+
+
+def surface_descent(model, geometry, starts, basis, iterations=DESCENT_ITERATIONS):
+    """Steepest descent of U along the contact surface (re-projected after each step, step
+    doubled on success and quartered on failure), then a few Newton steps on the surface."""
+    x = geometry.project_to_surface(starts, basis)
+    U, F = model.energy_and_force(x)
+    h = geometry.spacing
+    step = np.full(len(x), 0.25 * h)
+    active = np.ones(len(x), bool)
+    for _ in range(iterations):
+        idx = np.flatnonzero(active)
+        if len(idx) == 0:
+            break
+        tangents = tangent_basis(geometry.normal(x[idx]), basis)
+        push = np.einsum("nmi,ni->nm", tangents, F[idx])  # -grad U along the surface
+        size = np.linalg.norm(push, axis=1)
+        move = np.einsum("nm,nmi->ni", push / np.maximum(size, 1e-300)[:, None], tangents)
+        trial = geometry.project_to_surface(x[idx] + step[idx, None] * move, basis, 3)
+        U_t, F_t = model.energy_and_force(trial)
+        better = (U_t < U[idx]) & geometry.admissible(trial, tolerance=1e-6)
+        accepted = idx[better]
+        x[accepted], U[accepted], F[accepted] = trial[better], U_t[better], F_t[better]
+        step[accepted] *= 2.0
+        step[idx[~better]] *= 0.25
+        active[idx[(step[idx] < 1e-7 * h) | (size == 0.0)]] = False
+    return x
+
+
+def surface_newton(model, geometry, points, basis, iterations=8):
+    """Newton's method for a contact equilibrium along the surface: the tangential force and
+    the surface-restricted Hessian K_t of contact_state, steps limited to half a grid step and
+    re-projected onto the surface. Used to polish a descent and to re-solve with the finite
+    size, where each evaluation is costly."""
+    x = np.asarray(points, float).reshape(-1, 3).copy()
+    if basis.shape[0] <= 1 or len(x) == 0:
+        return x
+    h = geometry.spacing
+    active = np.ones(len(x), bool)
+    for _ in range(iterations):
+        idx = np.flatnonzero(active)
+        if len(idx) == 0:
+            break
+        _, _, tangents, K_t, F = contact_state(model, geometry, x[idx], basis)
+        push = np.einsum("nmi,ni->nm", tangents, F)
+        step = pseudo_solve(K_t, push)
+        size = np.linalg.norm(step, axis=1)
+        step *= np.minimum(1.0, 0.5 * h / np.maximum(size, 1e-300))[:, None]
+        trial = geometry.project_to_surface(x[idx] + np.einsum("nm,nmi->ni", step, tangents), basis)
+        ok = geometry.admissible(trial, tolerance=1e-6)
+        x[idx[ok]] = trial[ok]
+        active[idx[~ok | (size < 1e-9 * h)]] = False
+    return x
+
+
+def contact_state(model, geometry, points, basis):
+    """Normal, normal force (> 0 when pressed), tangents and the surface-restricted Hessian
+    K_t = T (Hess U - N Hess c) T^T (Lagrange multiplier N = -dU/dc; derived here)."""
+    normals = geometry.normal(points)
+    F = model.force(points)
+    projector = basis.T @ basis
+    n_allowed = normals @ projector
+    size2 = np.einsum("ni,ni->n", n_allowed, n_allowed)
+    pressed = -np.einsum("ni,ni->n", F @ projector, n_allowed)
+    normal_force = np.divide(pressed, size2, out=np.zeros_like(pressed), where=size2 > 1e-12)
+    tangents = tangent_basis(normals, basis)
+    m = tangents.shape[1]
+    if m == 0:
+        return normals, normal_force, tangents, np.zeros((len(points), 0, 0)), F
+    K = model.hessian(points, tangents)
+    curvature = geometry.clearance_hessian(points, tangents)
+    K_t = K - normal_force[:, None, None] * curvature
+    return normals, normal_force, tangents, K_t, F

@@ -1,0 +1,90 @@
+"""Every command as a person runs it: at a terminal (stdout and stderr on a pseudo-terminal, where
+progress bars draw), in a pipe, and with a broken input. Tests that never had a terminal missed a
+crash that only progress output at a terminal could show."""
+from __future__ import annotations
+
+import os
+import pty
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+from repo_paths import SAMPLES  # noqa: E402
+CLI = [sys.executable, "-m", "trapscape.viewers.cli"]
+
+
+def at_terminal(args, cwd, timeout=300):
+    """Run the CLI with stdout and stderr on a pseudo-terminal; return (exit code, screen text)."""
+    leader, follower = pty.openpty()
+    env = {**os.environ, "COLUMNS": "120", "LINES": "40", "TERM": "xterm"}
+    process = subprocess.Popen([*CLI, *args], stdin=subprocess.DEVNULL, stdout=follower,
+                               stderr=follower, cwd=cwd, env=env, close_fds=True)
+    os.close(follower)
+    chunks, deadline = [], time.monotonic() + timeout
+    while time.monotonic() < deadline:
+        try:
+            data = os.read(leader, 65536)
+        except OSError:  # the pty is closed once the process and its children have gone
+            break
+        if not data:
+            break
+        chunks.append(data)
+    os.close(leader)
+    code = process.wait(timeout=max(1.0, deadline - time.monotonic()))
+    return code, b"".join(chunks).decode("utf-8", "replace")
+
+
+def in_pipe(args, cwd, timeout=300):
+    done = subprocess.run([*CLI, *args], stdin=subprocess.DEVNULL, capture_output=True, text=True,
+                          cwd=cwd, timeout=timeout)
+    return done.returncode, done.stdout, done.stderr
+
+
+def _commands(tmp):
+    sample = str(SAMPLES / "bead_chip.toml")
+    plate = str(SAMPLES / "holding_plate.toml")
+    return {
+        "check": ["check", sample],
+        "traps": ["traps", sample, "--json", str(tmp / "traps.json")],
+        "field": ["field", sample, "--plane", "z=0", "--resolution", "24",
+                  "--out", str(tmp / "plane.csv")],
+        "hold": ["hold", plate, "--gap", "0..2@3"],
+        "render": ["render", sample, "-o", str(tmp / "view.png"), "--size", "320x240",
+                   "--resolution", "24"],
+        "export": ["export", sample, "-o", str(tmp / "grid.vti"), "--resolution", "16"],
+        "demo": ["demo", "-o", str(tmp / "demo"), "--size", "320x240"],
+    }
+
+
+COMMANDS = list(_commands(Path(".")))
+
+
+@pytest.mark.parametrize("command", COMMANDS)
+def test_command_at_a_terminal(command, tmp_path):
+    code, screen = at_terminal(_commands(tmp_path)[command], cwd=tmp_path)
+    assert "Traceback" not in screen, screen[-2000:]
+    assert code == 0, screen[-2000:]
+
+
+@pytest.mark.parametrize("command", ["check", "traps", "hold"])
+def test_command_in_a_pipe_prints_no_progress(command, tmp_path):
+    code, out, err = in_pipe(_commands(tmp_path)[command], cwd=tmp_path)
+    assert code == 0, err
+    assert "\r" not in err and "Traceback" not in err  # progress bars only at a terminal
+    assert out.strip()
+
+
+@pytest.mark.parametrize("command", COMMANDS)
+def test_broken_scene_at_a_terminal_is_one_sentence(command, tmp_path):
+    broken = tmp_path / "broken.toml"
+    broken.write_text('units = "mm"\n[[magnet]]\nshape = "box"\nsize = [10, 10\n')
+    args = [a if not a.endswith(".toml") else str(broken) for a in _commands(tmp_path)[command]]
+    if command == "demo":
+        args += ["--sample", "no_such_sample.toml"]
+    code, screen = at_terminal(args, cwd=tmp_path)
+    assert code == 2, screen
+    assert "Traceback" not in screen
+    assert [line for line in screen.splitlines() if line.startswith("trapscape:")]
