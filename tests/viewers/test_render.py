@@ -16,7 +16,8 @@ from trapscape.scene.loader import load_scene  # noqa: E402
 from trapscape.viewers.layers import default_layers, parse_layers  # noqa: E402
 from trapscape.viewers.layers import style  # noqa: E402
 from trapscape.viewers.layers.context import ViewContext  # noqa: E402
-from trapscape.viewers.render import RenderOptions, build_plotter, world_to_pixels  # noqa: E402
+from trapscape.viewers.layers.screen import world_to_pixels  # noqa: E402
+from trapscape.viewers.render import RenderOptions, build_plotter  # noqa: E402
 
 from repo_paths import SAMPLES  # noqa: E402
 SMALL = (400, 300)

@@ -142,7 +142,7 @@ def draw(plotter, ctx, legend, overlay=None) -> None:
 def draw_labels(plotter, ctx, world_per_pixel: float, right_edge_px: float) -> None:
     """After the camera is set: labels to the right of their markers, or to the left where the
     label would run past the content's right edge (into the legend)."""
-    from trapscape.viewers.render import world_to_pixels
+    from trapscape.viewers.layers.screen import world_to_pixels
     from trapscape.viewers.layers.annotations import text_width
 
     pending = getattr(ctx, "pending_labels", [])
