@@ -270,35 +270,177 @@ def _check_dims(outer_diameter, inner_diameter, height):
 
 
 def cylinder_H(points: np.ndarray, diameter: float, height: float, magnetization: np.ndarray) -> np.ndarray:
-    """H (N, 3) in A/m of a uniformly magnetised solid cylinder (exact closed form)."""
+    """H of a uniformly magnetised solid cylinder (exact closed form).
+
+    Parameters
+    ----------
+    points : ndarray, shape (N, 3)
+        Body-frame points in m (axis = body z, centred at the origin).
+    diameter : float
+        m, positive.
+    height : float
+        m, positive.
+    magnetization : ndarray, shape (3,)
+        Uniform magnetisation M in A/m, any direction (axial and transverse parts).
+
+    Returns
+    -------
+    ndarray, shape (N, 3)
+        H in A/m; inside B = mu0 (H + M); on a face the outer side's value.
+
+    References
+    ----------
+    Derby & Olbert, Am. J. Phys. 78, 229 (2010) with Bulirsch's cel (axial part); the transverse
+    part derived here from the side-wall charges of Caciagli et al., J. Magn. Magn. Mater. 456,
+    423 (2018).
+    """
     return _evaluate(points, diameter, 0.0, height, magnetization, False)[0]
 
 
 def cylinder_H_gradient(points: np.ndarray, diameter: float, height: float,
                         magnetization: np.ndarray) -> np.ndarray:
-    """dH_i/dx_j (N, 3, 3) in A/m^2 of a solid cylinder: analytic (closed form, no differencing)."""
+    """Gradient of a solid cylinder's H.
+
+    Parameters
+    ----------
+    points : ndarray, shape (N, 3)
+        Body-frame points in m (axis = body z, centred at the origin).
+    diameter : float
+        m, positive.
+    height : float
+        m, positive.
+    magnetization : ndarray, shape (3,)
+        Uniform magnetisation M in A/m, any direction (axial and transverse parts).
+
+    Returns
+    -------
+    ndarray, shape (N, 3, 3)
+        dH_i/dx_j in A/m^2, [n, i, j]; analytic, no differencing.
+
+    References
+    ----------
+    Derby & Olbert, Am. J. Phys. 78, 229 (2010) with Bulirsch's cel (axial part); the transverse
+    part derived here from the side-wall charges of Caciagli et al., J. Magn. Magn. Mater. 456,
+    423 (2018).
+    """
     return _evaluate(points, diameter, 0.0, height, magnetization, True)[1]
 
 
 def cylinder_H_and_gradient(points: np.ndarray, diameter: float, height: float,
                             magnetization: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(H (N, 3), dH_i/dx_j (N, 3, 3)) of a solid cylinder from one pass (cheaper than two calls)."""
+    """H and its gradient of a solid cylinder in one pass.
+
+    Parameters
+    ----------
+    points : ndarray, shape (N, 3)
+        Body-frame points in m (axis = body z, centred at the origin).
+    diameter : float
+        m, positive.
+    height : float
+        m, positive.
+    magnetization : ndarray, shape (3,)
+        Uniform magnetisation M in A/m, any direction (axial and transverse parts).
+
+    Returns
+    -------
+    H : ndarray, shape (N, 3)
+        A/m.
+    G : ndarray, shape (N, 3, 3)
+        dH_i/dx_j in A/m^2, from the same pass (cheaper than two calls).
+
+    References
+    ----------
+    Derby & Olbert, Am. J. Phys. 78, 229 (2010) with Bulirsch's cel (axial part); the transverse
+    part derived here from the side-wall charges of Caciagli et al., J. Magn. Magn. Mater. 456,
+    423 (2018).
+    """
     return _evaluate(points, diameter, 0.0, height, magnetization, True)
 
 
 def ring_H(points: np.ndarray, outer_diameter: float, inner_diameter: float, height: float,
            magnetization: np.ndarray) -> np.ndarray:
-    """H (N, 3) in A/m of a uniformly magnetised ring = outer cylinder minus inner cylinder."""
+    """H of a uniformly magnetised ring (outer cylinder minus inner cylinder).
+
+    Parameters
+    ----------
+    points : ndarray, shape (N, 3)
+        Body-frame points in m (axis = body z, centred at the origin).
+    outer_diameter, inner_diameter : float
+        m, with 0 <= inner_diameter < outer_diameter.
+    height : float
+        m, positive.
+    magnetization : ndarray, shape (3,)
+        Uniform magnetisation M in A/m, any direction (axial and transverse parts).
+
+    Returns
+    -------
+    ndarray, shape (N, 3)
+        H in A/m; inside B = mu0 (H + M); on a face the outer side's value.
+
+    References
+    ----------
+    Derby & Olbert, Am. J. Phys. 78, 229 (2010) with Bulirsch's cel (axial part); the transverse
+    part derived here from the side-wall charges of Caciagli et al., J. Magn. Magn. Mater. 456,
+    423 (2018).
+    """
     return _evaluate(points, outer_diameter, inner_diameter, height, magnetization, False)[0]
 
 
 def ring_H_gradient(points: np.ndarray, outer_diameter: float, inner_diameter: float, height: float,
                     magnetization: np.ndarray) -> np.ndarray:
-    """dH_i/dx_j (N, 3, 3) in A/m^2 of a ring: analytic (closed form, no differencing)."""
+    """Gradient of a ring's H.
+
+    Parameters
+    ----------
+    points : ndarray, shape (N, 3)
+        Body-frame points in m (axis = body z, centred at the origin).
+    outer_diameter, inner_diameter : float
+        m, with 0 <= inner_diameter < outer_diameter.
+    height : float
+        m, positive.
+    magnetization : ndarray, shape (3,)
+        Uniform magnetisation M in A/m, any direction (axial and transverse parts).
+
+    Returns
+    -------
+    ndarray, shape (N, 3, 3)
+        dH_i/dx_j in A/m^2, [n, i, j]; analytic, no differencing.
+
+    References
+    ----------
+    Derby & Olbert, Am. J. Phys. 78, 229 (2010) with Bulirsch's cel (axial part); the transverse
+    part derived here from the side-wall charges of Caciagli et al., J. Magn. Magn. Mater. 456,
+    423 (2018).
+    """
     return _evaluate(points, outer_diameter, inner_diameter, height, magnetization, True)[1]
 
 
 def ring_H_and_gradient(points: np.ndarray, outer_diameter: float, inner_diameter: float, height: float,
                         magnetization: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(H (N, 3), dH_i/dx_j (N, 3, 3)) of a ring from one pass."""
+    """H and its gradient of a ring in one pass.
+
+    Parameters
+    ----------
+    points : ndarray, shape (N, 3)
+        Body-frame points in m (axis = body z, centred at the origin).
+    outer_diameter, inner_diameter : float
+        m, with 0 <= inner_diameter < outer_diameter.
+    height : float
+        m, positive.
+    magnetization : ndarray, shape (3,)
+        Uniform magnetisation M in A/m, any direction (axial and transverse parts).
+
+    Returns
+    -------
+    H : ndarray, shape (N, 3)
+        A/m.
+    G : ndarray, shape (N, 3, 3)
+        dH_i/dx_j in A/m^2, from the same pass (cheaper than two calls).
+
+    References
+    ----------
+    Derby & Olbert, Am. J. Phys. 78, 229 (2010) with Bulirsch's cel (axial part); the transverse
+    part derived here from the side-wall charges of Caciagli et al., J. Magn. Magn. Mater. 456,
+    423 (2018).
+    """
     return _evaluate(points, outer_diameter, inner_diameter, height, magnetization, True)

@@ -10,6 +10,26 @@ import numpy as np
 
 
 def sphere_H(points: np.ndarray, diameter: float, magnetization: np.ndarray) -> np.ndarray:
+    """H of a uniformly magnetised sphere: its dipole outside, -M/3 inside.
+
+    Parameters
+    ----------
+    points : ndarray, shape (N, 3)
+        Body-frame points in m (the sphere is centred at the origin).
+    diameter : float
+        m.
+    magnetization : ndarray, shape (3,)
+        Uniform magnetisation M in A/m.
+
+    Returns
+    -------
+    ndarray, shape (N, 3)
+        H in A/m.
+
+    References
+    ----------
+    J. D. Jackson, Classical Electrodynamics, 3rd ed., section 5.10.
+    """
     points = np.asarray(points, dtype=float)
     M = np.asarray(magnetization, dtype=float)
     radius = diameter / 2.0
@@ -25,7 +45,26 @@ def sphere_H(points: np.ndarray, diameter: float, magnetization: np.ndarray) -> 
 
 
 def sphere_H_gradient(points: np.ndarray, diameter: float, magnetization: np.ndarray) -> np.ndarray:
-    """dH_i/dx_j, (N, 3, 3): the dipole's gradient outside, zero inside (H is uniform there)."""
+    """Gradient of the sphere's H: the dipole's outside, zero inside (H is uniform there).
+
+    Parameters
+    ----------
+    points : ndarray, shape (N, 3)
+        Body-frame points in m (the sphere is centred at the origin).
+    diameter : float
+        m.
+    magnetization : ndarray, shape (3,)
+        Uniform magnetisation M in A/m.
+
+    Returns
+    -------
+    ndarray, shape (N, 3, 3)
+        dH_i/dx_j in A/m^2, [n, i, j].
+
+    References
+    ----------
+    J. D. Jackson, Classical Electrodynamics, 3rd ed., section 5.10.
+    """
     points = np.asarray(points, dtype=float)
     M = np.asarray(magnetization, dtype=float)
     radius = diameter / 2.0
