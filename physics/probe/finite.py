@@ -25,7 +25,7 @@ import numpy as np
 from scipy.integrate import lebedev_rule
 from scipy.special import roots_jacobi
 
-from trapscape.physics.probe.laws import ProbeModel
+from trapscape.physics.probe.models import ProbeModel
 
 DEFAULT_DEGREE = 7
 LEBEDEV_ORDERS = (3, 5, 7, 9, 11, 13, 15, 17, 19, 21, 23, 25, 27, 29, 31)
@@ -71,13 +71,7 @@ class AveragedProbe(ProbeModel):
         n, q = len(points), len(self.weights)
         samples = (points[:, None, :] + self.offsets[None, :, :]).reshape(-1, 3)
         B, G = self.applied_field(samples)
-        if self.law.kind == "magnet":
-            B_mean = np.einsum("nqi,q->ni", B.reshape(n, q, 3), self.weights)
-            G_mean = np.einsum("nqij,q->nij", G.reshape(n, q, 3, 3), self.weights)
-            return self.law.magnetic_energy(B_mean), self.law.magnetic_force(B_mean, G_mean)
-        U = self.law.magnetic_energy(B).reshape(n, q) @ self.weights
-        F = np.einsum("nqi,q->ni", self.law.magnetic_force(B, G).reshape(n, q, 3), self.weights)
-        return U, F
+        return self.law.volume_averaged(B.reshape(n, q, 3), G.reshape(n, q, 3, 3), self.weights)
 
 
 def relative_energy_correction(point_probe, averaged_probe, points) -> np.ndarray:
@@ -134,8 +128,9 @@ class MultipoleProbe(ProbeModel):
 
     def __init__(self, field_model, law, max_degree: int = DEFAULT_MAX_DEGREE):
         super().__init__(field_model, law)
-        if law.kind == "magnet":
-            raise ValueError("MultipoleProbe is for soft and weak probes")
+        if law.linear_susceptibility is None:
+            raise ValueError(f"MultipoleProbe is for probes with an induced linear response, "
+                             f"not {law.kind} probes")
         self.max_degree = max_degree
         self.radius = law.diameter / 2.0
         # Sample just inside the surface, so that a probe touching a magnet never samples the
@@ -143,7 +138,7 @@ class MultipoleProbe(ProbeModel):
         self.sample_radius = self.radius * (1.0 - SAMPLE_DEPTH)
         self.directions, self.harmonics, self.degrees = _surface_harmonics(max_degree)
         self.harmonics = self.harmonics * ((1.0 / (1.0 - SAMPLE_DEPTH)) ** (self.degrees - 1))[:, None]
-        self.weights = np.array([multipole_susceptibility(law.susceptibility, l) / l
+        self.weights = np.array([multipole_susceptibility(law.linear_susceptibility, l) / l
                                  for l in self.degrees])
         self.description = (f"exact linear sphere: applied field's multipoles up to degree "
                             f"{max_degree} on {len(self.directions)} Lebedev points")
