@@ -72,12 +72,14 @@ class InducedLaw(ProbeLaw):
     def linear_force(self, B, G) -> np.ndarray:
         """F = V chi_eff / mu0 G^T B, (N, 3) N from B (N, 3) T and G (N, 3, 3) T/m (derived
         here: grad (B.B)/2 = G^T B)."""
-        return self.volume * self.chi_eff / MU0 * _G_transpose_B(B, G)
+        return self.volume * self.chi_eff / MU0 * grad_half_B2(B, G)
 
     def magnetic_energy(self, B) -> np.ndarray:
+        """-V chi_eff B^2 / (2 mu0): (N,) J from the applied B (N, 3) in T (DESIGN.md, Physics)."""
         return self.linear_energy(B)
 
     def magnetic_force(self, B, G) -> np.ndarray:
+        """V chi_eff / mu0 G^T B: (N, 3) N from B (N, 3) T and G (N, 3, 3) T/m (derived here)."""
         return self.linear_force(B, G)
 
     def finite_model(self, field_model, positions=None):
@@ -87,7 +89,9 @@ class InducedLaw(ProbeLaw):
         return MultipoleProbe(field_model, self)
 
 
-def _G_transpose_B(B, G) -> np.ndarray:
+def grad_half_B2(B, G) -> np.ndarray:
+    """grad (B.B)/2 = G^T B, (N, 3) T^2/m from B (N, 3) T and G[n, i, j] = dB_i/dx_j (N, 3, 3)
+    T/m (derived here)."""
     B = np.asarray(B, float).reshape(-1, 3)
     G = np.asarray(G, float).reshape(-1, 3, 3)
     return np.einsum("nij,ni->nj", G, B)

@@ -37,7 +37,6 @@ class MagnetLaw(ProbeLaw):
     moment: float
     orientation: np.ndarray | None
     point_model_is_exact = True
-    earnshaw_label = "magnet"
     noun = "magnet probe"
     subject = "The magnet probe"
 

@@ -10,7 +10,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from trapscape.physics.probe.kinds.induced import InducedLaw, _G_transpose_B
+from trapscape.physics.probe.kinds.induced import InducedLaw, grad_half_B2
 from trapscape.physics.probe.registry import register
 from trapscape.scene.units import MU0
 
@@ -32,7 +32,6 @@ class SoftLaw(InducedLaw):
     """
 
     kind = "soft"
-    earnshaw_label = "soft"
     noun = "soft-iron bead"
     subject = "The steel probe"
 
@@ -118,7 +117,7 @@ class SoftLaw(InducedLaw):
         """
         F = self.linear_force(B, G)
         if self.saturation is not None:
-            GtB = _G_transpose_B(B, G)
+            GtB = grad_half_B2(B, G)
             size = np.linalg.norm(np.asarray(B, float).reshape(-1, 3), axis=1)
             unit_GtB = np.divide(GtB, size[:, None], out=np.zeros_like(GtB),
                                  where=size[:, None] > 0)
