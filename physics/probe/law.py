@@ -9,6 +9,7 @@ Points are (N, 3) in m; B in T, G[n, i, j] = dB_i/dx_j in T/m; energies in J, fo
 """
 from __future__ import annotations
 
+from abc import ABC, abstractmethod
 from dataclasses import dataclass
 from typing import ClassVar
 
@@ -16,7 +17,7 @@ import numpy as np
 
 
 @dataclass(frozen=True, eq=False)
-class ProbeLaw:
+class ProbeLaw(ABC):
     """The probe's material law and mass: energy and force from B and G at a point.
 
     Construct a law with ``ProbeLaw.from_scene(scene)`` (the kind is looked up in the
@@ -99,6 +100,7 @@ class ProbeLaw:
 
     # -- the kind's physics -------------------------------------------------------------------
 
+    @abstractmethod
     def magnetic_energy(self, B) -> np.ndarray:
         """Magnetic energy of the probe with its centre where the applied field is B.
 
@@ -112,8 +114,8 @@ class ProbeLaw:
         numpy.ndarray
             (N,) energy, J.
         """
-        raise NotImplementedError(f"the {self.kind or type(self).__name__} law gives no energy")
 
+    @abstractmethod
     def magnetic_force(self, B, G) -> np.ndarray:
         """-grad U of the magnetic energy.
 
@@ -129,7 +131,6 @@ class ProbeLaw:
         numpy.ndarray
             (N, 3) force, N.
         """
-        raise NotImplementedError(f"the {self.kind or type(self).__name__} law gives no force")
 
     def volume_averaged(self, B, G, weights):
         """Energy and force averaged over the probe's volume from field samples in it.
