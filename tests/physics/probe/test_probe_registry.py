@@ -85,9 +85,11 @@ def test_the_law_answers_what_the_trap_search_asked_by_name(probe):
     assert law.saturates == (probe.kind == "soft" and probe.saturation is not None)
     assert law.stable_in_free_space == (probe.kind == "weak" and probe.susceptibility < 0)
     assert law.weakly_magnetic == (probe.kind == "weak")
-    assert law.earnshaw_label == ("paramagnetic weak" if probe.kind == "weak" and not
-                                  law.stable_in_free_space else
-                                  {"weak": "diamagnetic weak"}.get(probe.kind, probe.kind))
+    if probe.kind == "weak":
+        sign = "diamagnetic" if probe.susceptibility < 0 else "paramagnetic"
+        assert law.earnshaw_label == f"{sign} weak"
+    else:
+        assert law.earnshaw_label == probe.kind
     assert law.subject == {"soft": "The steel probe", "magnet": "The magnet probe"}.get(
         probe.kind, "The probe")
 
