@@ -42,12 +42,13 @@ import numpy as np
 from trapscape.scene import reading
 from trapscape.scene.errors import SceneError, SceneWarning
 from trapscape.scene.expressions import evaluate_params
-from trapscape.scene.grades import built_in_grades, find_grade, load_materials
+from trapscape.scene.grades import built_in_grades, load_materials
 from trapscape.scene.measures import largest_dimension, scene_bounding_box
-from trapscape.scene.model import (CONSTRAINT_KINDS, PROBE_KINDS, Constraint, Probe, Scene, SearchBox,
+from trapscape.scene.model import (CONSTRAINT_KINDS, Constraint, Probe, Scene, SearchBox,
                          SteelPlate, frozen_array)
 from trapscape.scene.overlaps import overlapping_pairs
-from trapscape.scene.parts import AXIS_WORDS, check_remanence, read_magnets
+from trapscape.scene.parts import read_magnets
+from trapscape.scene.probe_reading import read_probe
 from trapscape.scene.reading import Context
 from trapscape.scene.tomlfile import parse_toml
 from trapscape.scene.units import unit_scale
@@ -65,13 +66,6 @@ DEFAULT_PROBE = Probe(kind="soft", diameter=1e-3, density=7850.0, susceptibility
 DEFAULT_RESOLUTION = 80
 PLATE_SATURATION = 2.0  # T, low-carbon steel, from memory
 BYTES_PER_GRID_POINT = 400  # field, gradient, energies and their temporaries (rough estimate)
-PROBE_KEYS = {
-    "soft": ("kind", "diameter", "density", "susceptibility", "saturation", "constraint"),
-    "magnet": ("kind", "diameter", "density", "remanence", "grade", "orientation", "constraint"),
-    "weak": ("kind", "diameter", "density", "susceptibility", "constraint"),
-}
-PROBE_KEY_OWNERS = {"susceptibility": "soft and weak", "saturation": "soft",
-                    "remanence": "magnet", "grade": "magnet", "orientation": "magnet"}
 
 
 def parse_overrides(items) -> dict:
@@ -222,68 +216,9 @@ def _probe(ctx: Context, table, grades):
         return DEFAULT_PROBE, Constraint()
     where = f"{ctx.shown}, [probe]"
     table = reading.sub_table(table, where, "[probe] with kind = \"soft\" and diameter = 2")
-    kind = reading.word(table, "kind", where, PROBE_KINDS)
-    where = f"{where} ({kind})"
-    for key in table:
-        if key not in PROBE_KEYS[kind] and key in PROBE_KEY_OWNERS:
-            raise SceneError(f"{where}: '{key}' is not used by a {kind} probe (it is for "
-                             f"{PROBE_KEY_OWNERS[key]} probes); remove it or change the kind.")
-    reading.check_keys(table, PROBE_KEYS[kind], where)
-    diameter = reading.number(ctx, table, "diameter", where, length=True, positive=True,
-                              example="diameter = 2")
-    values = {"kind": kind, "diameter": diameter}
-    if kind == "soft":
-        values["density"] = reading.number(ctx, table, "density", where, default=7850.0,
-                                           positive=True)
-        values["susceptibility"] = _susceptibility(ctx, table, where, 1000.0)
-        if values["susceptibility"] <= 0:
-            raise SceneError(f"{where}, susceptibility: a soft (ferromagnetic) probe needs a "
-                             f"positive chi; use kind = \"weak\" for a diamagnet.")
-        values["saturation"] = reading.number(ctx, table, "saturation", where, default=None,
-                                              positive=True)
-    elif kind == "weak":
-        values["density"] = reading.number(ctx, table, "density", where, positive=True,
-                                           example="density = 2200")
-        values["susceptibility"] = _susceptibility(ctx, table, where, None)
-    else:
-        values.update(_magnet_probe(ctx, table, grades, where))
+    probe = read_probe(ctx, table, grades, where)
     constraint = _constraint(ctx, table.get("constraint"), f"{ctx.shown}, [probe.constraint]")
-    return Probe(**values), constraint
-
-
-def _susceptibility(ctx, table, where, default):
-    chi = reading.number(ctx, table, "susceptibility", where,
-                         default=reading.REQUIRED if default is None else default,
-                         example="susceptibility = -4.5e-4")
-    if chi <= -1.0:
-        raise SceneError(f"{where}, susceptibility: chi = {chi:g} is not physical (SI volume "
-                         f"susceptibility is above -1); a CGS value must be multiplied by 4 pi.")
-    return chi
-
-
-def _magnet_probe(ctx, table, grades, where) -> dict:
-    if ("grade" in table) == ("remanence" in table):
-        raise SceneError(f"{where}: give exactly one of grade = \"N42\" or remanence = 1.3 "
-                         f"(tesla) for a magnet probe.")
-    density = reading.number(ctx, table, "density", where, default=None, positive=True)
-    if "grade" in table:
-        grade = find_grade(table["grade"], grades, f"{where}, grade")
-        remanence, density = grade.remanence, density or grade.density or 7500.0
-    else:
-        remanence = reading.number(ctx, table, "remanence", where, positive=True)
-        check_remanence(remanence, f"{where}, remanence")
-        density = density or 7500.0
-    orientation = table.get("orientation", "free")
-    if orientation == "free":
-        fixed = None
-    elif isinstance(orientation, str) and orientation.strip().lower() in AXIS_WORDS:
-        fixed = frozen_array(AXIS_WORDS[orientation.strip().lower()], (3,))
-    elif isinstance(orientation, list):
-        fixed = frozen_array(reading.unit_vector(ctx, table, "orientation", where), (3,))
-    else:
-        raise SceneError(f"{where}, orientation: must be \"free\" (the probe turns to align) or "
-                         f"a fixed north such as [0, 0, 1] or \"+z\", got {orientation!r}.")
-    return {"density": density, "remanence": remanence, "orientation": fixed}
+    return probe, constraint
 
 
 def _constraint(ctx, table, where) -> Constraint:

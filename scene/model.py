@@ -6,11 +6,11 @@ physics/ reads it. Arrays are read-only float64 numpy arrays.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from types import MappingProxyType
 
 import numpy as np
 
 SHAPES = ("box", "cylinder", "ring", "arc", "sphere", "mesh")
-PROBE_KINDS = ("soft", "magnet", "weak")
 CONSTRAINT_KINDS = ("free", "line", "plane")
 
 
@@ -70,13 +70,16 @@ class SteelPlate:
 class Probe:
     """The small sphere whose equilibria we look for."""
 
-    kind: str  # soft | magnet | weak
+    kind: str  # a kind of scene.probe_kinds: soft | magnet | weak
     diameter: float  # metres
     density: float  # kg/m^3
     susceptibility: float | None = None  # SI volume chi (soft, weak)
     saturation: float | None = None  # Js in tesla (soft, optional)
     remanence: float | None = None  # tesla (magnet)
     orientation: np.ndarray | None = None  # magnet: None = free (turns to align), else unit north
+    # values of a kind's keys that have no field above (key -> SI value), for kinds declared
+    # later in scene.probe_kinds
+    extra: MappingProxyType = field(default_factory=lambda: MappingProxyType({}))
 
     @property
     def volume(self) -> float:

@@ -25,7 +25,7 @@ import numpy as np
 from scipy.integrate import lebedev_rule
 from scipy.special import roots_jacobi
 
-from trapscape.physics.probe.laws import ProbeModel
+from trapscape.physics.probe.models import ProbeModel
 
 DEFAULT_DEGREE = 7
 LEBEDEV_ORDERS = (3, 5, 7, 9, 11, 13, 15, 17, 19, 21, 23, 25, 27, 29, 31)
@@ -33,8 +33,25 @@ LEBEDEV_ORDERS = (3, 5, 7, 9, 11, 13, 15, 17, 19, 21, 23, 25, 27, 29, 31)
 
 @lru_cache(maxsize=8)
 def ball_rule(degree: int = DEFAULT_DEGREE):
-    """(points (Q, 3) in the unit ball, weights (Q,) summing to 1) exact to total degree
-    `degree` for the mean over the ball (see the module's docstring)."""
+    """A quadrature rule for the mean over the unit ball, exact to total degree `degree`.
+
+    Parameters
+    ----------
+    degree : int
+        Polynomial degree integrated exactly (see the module's docstring).
+
+    Returns
+    -------
+    points : numpy.ndarray
+        (Q, 3) nodes in the unit ball (dimensionless; scale by the radius), read-only.
+    weights : numpy.ndarray
+        (Q,) weights summing to 1, read-only.
+
+    References
+    ----------
+    Gauss-Jacobi radii (weight r^2) times scipy.integrate.lebedev_rule directions (V. I.
+    Lebedev & D. N. Laikov, Doklady Mathematics 59, 477 (1999)).
+    """
     order = next((o for o in LEBEDEV_ORDERS if o >= degree), LEBEDEV_ORDERS[-1])
     directions, angular = lebedev_rule(order)  # (3, M), weights summing to 4 pi
     n_radial = max(1, math.ceil((degree + 1) / 2))
@@ -49,6 +66,7 @@ def ball_rule(degree: int = DEFAULT_DEGREE):
 
 
 def rule_description(degree: int = DEFAULT_DEGREE) -> str:
+    """One line saying which ball rule of `degree` is used (for reports)."""
     points, _ = ball_rule(degree)
     n_radial = max(1, math.ceil((degree + 1) / 2))
     return (f"volume average by a degree-{degree} rule over the sphere: {n_radial} Gauss-Jacobi "
@@ -57,7 +75,22 @@ def rule_description(degree: int = DEFAULT_DEGREE) -> str:
 
 class AveragedProbe(ProbeModel):
     """The probe's magnetic energy and force averaged over its volume (gravity is linear, so
-    its centre value is exact). Same interface as physics.probe.laws.PointProbe."""
+    its centre value is exact). Same interface as physics.probe.laws.PointProbe; the law
+    decides what is averaged (ProbeLaw.volume_averaged: the energy density, or B first for a
+    rigid magnet).
+
+    Parameters
+    ----------
+    field_model : trapscape.physics.field.model.FieldModel
+    law : trapscape.physics.probe.law.ProbeLaw
+    degree : int
+        Degree of the ball rule (ball_rule); 7 gives 104 field samples per probe.
+
+    References
+    ----------
+    Local approximation M(x) = chi_eff H0(x), exact to first order in chi (Landau & Lifshitz,
+    Electrodynamics of Continuous Media, section 32).
+    """
 
     def __init__(self, field_model, law, degree: int = DEFAULT_DEGREE):
         super().__init__(field_model, law)
@@ -67,21 +100,29 @@ class AveragedProbe(ProbeModel):
         self.offsets = unit * (law.diameter / 2.0)
 
     def magnetic_energy_and_force(self, points):
+        """Volume-averaged magnetic U (N,) in J and F (N, 3) in N at centres (N, 3) in m."""
         points = np.asarray(points, float).reshape(-1, 3)
         n, q = len(points), len(self.weights)
         samples = (points[:, None, :] + self.offsets[None, :, :]).reshape(-1, 3)
         B, G = self.applied_field(samples)
-        if self.law.kind == "magnet":
-            B_mean = np.einsum("nqi,q->ni", B.reshape(n, q, 3), self.weights)
-            G_mean = np.einsum("nqij,q->nij", G.reshape(n, q, 3, 3), self.weights)
-            return self.law.magnetic_energy(B_mean), self.law.magnetic_force(B_mean, G_mean)
-        U = self.law.magnetic_energy(B).reshape(n, q) @ self.weights
-        F = np.einsum("nqi,q->ni", self.law.magnetic_force(B, G).reshape(n, q, 3), self.weights)
-        return U, F
+        return self.law.volume_averaged(B.reshape(n, q, 3), G.reshape(n, q, 3, 3), self.weights)
 
 
 def relative_energy_correction(point_probe, averaged_probe, points) -> np.ndarray:
-    """|U_avg - U_point| / |U_point| of the magnetic energy at points (N,), 0 where both vanish."""
+    """The relative change of the magnetic energy that the finite size makes.
+
+    Parameters
+    ----------
+    point_probe, averaged_probe : ProbeModel
+        The point model and a finite-size model of the same probe.
+    points : array_like
+        (N, 3) m.
+
+    Returns
+    -------
+    numpy.ndarray
+        (N,) |U_avg - U_point| / |U_point| (dimensionless), 0 where U_point vanishes.
+    """
     points = np.asarray(points, float).reshape(-1, 3)
     U_point = point_probe.magnetic_energy_and_force(points)[0]
     U_mean = averaged_probe.magnetic_energy_and_force(points)[0]
@@ -98,9 +139,26 @@ SAMPLE_DEPTH = 1e-6  # relative depth below the probe's surface where the field 
 
 def multipole_susceptibility(chi: float, degree: int) -> float:
     """chi_l = (2l+1) chi / (l (2 + chi) + 1): the weight of the l-th multipole of the applied
-    field in the energy of a linear sphere (derived here from the boundary conditions of the
-    l-th solid harmonic at r = a, as in Jackson 5.11 for l = 1; chi_1 = chi_eff, chi_l -> chi for
-    small chi, -> 2 + 1/l for chi -> inf)."""
+    field in the energy of a linear sphere.
+
+    Parameters
+    ----------
+    chi : float
+        SI volume susceptibility (dimensionless).
+    degree : int
+        l >= 1.
+
+    Returns
+    -------
+    float
+        chi_l (dimensionless); chi_1 = chi_eff, chi_l -> chi for small chi, -> 2 + 1/l for
+        chi -> inf.
+
+    References
+    ----------
+    Derived here from the boundary conditions of the l-th solid harmonic at r = a, as in
+    J. D. Jackson, Classical Electrodynamics, 3rd ed., 5.11 for l = 1.
+    """
     return (2 * degree + 1) * chi / (degree * (2.0 + chi) + 1.0)
 
 
@@ -130,12 +188,26 @@ class MultipoleProbe(ProbeModel):
     here: U = -(mu0/2) integral M.H0 dV with the induced M of each solid harmonic; the l-th part
     of integral H0^2 dV over the ball is a^3 sum_m |h_lm|^2 / l by Green's identity). Valid while
     the ball holds no source (clearance >= d/2). Harmonics above max_degree are dropped: their
-    share of the energy is reported by truncation_share()."""
+    share of the energy is reported by truncation_share().
+
+    Parameters
+    ----------
+    field_model : trapscape.physics.field.model.FieldModel
+    law : trapscape.physics.probe.law.ProbeLaw
+        A law with a linear_susceptibility (soft, weak); ValueError otherwise.
+    max_degree : int
+        Highest multipole degree l kept.
+
+    References
+    ----------
+    J. D. Jackson, Classical Electrodynamics, 3rd ed., 5.11 (l = 1); higher l derived here.
+    """
 
     def __init__(self, field_model, law, max_degree: int = DEFAULT_MAX_DEGREE):
         super().__init__(field_model, law)
-        if law.kind == "magnet":
-            raise ValueError("MultipoleProbe is for soft and weak probes")
+        if law.linear_susceptibility is None:
+            raise ValueError(f"MultipoleProbe is for probes with an induced linear response, "
+                             f"not {law.kind} probes")
         self.max_degree = max_degree
         self.radius = law.diameter / 2.0
         # Sample just inside the surface, so that a probe touching a magnet never samples the
@@ -143,7 +215,7 @@ class MultipoleProbe(ProbeModel):
         self.sample_radius = self.radius * (1.0 - SAMPLE_DEPTH)
         self.directions, self.harmonics, self.degrees = _surface_harmonics(max_degree)
         self.harmonics = self.harmonics * ((1.0 / (1.0 - SAMPLE_DEPTH)) ** (self.degrees - 1))[:, None]
-        self.weights = np.array([multipole_susceptibility(law.susceptibility, l) / l
+        self.weights = np.array([multipole_susceptibility(law.linear_susceptibility, l) / l
                                  for l in self.degrees])
         self.description = (f"exact linear sphere: applied field's multipoles up to degree "
                             f"{max_degree} on {len(self.directions)} Lebedev points")
@@ -165,6 +237,7 @@ class MultipoleProbe(ProbeModel):
         return h, dh
 
     def magnetic_energy_and_force(self, points):
+        """Exact magnetic U (N,) in J and F (N, 3) in N of the linear sphere at (N, 3) m."""
         from trapscape.scene.units import MU0
 
         h, dh = self._coefficients(points)
@@ -174,8 +247,19 @@ class MultipoleProbe(ProbeModel):
         return U, -grad
 
     def truncation_share(self, points) -> np.ndarray:
-        """The share of integral H.r^2 over the sphere that degrees above max_degree carry (N,):
-        an estimate of the energy dropped (it bounds it when chi_l/l falls with l)."""
+        """The share of integral H.r^2 over the sphere that degrees above max_degree carry.
+
+        Parameters
+        ----------
+        points : array_like
+            (N, 3) probe centres, m.
+
+        Returns
+        -------
+        numpy.ndarray
+            (N,) dimensionless: an estimate of the energy dropped (it bounds it when chi_l/l
+            falls with l).
+        """
         h, _ = self._coefficients(points, gradient=False)
         points = np.asarray(points, float).reshape(-1, 3)
         n, q = len(points), len(self.directions)

@@ -1,0 +1,141 @@
+"""The probe at points: energy, force and Hessian from a law and the field model.
+
+ProbeModel samples the magnets' applied field and hands it to the probe's law; PointProbe takes
+the field at the centre, physics.probe.finite the field over the volume. The Hessian is the
+central difference of the exact force.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from trapscape.scene.units import MU0
+
+HESSIAN_STEP_FRACTION = 1e-4  # FD step: this fraction of min(probe diameter, clearance)
+
+
+class ProbeModel:
+    """Energy, force and Hessian of the probe at points; subclasses choose how the field is
+    sampled (PointProbe: at the centre; physics.probe.finite.AveragedProbe: over the volume).
+
+    Parameters
+    ----------
+    field_model : trapscape.physics.field.model.FieldModel
+        Gives the applied H and its gradient, and the clearance to the magnets.
+    law : trapscape.physics.probe.law.ProbeLaw
+        The probe kind's law.
+    """
+
+    description = ""
+
+    def __init__(self, field_model, law):
+        self.field_model = field_model
+        self.law = law
+
+    def applied_field(self, points):
+        """The magnets' B = mu0 H and its gradient, valid where no magnet is.
+
+        Parameters
+        ----------
+        points : array_like
+            (N, 3) m.
+
+        Returns
+        -------
+        B : numpy.ndarray
+            (N, 3) T.
+        G : numpy.ndarray
+            (N, 3, 3) G[n, i, j] = dB_i/dx_j, T/m.
+        """
+        points = np.asarray(points, float).reshape(-1, 3)
+        H, G = self.field_model.applied_H(points, gradient=True)
+        return MU0 * H, MU0 * G
+
+    def magnetic_energy_and_force(self, points):
+        """Magnetic U (N,) in J and F (N, 3) in N at probe centres (N, 3) in m."""
+        raise NotImplementedError(f"{type(self).__name__} does not sample the field")
+
+    def energy_and_force(self, points):
+        """Total energy and force, gravity included.
+
+        Parameters
+        ----------
+        points : array_like
+            (N, 3) probe centres, m.
+
+        Returns
+        -------
+        U : numpy.ndarray
+            (N,) J.
+        F : numpy.ndarray
+            (N, 3) F = -grad U, N.
+        """
+        points = np.asarray(points, float).reshape(-1, 3)
+        U, F = self.magnetic_energy_and_force(points)
+        return U + self.law.gravity_energy(points), F + self.law.gravity_force()
+
+    def energy(self, points) -> np.ndarray:
+        """(N,) J at (N, 3) m, gravity included."""
+        return self.energy_and_force(points)[0]
+
+    def force(self, points) -> np.ndarray:
+        """(N, 3) N at (N, 3) m, gravity included."""
+        return self.energy_and_force(points)[1]
+
+    def hessian_steps(self, points) -> np.ndarray:
+        """Finite-difference steps (N,) in m: 1e-4 of min(d, clearance), so that x +- h never
+        straddles a magnet's surface (the centre is at clearance >= d/2 > h)."""
+        points = np.asarray(points, float).reshape(-1, 3)
+        d = self.law.diameter
+        clearance = self.field_model.clearance(points)
+        scale = np.clip(np.abs(clearance), 1e-6 * d, d)
+        return HESSIAN_STEP_FRACTION * scale
+
+    def hessian(self, points, directions=None, steps=None) -> np.ndarray:
+        """Hessian of U projected on the directions, K_ab = -e_a . dF/de_b, by central
+        differences of the exact force, symmetrised.
+
+        Parameters
+        ----------
+        points : array_like
+            (N, 3) m.
+        directions : array_like, optional
+            (k, 3) orthonormal rows shared by all points, or (N, k, 3); default the three axes.
+        steps : array_like, optional
+            (N,) m; default hessian_steps(points).
+
+        Returns
+        -------
+        numpy.ndarray
+            (N, k, k) N/m.
+        """
+        points = np.asarray(points, float).reshape(-1, 3)
+        n = len(points)
+        if directions is None:
+            directions = np.eye(3)
+        E = np.broadcast_to(np.asarray(directions, float), (n,) + np.shape(directions)[-2:])
+        k = E.shape[1]
+        if n == 0 or k == 0:
+            return np.zeros((n, k, k))
+        h = self.hessian_steps(points) if steps is None else np.broadcast_to(steps, (n,))
+        offsets = h[:, None, None, None] * np.stack([E, -E], axis=2)  # (n, k, 2, 3)
+        shifted = (points[:, None, None, :] + offsets).reshape(-1, 3)
+        F = self.force(shifted).reshape(n, k, 2, 3)
+        dF = (F[:, :, 0] - F[:, :, 1]) / (2.0 * h[:, None, None])  # (n, k_b, 3): dF/de_b
+        K = -np.einsum("nai,nbi->nab", E, dF)
+        return 0.5 * (K + np.transpose(K, (0, 2, 1)))
+
+
+class PointProbe(ProbeModel):
+    """The probe as a point: the law applied to the field at its centre (DESIGN.md, Physics,
+    small probes)."""
+
+    description = "point probe (field at the centre)"
+
+    def magnetic_energy_and_force(self, points):
+        """Magnetic U (N,) in J and F (N, 3) in N from the field at the centres (N, 3) in m."""
+        B, G = self.applied_field(points)
+        return self.law.magnetic_energy(B), self.law.magnetic_force(B, G)
+
+    def B(self, points) -> np.ndarray:
+        """The applied B (N, 3) in T at (N, 3) m."""
+        return self.applied_field(points)[0]
