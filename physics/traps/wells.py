@@ -99,7 +99,7 @@ def with_escapes(problem, grid, equilibria, final_model) -> list:
     list of Equilibrium
         Same order, with escape and well set on the wells.
     """
-    state = flood_state(grid)
+    cells = escape.FloodGrid(grid.energy_J, flood_state(grid), grid.shape)
     admissible_cells = np.flatnonzero(grid.admissible)
     if len(admissible_cells) == 0:
         return equilibria
@@ -122,8 +122,8 @@ def with_escapes(problem, grid, equilibria, final_model) -> list:
             if j != i and start_cells[j] != start_cells[i]:
                 others[start_cells[j]] = True
         bottom = float(problem.point_model.energy(eq.position[None])[0])
-        flood = escape.flood_from(grid.energy_J, state, grid.shape, start_cells[i], bottom,
-                                  exit_cells=others, magnets_are_exits=eq.contact is None)
+        flood = escape.flood_from(cells, start_cells[i], bottom, exit_cells=others,
+                                  magnets_are_exits=eq.contact is None)
         result[i] = replace(eq, escape=escape_figures(setting, eq, flood),
                             well=well_of(flood, grid))
     return result
