@@ -76,7 +76,8 @@ def boundary_cells(grid) -> np.ndarray:
     """
     shape = grid.shape
     blocked = (grid.inside_box & ~grid.admissible).reshape(shape)
-    near = ndimage.binary_dilation(blocked, structure=ndimage.generate_binary_structure(len(shape), 1))
+    along_axes = ndimage.generate_binary_structure(len(shape), 1)
+    near = ndimage.binary_dilation(blocked, structure=along_axes)
     return near.reshape(-1) & grid.admissible
 
 

@@ -55,6 +55,16 @@ def contact_equilibria(problem, grid) -> list:
 
 
 def starts_were_capped(problem, grid) -> bool:
-    """True when contact_starts hit its limit (cells beyond it were not followed)."""
+    """Whether contact_starts hit its limit (cells beyond it were not followed).
+
+    Parameters
+    ----------
+    problem : TrapProblem
+    grid : ScanGrid
+
+    Returns
+    -------
+    bool
+    """
     limit = problem.tolerances.max_contact_starts
     return len(contact_starts(grid, limit)) >= limit

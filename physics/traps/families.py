@@ -39,7 +39,19 @@ def unique_points(points, distance: float) -> np.ndarray:
 
 
 def drop_repeats(equilibria, distance: float) -> list:
-    """The equilibria without those closer than `distance` (m) to an earlier one, in order."""
+    """The equilibria without those closer than `distance` to an earlier one.
+
+    Parameters
+    ----------
+    equilibria : sequence of Equilibrium
+    distance : float
+        m.
+
+    Returns
+    -------
+    list of Equilibrium
+        In the input order.
+    """
     kept = []
     for eq in equilibria:
         if all(np.linalg.norm(eq.position - other.position) > distance for other in kept):

@@ -76,7 +76,21 @@ def finite_correction(problem, finite, equilibria, grid) -> np.ndarray:
 
 
 def finite_summary(problem, finite, used: bool, largest: float) -> FiniteProbe:
-    """The report's FiniteProbe: which model, whether it was used, the largest correction."""
+    """The report's FiniteProbe: which model, whether it was used, the largest correction.
+
+    Parameters
+    ----------
+    problem : TrapProblem
+    finite : ProbeModel or None
+        None: the point model is exact (a rigid magnet probe).
+    used : bool
+    largest : float
+        Largest relative correction over the equilibria (dimensionless).
+
+    Returns
+    -------
+    FiniteProbe
+    """
     threshold = problem.tolerances.finite_probe_threshold
     if finite is None:
         return FiniteProbe(used=False, model="point probe (exact for a rigid magnet)",
@@ -119,7 +133,7 @@ def resolve_finite(problem, finite, equilibria) -> list:
     return drop_repeats(result, 1e-2 * problem.spacing)
 
 
-def shifted(new, old):
+def _shifted(new, old):
     """new with old's family size and correction, and how far it moved from old (m)."""
     return replace(new, family_size=old.family_size,
                    finite_probe_correction=old.finite_probe_correction,
@@ -127,8 +141,19 @@ def shifted(new, old):
 
 
 def resolve_free(problem, finite, equilibria, starts, notes=None) -> list:
-    """Free equilibria re-solved by Newton's method with the finite model from `starts` (M, 3),
-    m; one that does not converge keeps its point-model entry with a note.
+    """Free equilibria re-solved by Newton's method with the finite model; one that does not
+    converge keeps its point-model entry with a note.
+
+    Parameters
+    ----------
+    problem : TrapProblem
+    finite : ProbeModel
+    equilibria : list of Equilibrium
+        M of them.
+    starts : array_like, shape (M, 3)
+        m, where Newton starts for each.
+    notes : list of str or None
+        One per equilibrium, replacing its note.
 
     Returns
     -------
@@ -151,13 +176,20 @@ def resolve_free(problem, finite, equilibria, starts, notes=None) -> list:
         note = notes[i] if notes is not None else eq.note
         new = make_equilibrium(problem, Sample(x[i], U[j], F[j], B[j]),
                                LocalHessian(basis, K[j]), note=note)
-        result.append(shifted(new, eq))
+        result.append(_shifted(new, eq))
         j += 1
     return result
 
 
 def resolve_contacts(problem, finite, equilibria) -> tuple:
     """Contacts re-solved along their surface with the finite model.
+
+    Parameters
+    ----------
+    problem : TrapProblem
+    finite : ProbeModel
+    equilibria : list of Equilibrium
+        The point model's contacts.
 
     Returns
     -------
@@ -189,7 +221,7 @@ def resolve_contacts(problem, finite, equilibria) -> tuple:
         new = make_equilibrium(problem, Sample(x[i], U[i], F[i], B[i]),
                                LocalHessian(tangents[i], K_t[i]), contact=contact, note=eq.note)
         if new.classification in ("stable", "marginal"):
-            resolved.append(shifted(new, eq))
+            resolved.append(_shifted(new, eq))
     return resolved, lifted, starts
 
 

@@ -78,8 +78,21 @@ def earnshaw_note(problem, equilibria) -> str | None:
 
 
 def finite_probe_note(description: str, used: bool, largest: float, threshold: float) -> str:
-    """The finite-probe summary's sentence: re-solved with `description`, or the point model
-    kept because the largest relative correction stayed at or below the threshold."""
+    """The finite-probe summary's sentence.
+
+    Parameters
+    ----------
+    description : str
+        The finite model's description.
+    used : bool
+        The equilibria were re-solved with it.
+    largest, threshold : float
+        The largest relative correction and the threshold (dimensionless).
+
+    Returns
+    -------
+    str
+    """
     if used:
         return (f"Equilibria re-solved with the probe's finite size ({description}); the "
                 "scan grid, wells and escape paths use the point model.")
@@ -88,6 +101,15 @@ def finite_probe_note(description: str, used: bool, largest: float, threshold: f
 
 
 def contact_limit_note(limit: int) -> str:
-    """Said when only the `limit` lowest cells next to a surface were followed."""
+    """Said when only the `limit` lowest cells next to a surface were followed.
+
+    Parameters
+    ----------
+    limit : int
+
+    Returns
+    -------
+    str
+    """
     return (f"Only the {limit} lowest grid cells next to a surface were followed to contact "
             "points; a finer or smaller search box finds more.")

@@ -143,8 +143,18 @@ class TrapProblem:
         return len(self.basis)
 
     def line_coordinate(self, x) -> float | None:
-        """Signed distance of x (3,) along the constraint's line from its point, m; None
-        unless the constraint is a line."""
+        """Signed distance along the constraint's line from its point.
+
+        Parameters
+        ----------
+        x : array_like, shape (3,)
+            m.
+
+        Returns
+        -------
+        float or None
+            m; None unless the constraint is a line.
+        """
         if self.constraint_kind != "line":
             return None
         return float((np.asarray(x) - self.constraint_point) @ self.constraint_direction)

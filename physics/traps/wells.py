@@ -61,8 +61,17 @@ class EscapeSetting:
 
 
 def flood_state(grid) -> np.ndarray:
-    """Cell states for the flood: ADMISSIBLE, AT_MAGNET (in the box, the probe does not fit) or
-    OUTSIDE_BOX; (N,) int8."""
+    """Cell states for the flood.
+
+    Parameters
+    ----------
+    grid : ScanGrid
+
+    Returns
+    -------
+    ndarray of int8, shape (N,)
+        ADMISSIBLE, AT_MAGNET (in the box, the probe does not fit) or OUTSIDE_BOX.
+    """
     state = np.full(len(grid.points), escape.AT_MAGNET, np.int8)
     state[grid.admissible] = escape.ADMISSIBLE
     state[~grid.inside_box] = escape.OUTSIDE_BOX
@@ -71,7 +80,17 @@ def flood_state(grid) -> np.ndarray:
 
 def has_well(eq, marginal_ratio: float) -> bool:
     """Stable, or marginal with no direction falling by more than marginal_ratio of the largest
-    stiffness: the probe stays there, so it has a well to escape from."""
+    stiffness: the probe stays there, so it has a well to escape from.
+
+    Parameters
+    ----------
+    eq : Equilibrium
+    marginal_ratio : float
+
+    Returns
+    -------
+    bool
+    """
     if eq.classification == "stable":
         return True
     if eq.classification == "marginal" and eq.stiffness_N_per_m:
@@ -164,7 +183,18 @@ def escape_figures(setting: EscapeSetting, eq, flood) -> Escape:
 
 
 def well_of(flood, grid) -> Well:
-    """The Well of a flood: its cells, and on a line the interval they span (m)."""
+    """The Well of a flood.
+
+    Parameters
+    ----------
+    flood : physics.traps.escape.Flood
+    grid : ScanGrid
+
+    Returns
+    -------
+    Well
+        Its cells, and on a line the interval of coordinates they span, m.
+    """
     interval = None
     if grid.kind == "line":
         t = grid.line_coordinates_m[flood.flooded]

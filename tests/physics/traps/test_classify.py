@@ -4,7 +4,8 @@ import numpy as np
 import pytest
 
 from trapscape.physics.field.model import FieldModel
-from trapscape.physics.traps.classify import LocalHessian, Sample, classify, frequencies, make_equilibrium
+from trapscape.physics.traps.classify import (LocalHessian, Sample, classify, frequencies,
+                                              make_equilibrium)
 from trapscape.physics.traps.problem import MARGINAL_RATIO, TrapProblem
 from scene_factory import constraint, make_scene, soft_probe, sphere_magnet
 
@@ -91,7 +92,8 @@ def test_make_equilibrium_expresses_directions_in_its_frame(line_problem):
 
 def test_a_field_zero_is_unstable_by_rule(line_problem):
     # DESIGN.md, Physics: a magnet probe at B = 0 (where -m|B| is a cone) is unstable by rule
-    eq = make_equilibrium(line_problem, sample_at((0, 0, 0)), LocalHessian(line_problem.basis, None))
+    eq = make_equilibrium(line_problem, sample_at((0, 0, 0)),
+                          LocalHessian(line_problem.basis, None))
     assert eq.classification == "unstable" and eq.stable_directions == 0
     assert eq.stiffness_N_per_m == (None,) and eq.frequency_Hz == (None,)
     assert "cone" in eq.note and eq.directions.tolist() == [[0.0, 0.0, 1.0]]
