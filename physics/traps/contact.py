@@ -11,6 +11,7 @@ DESCENT_ITERATIONS = 300
 
 
 def in_box(points, low, high, tolerance) -> np.ndarray:
+    """Points (N, 3) inside the box [low, high] (3,) widened by tolerance, all in m; (N,) bool."""
     return np.all((points >= low - tolerance) & (points <= high + tolerance), axis=1)
 
 
@@ -24,7 +25,28 @@ def world_box(magnet):
 
 
 class ProbeGeometry:
-    """Admissibility and surfaces: the probe's centre keeps d/2 from magnets and plates."""
+    """Admissibility and surfaces: the probe's centre keeps d/2 from magnets and plates.
+
+    Parameters
+    ----------
+    field_model : FieldModel
+        Its clearance, part and plate distances (m) and magnets.
+    scene : scene.model.Scene
+        The search box and the part names.
+    law : ProbeLaw
+        The probe's diameter.
+
+    Attributes
+    ----------
+    radius : float
+        d/2, m.
+    low, high : ndarray, shape (3,)
+        The search box, m.
+    spacing : float
+        Grid step, m.
+    names : list of str
+        Magnets, then plates.
+    """
 
     def __init__(self, field_model, scene, law):
         self.field_model = field_model
@@ -36,6 +58,8 @@ class ProbeGeometry:
         self.part_boxes = [world_box(m) for m in scene.magnets]
 
     def clearance(self, points) -> np.ndarray:
+        """Distance (N,) in m from points (N, 3) to the nearest magnet surface or plate face
+        (negative inside a magnet or behind a plate)."""
         return self.field_model.clearance(np.asarray(points, float).reshape(-1, 3))
 
     def admissible(self, points, tolerance=1e-9) -> np.ndarray:
@@ -55,13 +79,15 @@ class ProbeGeometry:
         return ok
 
     def surface_name(self, points) -> list:
+        """Name of the nearest magnet or plate to each point (N, 3); list of N str."""
         points = np.asarray(points, float).reshape(-1, 3)
         both = np.concatenate([self.field_model.part_distances(points),
                                self.field_model.plate_distances(points)], axis=1)
         return [self.names[i] for i in np.argmin(both, axis=1)]
 
     def normal(self, points) -> np.ndarray:
-        """Unit gradient of the clearance (N, 3), central differences."""
+        """Unit gradient of the clearance at points (N, 3), by central differences of step
+        1e-6 d/2: the outward surface normal, (N, 3)."""
         points = np.asarray(points, float).reshape(-1, 3)
         h = 1e-6 * self.radius
         offsets = np.concatenate([np.eye(3), -np.eye(3)]) * h
@@ -71,7 +97,9 @@ class ProbeGeometry:
         return gradient / np.maximum(np.linalg.norm(gradient, axis=1, keepdims=True), 1e-300)
 
     def clearance_hessian(self, points, tangents) -> np.ndarray:
-        """Second derivatives of the clearance along tangents (N, m, 3): (N, m, m)."""
+        """Second derivatives of the clearance along tangents (N, m, 3) at points (N, 3), by
+        central differences of step 1e-3 d/2 (Abramowitz & Stegun 25.3.23 and 25.3.26):
+        (N, m, m) in 1/m."""
         points = np.asarray(points, float).reshape(-1, 3)
         n, m = tangents.shape[0], tangents.shape[1]
         h = 1e-3 * self.radius
@@ -91,7 +119,8 @@ class ProbeGeometry:
         return result
 
     def project_to_surface(self, points, basis, iterations=6) -> np.ndarray:
-        """Move points along the allowed directions onto clearance = d/2 (Newton steps)."""
+        """Points (N, 3) moved along the allowed directions basis (k, 3) onto clearance = d/2 by
+        Newton steps on the clearance; (N, 3) in m."""
         x = np.asarray(points, float).reshape(-1, 3).copy()
         projector = basis.T @ basis
         for _ in range(iterations):
@@ -104,7 +133,22 @@ class ProbeGeometry:
 
 
 def pseudo_solve(K, g):
-    """K^+ g per point, ignoring eigenvalues below 1e-10 of the largest (marginal directions)."""
+    """K^+ g per point, ignoring eigenvalues below 1e-10 of the largest (marginal directions):
+    the pseudo-inverse by the eigen-decomposition (Golub & Van Loan, Matrix Computations, 4th ed.,
+    section 5.5).
+
+    Parameters
+    ----------
+    K : ndarray, shape (N, k, k)
+        Symmetric, N/m.
+    g : ndarray, shape (N, k)
+        N.
+
+    Returns
+    -------
+    ndarray, shape (N, k)
+        m.
+    """
     values, vectors = np.linalg.eigh(K)
     top = np.max(np.abs(values), axis=1, keepdims=True)
     inverse = np.divide(1.0, values, out=np.zeros_like(values), where=np.abs(values) > 1e-10 * top)
@@ -112,8 +156,22 @@ def pseudo_solve(K, g):
 
 
 def line_contacts(grid, geometry, starts) -> np.ndarray:
-    """On a line: bisect for clearance = d/2 between each boundary sample and its blocked
-    neighbour; (points (M, 3))."""
+    """On a line: bisect (60 halvings) for clearance = d/2 between each boundary sample and its
+    blocked neighbour.
+
+    Parameters
+    ----------
+    grid : ScanGrid
+        A line grid.
+    geometry : ProbeGeometry
+    starts : ndarray of int, shape (S,)
+        Flat indices of admissible samples next to a blocked one.
+
+    Returns
+    -------
+    ndarray, shape (M, 3)
+        m, admissible (the admissible end of each bracket).
+    """
     n = len(grid.points)
     blocked = grid.inside_box & ~grid.admissible
     found = []
@@ -132,7 +190,19 @@ def line_contacts(grid, geometry, starts) -> np.ndarray:
 
 
 def tangent_basis(normals, basis):
-    """(N, m, 3) orthonormal directions allowed by the constraint and along the surface."""
+    """Orthonormal directions allowed by the constraint and along the surface.
+
+    Parameters
+    ----------
+    normals : ndarray, shape (N, 3)
+        Unit surface normals.
+    basis : ndarray, shape (k, 3)
+        The constraint's allowed directions.
+
+    Returns
+    -------
+    ndarray, shape (N, k - 1, 3)
+    """
     projector = basis.T @ basis
     n_allowed = normals @ projector
     size = np.linalg.norm(n_allowed, axis=1, keepdims=True)
@@ -149,8 +219,23 @@ def tangent_basis(normals, basis):
 
 
 def surface_descent(model, geometry, starts, basis, iterations=DESCENT_ITERATIONS):
-    """Steepest descent of U along the contact surface (re-projected after each step, step
-    doubled on success and quartered on failure), then a few Newton steps on the surface."""
+    """Steepest descent of U along the contact surface, re-projected after each step, step
+    doubled on success and quartered on failure.
+
+    Parameters
+    ----------
+    model : ProbeModel
+    geometry : ProbeGeometry
+    starts : ndarray, shape (N, 3)
+        m, near the surface.
+    basis : ndarray, shape (k, 3)
+    iterations : int
+
+    Returns
+    -------
+    ndarray, shape (N, 3)
+        m, on the surface (clearance = d/2).
+    """
     x = geometry.project_to_surface(starts, basis)
     U, F = model.energy_and_force(x)
     h = geometry.spacing
@@ -179,7 +264,22 @@ def surface_newton(model, geometry, points, basis, iterations=8):
     """Newton's method for a contact equilibrium along the surface: the tangential force and
     the surface-restricted Hessian K_t of contact_state, steps limited to half a grid step and
     re-projected onto the surface. Used to polish a descent and to re-solve with the finite
-    size, where each evaluation is costly."""
+    size, where each evaluation is costly.
+
+    Parameters
+    ----------
+    model : ProbeModel
+    geometry : ProbeGeometry
+    points : ndarray, shape (N, 3)
+        m, on the surface.
+    basis : ndarray, shape (k, 3)
+    iterations : int
+
+    Returns
+    -------
+    ndarray, shape (N, 3)
+        m; unchanged on a line (k = 1), where the geometry fixes the contact.
+    """
     x = np.asarray(points, float).reshape(-1, 3).copy()
     if basis.shape[0] <= 1 or len(x) == 0:
         return x
@@ -202,8 +302,29 @@ def surface_newton(model, geometry, points, basis, iterations=8):
 
 
 def contact_state(model, geometry, points, basis):
-    """Normal, normal force (> 0 when pressed), tangents and the surface-restricted Hessian
-    K_t = T (Hess U - N Hess c) T^T (Lagrange multiplier N = -dU/dc; derived here)."""
+    """Normal, normal force, tangents and the surface-restricted Hessian
+    K_t = T (Hess U - N Hess c) T^T (Lagrange multiplier N = -dU/dc; derived here).
+
+    Parameters
+    ----------
+    model : ProbeModel
+    geometry : ProbeGeometry
+    points : ndarray, shape (N, 3)
+        m, on the surface.
+    basis : ndarray, shape (k, 3)
+
+    Returns
+    -------
+    normals : ndarray, shape (N, 3)
+        Unit, from the surface towards the probe.
+    normal_force : ndarray, shape (N,)
+        N, > 0 when the probe is pressed against the surface.
+    tangents : ndarray, shape (N, k - 1, 3)
+    K_t : ndarray, shape (N, k - 1, k - 1)
+        N/m.
+    F : ndarray, shape (N, 3)
+        Total force on the probe, N.
+    """
     normals = geometry.normal(points)
     F = model.force(points)
     projector = basis.T @ basis

@@ -22,29 +22,75 @@ EXIT_NAMES = {EXIT_NONE: None, EXIT_BOX: "box", EXIT_MAGNET: "magnet", EXIT_WELL
 
 
 @dataclass(frozen=True, eq=False)
+class FloodGrid:
+    """The grid a flood runs on.
+
+    Attributes
+    ----------
+    energy : ndarray, shape (N,)
+        J on the flattened grid (C order).
+    state : ndarray of int8, shape (N,)
+        ADMISSIBLE | AT_MAGNET | OUTSIDE_BOX per cell.
+    shape : tuple of 1 to 3 ints
+        The grid's axes (the allowed directions).
+    """
+
+    energy: np.ndarray
+    state: np.ndarray
+    shape: tuple
+
+
+@dataclass(frozen=True, eq=False)
 class Flood:
-    """What the flood from one cell found (indices into the flattened grid)."""
+    """What the flood from one cell found (indices into the flattened grid).
 
-    level: float  # J, the barrier level on the grid (inf when no exit was reached)
-    exit_kind: str | None  # "box" | "magnet" | "another well" | None (closed in)
-    exit_cell: int  # the last cell of the path, -1 when none
-    path: np.ndarray  # (P,) cells from the start to the exit
-    flooded: np.ndarray  # (N,) bool: cells reached below the barrier level (the well)
+    Attributes
+    ----------
+    level : float
+        J, the barrier level on the grid (inf when no exit was reached).
+    exit_kind : str or None
+        "box" | "magnet" | "another well" | None (closed in).
+    exit_cell : int
+        The last cell of the path, -1 when none.
+    path : ndarray of int, shape (P,)
+        Cells from the start to the exit.
+    flooded : ndarray of bool, shape (N,)
+        Cells reached below the barrier level (the well).
+    """
+
+    level: float
+    exit_kind: str | None
+    exit_cell: int
+    path: np.ndarray
+    flooded: np.ndarray
 
 
-def flood_from(energy, state, shape, start: int, bottom: float, exit_cells=None,
+def flood_from(grid: FloodGrid, start: int, bottom: float, exit_cells=None,
                magnets_are_exits: bool = True) -> Flood:
-    """Minimax flood on a grid of `shape` (1 to 3 axes) from cell `start`.
+    """Minimax flood on the grid from cell `start` (see the module's docstring; Barnes et al.,
+    Computers & Geosciences 62, 117 (2014)).
 
-    energy: (N,) J on the flattened grid (C order); state: (N,) ADMISSIBLE | AT_MAGNET |
-    OUTSIDE_BOX; bottom: the well's exact bottom energy (cells below it are another basin);
-    exit_cells: (N,) bool, extra exits (the other wells' cells); magnets_are_exits: False for a well that
-    is itself a contact with a magnet (the magnet is then a wall)."""
-    energy = np.ascontiguousarray(energy, dtype=np.float64)
-    state = np.ascontiguousarray(state, dtype=np.int8)
+    Parameters
+    ----------
+    grid : FloodGrid
+    start : int
+        Flat index of the well's cell.
+    bottom : float
+        The well's exact bottom energy, J (cells below it are another basin).
+    exit_cells : ndarray of bool, shape (N,), or None
+        Extra exits (the other wells' cells).
+    magnets_are_exits : bool
+        False for a well that is itself a contact with a magnet (the magnet is then a wall).
+
+    Returns
+    -------
+    Flood
+    """
+    energy = np.ascontiguousarray(grid.energy, dtype=np.float64)
+    state = np.ascontiguousarray(grid.state, dtype=np.int8)
     exits = np.zeros(len(energy), np.bool_) if exit_cells is None else np.ascontiguousarray(
         exit_cells, dtype=np.bool_)
-    dims = np.array(shape, dtype=np.int64)
+    dims = np.array(grid.shape, dtype=np.int64)
     level, kind, last, levels, parent, done = _flood(energy, state, exits, dims, int(start),
                                                      float(bottom), bool(magnets_are_exits))
     path = _path(parent, last, int(start)) if last >= 0 else np.array([int(start)])
@@ -61,6 +107,7 @@ def _path(parent, last, start) -> np.ndarray:
     return np.array(cells[::-1], dtype=np.int64)
 
 
+# Plain arrays and scalars (numba compiles no dataclass), hence seven arguments.
 @numba.njit(cache=True)
 def _flood(energy, state, exits, dims, start, bottom, magnets_are_exits):
     n = energy.shape[0]

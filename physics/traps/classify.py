@@ -1,0 +1,144 @@
+"""Classification of an equilibrium by the Hessian of U projected on its free directions:
+stiffnesses (eigenvalues, N/m), their directions, small-oscillation frequencies and the class of
+DESIGN.md, Physics."""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from trapscape.physics.traps.problem import MARGINAL_RATIO
+from trapscape.physics.traps.report import Equilibrium
+
+FIELD_ZERO_NOTE = "B = 0 here: the energy -m|B| is a cone, unstable by rule (DESIGN.md, Physics)"
+
+
+@dataclass(frozen=True, eq=False)
+class Sample:
+    """The probe's state at one point (as the probe model evaluates it).
+
+    Attributes
+    ----------
+    position : ndarray, shape (3,)
+        m.
+    energy_J : float
+        J, gravity included.
+    force_N : ndarray, shape (3,)
+        N, -grad U.
+    B_T : ndarray, shape (3,)
+        The magnets' field at the centre, T.
+    """
+
+    position: np.ndarray
+    energy_J: float
+    force_N: np.ndarray
+    B_T: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class LocalHessian:
+    """The Hessian of U on the directions the probe may move in at a point.
+
+    Attributes
+    ----------
+    frame : ndarray, shape (k, 3)
+        Orthonormal rows: the constraint's basis, or the tangents of a contact surface.
+    matrix : ndarray, shape (k, k), or None
+        N/m, expressed in frame; None at a magnet probe's field zero (undefined there).
+    """
+
+    frame: np.ndarray
+    matrix: np.ndarray | None
+
+
+def classify(eigenvalues, marginal_ratio: float = MARGINAL_RATIO) -> str:
+    """stable | unstable | saddle | marginal from the projected Hessian's eigenvalues.
+
+    Every eigenvalue positive: stable; every one negative: unstable; mixed: saddle; any
+    |eigenvalue| below marginal_ratio of the largest (or all zero): marginal (DESIGN.md,
+    Physics). No free direction (pressed at a point on a line): stable.
+
+    Parameters
+    ----------
+    eigenvalues : array_like, shape (k,)
+        N/m.
+    marginal_ratio : float
+
+    Returns
+    -------
+    str
+    """
+    values = np.asarray(eigenvalues, float)
+    if values.size == 0:
+        return "stable"
+    top = np.max(np.abs(values))
+    if top == 0.0 or np.any(np.abs(values) < marginal_ratio * top):
+        return "marginal"
+    if np.all(values > 0):
+        return "stable"
+    if np.all(values < 0):
+        return "unstable"
+    return "saddle"
+
+
+def frequencies(stiffness, mass: float) -> tuple:
+    """Small-oscillation frequencies f = sqrt(k / m_p) / (2 pi) (harmonic oscillator; e.g.
+    Landau & Lifshitz, Mechanics, section 23).
+
+    Parameters
+    ----------
+    stiffness : sequence of float or None
+        N/m.
+    mass : float
+        kg.
+
+    Returns
+    -------
+    tuple of float or None
+        Hz; None where k <= 0 or undefined.
+    """
+    return tuple(float(np.sqrt(k / mass) / (2.0 * np.pi)) if (k is not None and k > 0) else None
+                 for k in stiffness)
+
+
+def make_equilibrium(problem, sample: Sample, hessian: LocalHessian, contact=None,
+                     note: str = "") -> Equilibrium:
+    """The classified equilibrium at a sample.
+
+    Parameters
+    ----------
+    problem : TrapProblem
+        For the probe's mass, the line's coordinate and the marginal ratio.
+    sample : Sample
+    hessian : LocalHessian
+        matrix None: a field zero, unstable by rule with undefined stiffnesses (DESIGN.md).
+    contact : Contact or None
+    note : str
+
+    Returns
+    -------
+    Equilibrium
+    """
+    frame = hessian.frame
+    k = frame.shape[0]
+    ratio = problem.tolerances.marginal_ratio
+    if hessian.matrix is None:
+        stiffness = tuple(None for _ in range(k))
+        directions = frame.copy()
+        classification, stable = "unstable", 0
+        note = note or FIELD_ZERO_NOTE
+    else:
+        values, vectors = np.linalg.eigh(hessian.matrix)
+        stiffness = tuple(float(v) for v in values)
+        directions = (vectors.T @ frame) if k else np.zeros((0, 3))
+        classification = classify(values, ratio)
+        top = np.max(np.abs(values)) if k else 0.0
+        stable = int(np.sum(values > ratio * top))
+    x = sample.position
+    return Equilibrium(
+        position=np.asarray(x, float).copy(), coordinate_m=problem.line_coordinate(x),
+        energy_J=float(sample.energy_J), classification=classification, stable_directions=stable,
+        free_directions=k, stiffness_N_per_m=stiffness, directions=np.asarray(directions),
+        frequency_Hz=frequencies(stiffness, problem.law.mass),
+        B_T=np.asarray(sample.B_T, float).copy(), force_N=np.asarray(sample.force_N, float).copy(),
+        contact=contact, note=note)

@@ -1,0 +1,115 @@
+"""The sentences a trap report carries: why nothing is fully stable (Earnshaw-Braunbek), why a
+diamagnet does not float, the handling caution, the finite-probe summary and the contact-start
+limit."""
+from __future__ import annotations
+
+import numpy as np
+
+from trapscape.scene.units import MU0
+
+EARNSHAW_NOTE = (
+    "Earnshaw-Braunbek: a {kind} probe has no fully stable free equilibrium outside the magnets "
+    "(its energy is -|B|^2 or -|B| times a positive factor, and |B| is subharmonic where no "
+    "magnet is, so the Hessian always has a direction that falls; gravity and saturation do not "
+    "change that). Listed instead: the saddles and unstable points found, and the contact "
+    "points where the probe rests pressed against a magnet or plate.")
+NO_LEVITATION_NOTE = (
+    "No stable levitation point for this diamagnetic probe in the search box: the field's "
+    "minimum does not hold it in all three directions (with gravity: d(B^2/2)/dz = "
+    "-mu0 rho g / |chi_eff| = {threshold:.3g} T^2/m is needed where it floats; Berry & Geim "
+    "1997).")
+CAUTION = (
+    "Figures are from an idealised model (rigid magnets, a spherical probe); before handling "
+    "strong magnets mind pinching and chipping, keep them from children (swallowed magnets), "
+    "away from implanted medical devices, and defer to the supplier's data and local codes.")
+RIGID_MAGNET_NOTE = ("A rigid, uniformly magnetised sphere feels the mean of B over its volume, "
+                     "which equals B at its centre (B is harmonic there).")
+
+
+def levitation_threshold(density: float, chi_eff: float, g: float = 9.81) -> float:
+    """|d(B^2/2)/dz| = mu0 rho g / |chi_eff| that a diamagnet needs to float (Berry & Geim,
+    Eur. J. Phys. 18, 307 (1997); Simon & Geim, J. Appl. Phys. 87, 6200 (2000)).
+
+    Parameters
+    ----------
+    density : float
+        kg/m^3.
+    chi_eff : float
+        The sphere's effective susceptibility (dimensionless, nonzero).
+    g : float
+        m/s^2.
+
+    Returns
+    -------
+    float
+        T^2/m.
+    """
+    return MU0 * density * g / abs(chi_eff)
+
+
+def earnshaw_note(problem, equilibria) -> str | None:
+    """Why no free equilibrium is fully stable, or None when that needs no saying.
+
+    Free constraint only: soft, magnet and paramagnetic weak probes always get the
+    Earnshaw-Braunbek note (DESIGN.md, Physics); a diamagnet gets the levitation threshold when
+    none of its free equilibria is stable.
+
+    Parameters
+    ----------
+    problem : TrapProblem
+    equilibria : sequence of Equilibrium
+
+    Returns
+    -------
+    str or None
+    """
+    if problem.constraint_kind != "free":
+        return None
+    law = problem.law
+    diamagnetic = law.kind == "weak" and law.chi_eff < 0
+    if not diamagnetic:
+        kind = "paramagnetic weak" if law.kind == "weak" else law.kind
+        return EARNSHAW_NOTE.format(kind=kind)
+    if any(e.classification == "stable" and e.contact is None for e in equilibria):
+        return None
+    threshold = levitation_threshold(problem.probe_density, law.chi_eff,
+                                     np.linalg.norm(problem.gravity))
+    return NO_LEVITATION_NOTE.format(threshold=threshold)
+
+
+def finite_probe_note(description: str, used: bool, largest: float, threshold: float) -> str:
+    """The finite-probe summary's sentence.
+
+    Parameters
+    ----------
+    description : str
+        The finite model's description.
+    used : bool
+        The equilibria were re-solved with it.
+    largest, threshold : float
+        The largest relative correction and the threshold (dimensionless).
+
+    Returns
+    -------
+    str
+    """
+    if used:
+        return (f"Equilibria re-solved with the probe's finite size ({description}); the "
+                "scan grid, wells and escape paths use the point model.")
+    return (f"Point model kept: the finite size changes the energy by at most {largest:.2g} "
+            f"(threshold {threshold:g}).")
+
+
+def contact_limit_note(limit: int) -> str:
+    """Said when only the `limit` lowest cells next to a surface were followed.
+
+    Parameters
+    ----------
+    limit : int
+
+    Returns
+    -------
+    str
+    """
+    return (f"Only the {limit} lowest grid cells next to a surface were followed to contact "
+            "points; a finer or smaller search box finds more.")
