@@ -32,17 +32,7 @@ def finite_probe_model(field_model, law, equilibria=()):
     -------
     AveragedProbe, MultipoleProbe or None
     """
-    from trapscape.physics.probe.finite import AveragedProbe, MultipoleProbe
-
-    if law.kind == "magnet":
-        return None
-    if law.kind == "soft" and law.saturation is not None and equilibria:
-        surface = np.array([e.position for e in equilibria])
-        probe = MultipoleProbe(field_model, law)
-        samples = (surface[:, None, :] + probe.radius * probe.directions[None]).reshape(-1, 3)
-        if np.max(np.linalg.norm(field_model.applied_H(samples), axis=1)) > law.saturation_H:
-            return AveragedProbe(field_model, law)
-    return MultipoleProbe(field_model, law)
+    return law.finite_model(field_model, [e.position for e in equilibria])
 
 
 def finite_correction(problem, finite, equilibria, grid) -> np.ndarray:

@@ -3,9 +3,7 @@ diamagnet does not float, the handling caution, the finite-probe summary and the
 limit."""
 from __future__ import annotations
 
-import numpy as np
 
-from trapscape.scene.units import MU0
 
 EARNSHAW_NOTE = (
     "Earnshaw-Braunbek: a {kind} probe has no fully stable free equilibrium outside the magnets "
@@ -24,27 +22,6 @@ CAUTION = (
     "away from implanted medical devices, and defer to the supplier's data and local codes.")
 RIGID_MAGNET_NOTE = ("A rigid, uniformly magnetised sphere feels the mean of B over its volume, "
                      "which equals B at its centre (B is harmonic there).")
-
-
-def levitation_threshold(density: float, chi_eff: float, g: float = 9.81) -> float:
-    """|d(B^2/2)/dz| = mu0 rho g / |chi_eff| that a diamagnet needs to float (Berry & Geim,
-    Eur. J. Phys. 18, 307 (1997); Simon & Geim, J. Appl. Phys. 87, 6200 (2000)).
-
-    Parameters
-    ----------
-    density : float
-        kg/m^3.
-    chi_eff : float
-        The sphere's effective susceptibility (dimensionless, nonzero).
-    g : float
-        m/s^2.
-
-    Returns
-    -------
-    float
-        T^2/m.
-    """
-    return MU0 * density * g / abs(chi_eff)
 
 
 def earnshaw_note(problem, equilibria) -> str | None:
@@ -66,14 +43,11 @@ def earnshaw_note(problem, equilibria) -> str | None:
     if problem.constraint_kind != "free":
         return None
     law = problem.law
-    diamagnetic = law.kind == "weak" and law.chi_eff < 0
-    if not diamagnetic:
-        kind = "paramagnetic weak" if law.kind == "weak" else law.kind
-        return EARNSHAW_NOTE.format(kind=kind)
+    if not law.stable_in_free_space:
+        return EARNSHAW_NOTE.format(kind=law.earnshaw_label)
     if any(e.classification == "stable" and e.contact is None for e in equilibria):
         return None
-    threshold = levitation_threshold(problem.probe_density, law.chi_eff,
-                                     np.linalg.norm(problem.gravity))
+    threshold = law.levitation_threshold()
     return NO_LEVITATION_NOTE.format(threshold=threshold)
 
 

@@ -147,7 +147,7 @@ def free_equilibria(problem, grid) -> list:
                 continue  # Newton stalled on a slope (a kink of the energy): not an equilibrium
             found.append(make_equilibrium(problem, Sample(points[i], U[i], F[i], B[i]),
                                           LocalHessian(basis, K[i])))
-    if model.law.kind == "magnet" and model.law.orientation is None:
+    if model.law.cone_at_field_zero:
         found += field_zero_equilibria(problem, grid)
     return found
 

@@ -19,8 +19,8 @@ from trapscape.physics.traps.contact_equilibria import contact_equilibria, start
 from trapscape.physics.traps.families import merge_families
 from trapscape.physics.traps.finite_size import finite_probe_model, with_finite_size
 from trapscape.physics.traps.notes import (CAUTION, EARNSHAW_NOTE, NO_LEVITATION_NOTE,
-                                           contact_limit_note, earnshaw_note,
-                                           levitation_threshold)
+                                           contact_limit_note, earnshaw_note)
+from trapscape.physics.probe.kinds.weak import levitation_threshold
 from trapscape.physics.traps.problem import (FIELD_ZERO_RATIO, FINITE_PROBE_THRESHOLD,
                                              MARGINAL_RATIO, MAX_CONTACT_STARTS,
                                              NEWTON_ITERATIONS, TrapProblem)

@@ -16,6 +16,27 @@ from trapscape.physics.probe.registry import register
 from trapscape.scene.units import MU0
 
 
+def levitation_threshold(density: float, chi_eff: float, g: float = 9.81) -> float:
+    """|d(B^2/2)/dz| = mu0 rho g / |chi_eff| that a diamagnet needs to float (Berry & Geim,
+    Eur. J. Phys. 18, 307 (1997); Simon & Geim, J. Appl. Phys. 87, 6200 (2000)).
+
+    Parameters
+    ----------
+    density : float
+        kg/m^3.
+    chi_eff : float
+        The sphere's effective susceptibility (dimensionless, nonzero).
+    g : float
+        m/s^2.
+
+    Returns
+    -------
+    float
+        T^2/m.
+    """
+    return MU0 * density * g / abs(chi_eff)
+
+
 @register
 @dataclass(frozen=True, eq=False)
 class WeakLaw(InducedLaw):
@@ -54,7 +75,7 @@ class WeakLaw(InducedLaw):
         """
         if self.chi_eff == 0.0:
             return np.inf
-        return MU0 * self.density * np.linalg.norm(self.gravity) / abs(self.chi_eff)
+        return levitation_threshold(self.density, self.chi_eff, np.linalg.norm(self.gravity))
 
     @property
     def earnshaw_label(self) -> str:
