@@ -3,8 +3,6 @@ diamagnet does not float, the handling caution, the finite-probe summary and the
 limit."""
 from __future__ import annotations
 
-
-
 EARNSHAW_NOTE = (
     "Earnshaw-Braunbek: a {kind} probe has no fully stable free equilibrium outside the magnets "
     "(its energy is -|B|^2 or -|B| times a positive factor, and |B| is subharmonic where no "
