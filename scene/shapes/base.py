@@ -1,0 +1,152 @@
+"""The protocol every shape keeps, and the defaults most shapes share.
+
+A shape is a stateless object; its methods take a `part`: anything with `dims` (the tuple made
+by `make_dims`) and, for shapes read from a file, `mesh_vertices` (V, 3) m and `mesh_faces`
+(F, 3) int (scene.model.Magnet is one). Everything is in the part's body frame and in SI units.
+Errors in dims raise DimError (a ValueError); the scene loader turns them into SceneError.
+"""
+from __future__ import annotations
+
+from typing import NamedTuple, Protocol
+
+import numpy as np
+
+
+class Dim(NamedTuple):
+    """One dimension of a shape: its key in a scene file and its kind, which says how it is read
+    and converted: "length" (file unit), "angle" (degrees in the file, radians inside) or
+    "outline" (a list of [x, y] corners in the file unit)."""
+
+    name: str
+    kind: str
+
+
+class DimError(ValueError):
+    """A dimension is invalid. index: which of the shape's dims is at fault (None: their
+    combination); the message is one sentence ending with how to fix it."""
+
+    def __init__(self, message: str, index: int | None = None):
+        super().__init__(message)
+        self.index = index
+
+
+class Shape(Protocol):
+    """What a shape offers the scene loader, the physics and the viewers."""
+
+    name: str  # the `shape` word in a scene file
+    dims: tuple  # of Dim, in the order of `size = [...]`
+    keys: tuple  # the scene keys it takes beyond the common ones
+    size_example: str  # how to write its dimensions, for messages
+    takes_size: bool  # accepts size = [...]
+    takes_named: bool  # accepts its dims by name (diameter = 10, ...)
+    from_file: bool  # its solid comes from a mesh file (no dims)
+    radial_ok: bool  # may be magnetised radial-out / radial-in
+    is_ball: bool  # a sphere: forces on it have a closed form
+    cheap_distance: bool  # sdf is a closed form (else a brute-force mesh distance)
+    fit_far_field: bool  # a large tessellation may be replaced by fitted dipoles far away
+    closed_form: str  # key of physics.field.sources.CLOSED_FORMS that draws its field
+
+    def validate(self, values, unit: str) -> None: ...
+    def make_dims(self, values) -> tuple: ...
+    def volume(self, part) -> float: ...
+    def support(self, part, directions) -> np.ndarray: ...
+    def bounds(self, part) -> tuple: ...
+    def largest(self, part) -> float: ...
+    def smallest(self, part) -> float: ...
+    def sdf(self, part, points) -> np.ndarray: ...
+    def inside(self, part, points) -> np.ndarray: ...
+    def tessellation(self, part, segments: int | None = None) -> tuple: ...
+    def field_params(self, part) -> tuple: ...
+    def patches(self, part, volume_charge: bool = False) -> list: ...
+    def radial_integral(self, part) -> np.ndarray: ...
+    def reference_point(self, part) -> np.ndarray: ...
+
+
+def as_points(points) -> np.ndarray:
+    return np.asarray(points, dtype=float).reshape(-1, 3)
+
+
+def as_directions(directions) -> np.ndarray:
+    return np.asarray(directions, dtype=float).reshape(-1, 3)
+
+
+class BaseShape:
+    """Defaults: bounds and largest dimension from the support function, inside from the signed
+    distance, the field from the tessellation through the exact polyhedron form, torques about
+    the body origin."""
+
+    name = ""
+    dims: tuple = ()
+    keys: tuple = ()
+    size_example = ""
+    takes_size = True
+    takes_named = True
+    from_file = False
+    radial_ok = False
+    is_ball = False
+    cheap_distance = True
+    fit_far_field = False
+    closed_form = "polyhedron"
+
+    def validate(self, values, unit: str) -> None:
+        """Raise DimError unless every value (file units; angles in degrees) is positive.
+
+        Parameters
+        ----------
+        values : sequence of float, one per Dim.
+        unit : str, the file's length unit (for messages).
+
+        Returns
+        -------
+        None.
+
+        References
+        ----------
+        DESIGN.md, Scene format.
+        """
+        for index, (value, dim) in enumerate(zip(values, self.dims)):
+            if value <= 0:
+                raise DimError(f"the {dim.name.replace('_', ' ')} must be positive, got "
+                               f"{value:g}; give a size above zero.", index)
+
+    def make_dims(self, values) -> tuple:
+        """The part's dims (SI: metres, radians) from validated, converted values."""
+        return tuple(float(v) for v in values)
+
+    def bounds(self, part) -> tuple:
+        """Body-frame bounding box (lower (3,), upper (3,)) in m, from the support function.
+
+        Parameters
+        ----------
+        part : an object with dims (and mesh_vertices, mesh_faces for file shapes).
+
+        Returns
+        -------
+        (lower (3,), upper (3,)) float64, m.
+
+        References
+        ----------
+        Support function of a convex hull (R. Schneider, Convex Bodies, 2nd ed. 2014, 1.7).
+        """
+        axes = np.eye(3)
+        return -self.support(part, -axes), self.support(part, axes)
+
+    def largest(self, part) -> float:
+        """The part's largest size in m: the longest side of its body-frame bounding box."""
+        lower, upper = self.bounds(part)
+        return float(np.max(upper - lower))
+
+    def inside(self, part, points) -> np.ndarray:
+        """(N,) bool: body points strictly inside (sdf < 0; a point on the surface is outside)."""
+        return self.sdf(part, points) < 0.0
+
+    def field_params(self, part) -> tuple:
+        """The arguments of its closed form before the magnetisation: here (vertices, faces)."""
+        return self.tessellation(part)
+
+    def radial_integral(self, part) -> np.ndarray:
+        raise ValueError(f"a {self.name} cannot be magnetised radially")
+
+    def reference_point(self, part) -> np.ndarray:
+        """Body point (3,) torques are taken about: the body origin (a primitive's centre)."""
+        return np.zeros(3)
