@@ -59,6 +59,7 @@ class Shape(Protocol):
     def field_params(self, part) -> tuple: ...
     def patches(self, part, volume_charge: bool = False) -> list: ...
     def radial_integral(self, part) -> np.ndarray: ...
+    def mid_wall(self, part, count: int) -> tuple: ...
     def reference_point(self, part) -> np.ndarray: ...
 
 
@@ -146,6 +147,9 @@ class BaseShape:
 
     def radial_integral(self, part) -> np.ndarray:
         raise ValueError(f"a {self.name} cannot be magnetised radially")
+
+    def mid_wall(self, part, count: int) -> tuple:
+        raise ValueError(f"a {self.name} has no wall to magnetise radially")
 
     def reference_point(self, part) -> np.ndarray:
         """Body point (3,) torques are taken about: the body origin (a primitive's centre)."""

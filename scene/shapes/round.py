@@ -39,8 +39,20 @@ class RoundShape(BaseShape):
         return float(min(r_out - r_in, height))
 
     def tessellation(self, part, segments=None) -> tuple:
+        """segments: per full turn (a drawing's resolution); None: within the sag tolerance."""
         r_in, r_out, height, angle = self.sector(part)
+        if segments is not None:
+            segments = max(math.ceil(segments * angle / FULL_TURN), math.ceil(angle / (0.5 * math.pi) - 1e-9),
+                           3 if angle >= FULL_TURN else 1)
         return sector_mesh(2.0 * r_out, 2.0 * r_in, height, angle, segments)
+
+    def mid_wall(self, part, count: int) -> tuple:
+        """(points (K, 3), radial unit vectors (K, 3)), body frame: K = count points equally
+        spaced on the mid-wall circle of a full turn, or the middle of an arc (K = 1)."""
+        r_in, r_out, _, angle = self.sector(part)
+        phi = np.linspace(0.0, FULL_TURN, count, endpoint=False) if angle >= FULL_TURN else np.zeros(1)
+        radial = np.column_stack([np.cos(phi), np.sin(phi), np.zeros_like(phi)])
+        return radial * (r_in + r_out) / 2.0, radial
 
     def patches(self, part, volume_charge=False) -> list:
         r_in, r_out, height, angle = self.sector(part)

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.scene.shapes.frames import frame_along
 from trapscape.viewers.layers import style
 from trapscape.viewers.layers.traps_data import describe_force, describe_position
 
@@ -43,11 +44,7 @@ def marker_mesh(kind: str, centre, radius, view_direction):
 
 def _face(mesh, direction, centre):
     """Turn a mesh built about +z so that its axis points along `direction`, then place it."""
-    direction = np.asarray(direction, float) / np.linalg.norm(direction)
-    helper = np.eye(3)[np.argmin(np.abs(direction))]
-    u = np.cross(direction, helper)
-    u /= np.linalg.norm(u)
-    frame = np.column_stack([u, np.cross(direction, u), direction])
+    frame = frame_along(direction)
     mesh.points = np.asarray(mesh.points) @ frame.T + np.asarray(centre)
     return mesh
 
