@@ -46,21 +46,91 @@ class Shape(Protocol):
     fit_far_field: bool  # a large tessellation may be replaced by fitted dipoles far away
     closed_form: str  # key of physics.field.sources.CLOSED_FORMS that draws its field
 
-    def validate(self, values, unit: str) -> None: ...
-    def make_dims(self, values) -> tuple: ...
-    def volume(self, part) -> float: ...
-    def support(self, part, directions) -> np.ndarray: ...
-    def bounds(self, part) -> tuple: ...
-    def largest(self, part) -> float: ...
-    def smallest(self, part) -> float: ...
-    def sdf(self, part, points) -> np.ndarray: ...
-    def inside(self, part, points) -> np.ndarray: ...
-    def tessellation(self, part, segments: int | None = None) -> tuple: ...
-    def field_params(self, part) -> tuple: ...
-    def patches(self, part, volume_charge: bool = False) -> list: ...
-    def radial_integral(self, part) -> np.ndarray: ...
-    def mid_wall(self, part, count: int) -> tuple: ...
-    def reference_point(self, part) -> np.ndarray: ...
+    def validate(self, values, unit: str) -> None:
+        """Raise DimError unless the dims as written (file units, degrees, [x, y] lists) are valid."""
+
+    def make_dims(self, values) -> tuple:
+        """The part's dims tuple from validated values converted to SI (m, rad)."""
+
+    def volume(self, part) -> float:
+        """Volume of the solid.
+
+        Returns
+        -------
+        float, m^3.
+        """
+
+    def support(self, part, directions) -> np.ndarray:
+        """Support function h(d) = max over the solid of d . x, body frame.
+
+        Parameters
+        ----------
+        part : the placed part (its dims, and mesh for file shapes).
+        directions : (K, 3) float, body frame, any length.
+
+        Returns
+        -------
+        (K,) float64, m (times |d|).
+
+        References
+        ----------
+        R. Schneider, Convex Bodies: The Brunn-Minkowski Theory, 2nd ed. (2014), 1.7.
+        """
+
+    def bounds(self, part) -> tuple:
+        """Body-frame bounding box (lower (3,), upper (3,)), m."""
+
+    def largest(self, part) -> float:
+        """Largest dimension, m."""
+
+    def smallest(self, part) -> float:
+        """Smallest dimension, m (a ring's or arc's wall counts; DESIGN.md Conventions)."""
+
+    def sdf(self, part, points) -> np.ndarray:
+        """Signed distance to the surface, negative inside.
+
+        Parameters
+        ----------
+        part : the placed part.
+        points : (N, 3) float, m, body frame.
+
+        Returns
+        -------
+        (N,) float64, m.
+        """
+
+    def inside(self, part, points) -> np.ndarray:
+        """(N,) bool for body points (N, 3) in m: strictly inside (the surface is outside)."""
+
+    def tessellation(self, part, segments: int | None = None) -> tuple:
+        """Closed outward triangle mesh of the solid, body frame.
+
+        Parameters
+        ----------
+        part : the placed part.
+        segments : int, optional, facets per full turn of a round part (drawing); None: the
+            field's tessellation.
+
+        Returns
+        -------
+        vertices : (V, 3) float64, m.
+        faces : (F, 3) int64, counter-clockwise seen from outside.
+        """
+
+    def field_params(self, part) -> tuple:
+        """Arguments of CLOSED_FORMS[closed_form] before the magnetisation (m)."""
+
+    def patches(self, part, volume_charge: bool = False) -> list:
+        """The faces (and with volume_charge the volume) as parameter patches (patches.Patches)."""
+
+    def radial_integral(self, part) -> np.ndarray:
+        """(3,) integral over the volume of the in-plane radial unit vector, m^3 (radial parts)."""
+
+    def mid_wall(self, part, count: int) -> tuple:
+        """(points (K, 3) m, radial unit vectors (K, 3)) on the middle of the wall (radial parts)."""
+
+    def reference_point(self, part) -> np.ndarray:
+        """(3,) body point, m, that torques are taken about."""
 
 
 def as_points(points) -> np.ndarray:

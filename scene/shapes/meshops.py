@@ -20,7 +20,20 @@ def _points(points) -> np.ndarray:
 
 
 def mesh_size(vertices) -> float:
-    """Largest side (m) of the mesh's axis-aligned bounding box."""
+    """Largest side of the mesh's axis-aligned bounding box.
+
+    Parameters
+    ----------
+    vertices : (V, 3) float, m.
+
+    Returns
+    -------
+    float, m.
+
+    References
+    ----------
+    Common practice.
+    """
     return float(np.ptp(np.asarray(vertices, float), axis=0).max())
 
 
@@ -67,7 +80,20 @@ def volume_centroid(vertices: np.ndarray, faces: np.ndarray) -> np.ndarray:
 
 
 def triangle_areas(triangles: np.ndarray) -> np.ndarray:
-    """(F,) areas (m^2) of triangles (F, 3, 3): |(b - a) x (c - a)| / 2 (textbook)."""
+    """Areas of triangles, |(b - a) x (c - a)| / 2.
+
+    Parameters
+    ----------
+    triangles : (F, 3, 3) float, m, corners a, b, c of each triangle.
+
+    Returns
+    -------
+    (F,) float64, m^2.
+
+    References
+    ----------
+    Textbook vector geometry.
+    """
     return 0.5 * np.linalg.norm(
         np.cross(triangles[:, 1] - triangles[:, 0], triangles[:, 2] - triangles[:, 0]), axis=1)
 

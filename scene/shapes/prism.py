@@ -61,6 +61,13 @@ class Prism(BaseShape):
         if problem is not None:
             raise DimError(f"the outline is not a simple polygon: {problem}; list the corners "
                            f"[x, y] in order around the cross-section, e.g. {EXAMPLE}.", 0)
+        corners = self.make_dims([values[0], 1.0])[0]
+        try:
+            ear_clip(np.asarray(corners, float))
+        except ValueError:
+            raise DimError(f"the outline could not be cut into triangles (corners too close to "
+                           f"one another); list the corners [x, y] in order around the "
+                           f"cross-section, e.g. {EXAMPLE}.", 0) from None
         if values[1] <= 0:
             raise DimError(f"the height must be positive, got {values[1]:g}; give a size above "
                            f"zero.", 1)

@@ -8,8 +8,24 @@ from trapscape.scene.shapes.round import FULL_TURN, RoundShape
 
 
 def check_annulus(shape: BaseShape, values, unit: str, hollow_only: bool) -> None:
-    """Positive dims, and an inner diameter below the outer one; a ring's inner diameter may
-    not be 0 (that is a cylinder), an arc's may (a pie slice)."""
+    """Raise DimError unless the dims are positive and the inner diameter is below the outer
+    one; a ring's inner diameter may not be 0 (that is a cylinder), an arc's may (a pie slice).
+
+    Parameters
+    ----------
+    shape : the ring or arc (its Dim names).
+    values : sequence of float, file units (an arc's angle in degrees).
+    unit : str, the file's length unit, for the message.
+    hollow_only : bool, True for a ring.
+
+    Returns
+    -------
+    None.
+
+    References
+    ----------
+    DESIGN.md, Scene format.
+    """
     for index, (value, dim) in enumerate(zip(values, shape.dims)):
         if value == 0 and dim.name == "inner_diameter":
             if not hollow_only:

@@ -9,8 +9,22 @@ DRAWING_RINGS = 32  # latitude steps of the drawn sphere (twice as many longitud
 
 
 def uv_sphere(radius: float, rings: int = DRAWING_RINGS) -> tuple:
-    """(vertices, faces) of a latitude-longitude sphere, outward, poles on body z (common
-    practice)."""
+    """Latitude-longitude tessellation of a sphere centred at the origin, poles on body z.
+
+    Parameters
+    ----------
+    radius : float, m.
+    rings : int, latitude steps (2 * rings longitude steps).
+
+    Returns
+    -------
+    vertices : (V, 3) float64, m.
+    faces : (F, 3) int64, counter-clockwise seen from outside.
+
+    References
+    ----------
+    Common practice (a UV sphere).
+    """
     theta = np.linspace(0.0, np.pi, rings + 1)[1:-1]
     phi = np.linspace(0.0, 2.0 * np.pi, 2 * rings, endpoint=False)
     t, p = np.meshgrid(theta, phi, indexing="ij")
