@@ -133,6 +133,19 @@ class Shape(Protocol):
         """(3,) body point, m, that torques are taken about."""
 
 
+def check_positive(shape, values, zero=None) -> None:
+    """Raise DimError for the first value that is not positive. zero: {dim name: None (zero is
+    allowed) or the message refusing it}."""
+    for index, (value, dim) in enumerate(zip(values, shape.dims)):
+        if value == 0 and zero and dim.name in zero:
+            if zero[dim.name] is None:
+                continue
+            raise DimError(zero[dim.name], index)
+        if value <= 0:
+            raise DimError(f"the {dim.name.replace('_', ' ')} must be positive, got {value:g}; "
+                           f"give a size above zero.", index)
+
+
 def as_points(points) -> np.ndarray:
     return np.asarray(points, dtype=float).reshape(-1, 3)
 
@@ -175,10 +188,7 @@ class BaseShape:
         ----------
         DESIGN.md, Scene format.
         """
-        for index, (value, dim) in enumerate(zip(values, self.dims)):
-            if value <= 0:
-                raise DimError(f"the {dim.name.replace('_', ' ')} must be positive, got "
-                               f"{value:g}; give a size above zero.", index)
+        check_positive(self, values)
 
     def make_dims(self, values) -> tuple:
         """The part's dims (SI: metres, radians) from validated, converted values."""

@@ -1,5 +1,6 @@
-"""Operations on closed, outward-oriented triangle meshes (vertices (V, 3) m, faces (F, 3) int):
-volume, centroid, thickness, solid angle and winding number, ray-parity inside test, distance.
+"""Operations on closed, outward-oriented triangle meshes: volume, centroid, thickness, solid angle
+and winding number, ray-parity inside test, distance. Arguments: points (N, 3) float in m,
+vertices (V, 3) float in m, faces (F, 3) int, counter-clockwise seen from outside.
 
 Surface convention (DESIGN.md Conventions): a point within SURFACE_TOL of the mesh size of the
 surface is on it and counts as outside, like the field, which takes the outer side there.
@@ -42,8 +43,7 @@ def mesh_volume(vertices: np.ndarray, faces: np.ndarray) -> float:
 
     Parameters
     ----------
-    vertices : (V, 3) float, m.
-    faces : (F, 3) int.
+    vertices, faces : (V, 3) m and (F, 3) int (module docstring).
 
     Returns
     -------
@@ -63,8 +63,7 @@ def volume_centroid(vertices: np.ndarray, faces: np.ndarray) -> np.ndarray:
 
     Parameters
     ----------
-    vertices : (V, 3) float, m.
-    faces : (F, 3) int.
+    vertices, faces : (V, 3) m and (F, 3) int (module docstring).
 
     Returns
     -------
@@ -107,8 +106,7 @@ def mesh_thickness(vertices, faces) -> float:
 
     Parameters
     ----------
-    vertices : (V, 3) float, m.
-    faces : (F, 3) int.
+    vertices, faces : (V, 3) m and (F, 3) int (module docstring).
 
     Returns
     -------
@@ -162,9 +160,7 @@ def solid_angle(points, vertices, faces) -> np.ndarray:
 
     Parameters
     ----------
-    points : (N, 3) float, m.
-    vertices : (V, 3) float, m.
-    faces : (F, 3) int.
+    points, vertices, faces : (N, 3) m, (V, 3) m and (F, 3) int (module docstring).
 
     Returns
     -------
@@ -187,9 +183,7 @@ def winding_number(points, vertices, faces) -> np.ndarray:
 
     Parameters
     ----------
-    points : (N, 3) float, m.
-    vertices : (V, 3) float, m.
-    faces : (F, 3) int.
+    points, vertices, faces : (N, 3) m, (V, 3) m and (F, 3) int (module docstring).
 
     Returns
     -------
@@ -272,9 +266,7 @@ def mesh_distance(points, vertices, faces) -> np.ndarray:
 
     Parameters
     ----------
-    points : (N, 3) float, m.
-    vertices : (V, 3) float, m.
-    faces : (F, 3) int.
+    points, vertices, faces : (N, 3) m, (V, 3) m and (F, 3) int (module docstring).
 
     Returns
     -------
@@ -300,9 +292,7 @@ def mesh_sdf(points, vertices, faces) -> np.ndarray:
 
     Parameters
     ----------
-    points : (N, 3) float, m.
-    vertices : (V, 3) float, m.
-    faces : (F, 3) int.
+    points, vertices, faces : (N, 3) m, (V, 3) m and (F, 3) int (module docstring).
 
     Returns
     -------
@@ -383,9 +373,7 @@ def mesh_inside(points: np.ndarray, vertices: np.ndarray, faces: np.ndarray) -> 
 
     Parameters
     ----------
-    points : (N, 3) float, m.
-    vertices : (V, 3) float, m.
-    faces : (F, 3) int.
+    points, vertices, faces : (N, 3) m, (V, 3) m and (F, 3) int (module docstring).
 
     Returns
     -------

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from trapscape.scene.shapes.base import BaseShape, Dim, DimError
+from trapscape.scene.shapes.base import BaseShape, Dim, DimError, check_positive
 from trapscape.scene.shapes.round import FULL_TURN, RoundShape
 
 
@@ -26,15 +26,9 @@ def check_annulus(shape: BaseShape, values, unit: str, hollow_only: bool) -> Non
     ----------
     DESIGN.md, Scene format.
     """
-    for index, (value, dim) in enumerate(zip(values, shape.dims)):
-        if value == 0 and dim.name == "inner_diameter":
-            if not hollow_only:
-                continue
-            raise DimError("a ring with inner diameter 0 is a solid cylinder; write shape = "
-                           "\"cylinder\" with its diameter and height.", index)
-        if value <= 0:
-            raise DimError(f"the {dim.name.replace('_', ' ')} must be positive, got {value:g}; "
-                           f"give a size above zero.", index)
+    solid = ("a ring with inner diameter 0 is a solid cylinder; write shape = \"cylinder\" with "
+             "its diameter and height.")
+    check_positive(shape, values, {"inner_diameter": solid if hollow_only else None})
     if values[1] >= values[0]:
         raise DimError(f"the inner diameter ({values[1]:g} {unit}) must be smaller than the "
                        f"outer diameter ({values[0]:g} {unit}); swap or correct them.")
