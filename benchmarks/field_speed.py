@@ -101,7 +101,7 @@ def plain_dipole_reference(scene_path: Path, points: np.ndarray, cells: int = 15
     with numpy broadcasting (the implementation anyone would write first)."""
     from trapscape.scene.units import MU0
     from trapscape.physics.field.parts import body_bounds, body_mesh, part_volume
-    from trapscape.physics.field.polyhedron import winding_number
+    from trapscape.scene.shapes.meshops import winding_number
     from trapscape.scene.loader import load_scene
 
     scene = load_scene(scene_path)

@@ -16,7 +16,7 @@ from pathlib import Path
 import numpy as np
 
 from trapscape.scene.errors import SceneError, SceneWarning
-from trapscape.scene.measures import mesh_volume
+from trapscape.scene.shapes.meshops import mesh_volume
 from trapscape.scene.units import METRES_PER_3MF_UNIT
 
 FORMATS = {".stl": "stl", ".obj": "obj", ".ply": "ply", ".3mf": "3mf"}

@@ -10,7 +10,10 @@ from types import MappingProxyType
 
 import numpy as np
 
-SHAPES = ("box", "cylinder", "ring", "arc", "sphere", "mesh")
+from trapscape.scene.shapes import SHAPES as SHAPE_REGISTRY
+from trapscape.scene.shapes.frames import perpendicular_pair
+
+SHAPES = tuple(SHAPE_REGISTRY)  # box, cylinder, ring, arc, sphere, mesh, prism
 CONSTRAINT_KINDS = ("free", "line", "plane")
 
 
@@ -29,8 +32,9 @@ class Magnet:
 
     dims (metres): box (a, b, c) edge lengths along body x, y, z; cylinder (D, h);
     ring (D_outer, D_inner, h); arc (D_outer, D_inner, h, angle_rad) centred on body +x;
-    sphere (D,); mesh () with the solid in mesh_vertices/mesh_faces (body frame, metres,
-    outward-oriented, closed).
+    sphere (D,); prism (outline ((x, y), ...) counter-clockwise, h); mesh () with the solid in
+    mesh_vertices/mesh_faces (body frame, metres, outward-oriented, closed). scene.shapes
+    knows what each shape's dims mean.
     A point p_body in the body frame is at rotation @ p_body + position in the world.
     """
 
@@ -103,10 +107,7 @@ class Constraint:
         d = np.asarray(self.direction, dtype=float)
         if self.kind == "line":
             return d[None, :].copy()
-        helper = np.eye(3)[np.argmin(np.abs(d))]
-        u = np.cross(d, helper)
-        u /= np.linalg.norm(u)
-        return np.array([u, np.cross(d, u)])
+        return perpendicular_pair(d)
 
 
 @dataclass(frozen=True, eq=False)

@@ -12,23 +12,14 @@ from __future__ import annotations
 import numpy as np
 
 from trapscape.scene.measures import bounding_box, smallest_dimension
+from trapscape.scene.shapes import shape_of
+from trapscape.scene.shapes.frames import to_body
+from trapscape.scene.shapes.meshops import winding_number
 
 LATTICE = 21  # points per axis (odd, so the centre of the intersection is on it)
 PAIR_BUDGET = 4e6  # point-triangle pairs of winding numbers per mesh test (~0.3 s of numpy)
 MAX_HULL_FACES = 2000
 MAX_SURFACE_SAMPLES = 200000
-
-
-def _wedge_depth(x, y, angle):
-    """Distance to the boundary rays of the wedge |phi| <= angle/2, negative outside."""
-    q = np.column_stack([x, y])
-    nearest = np.full(len(x), np.inf)
-    for edge in (angle / 2.0, -angle / 2.0):
-        u = np.array([np.cos(edge), np.sin(edge)])
-        t = np.clip(q @ u, 0.0, None)
-        nearest = np.minimum(nearest, np.linalg.norm(q - t[:, None] * u, axis=1))
-    inside = np.abs(np.arctan2(y, x)) <= angle / 2.0
-    return np.where(inside, nearest, -nearest)
 
 
 def _in_hull(magnet, p) -> np.ndarray:
@@ -95,12 +86,12 @@ def _mesh_depth(magnet, p):
     The distance is to the nearest of dense surface samples (about 1/100 of the part's size
     apart), so it is good to that spacing, like the lattice it is evaluated on.
     """
-    triangles = magnet.mesh_vertices[magnet.mesh_faces]
+    vertices, faces = shape_of(magnet).tessellation(magnet)
     depth = np.full(len(p), -1.0)
     in_hull = np.nonzero(_in_hull(magnet, p))[0]
-    stride = max(1, int(np.ceil(len(in_hull) * len(triangles) / PAIR_BUDGET)))
+    stride = max(1, int(np.ceil(len(in_hull) * len(faces) / PAIR_BUDGET)))
     in_hull = in_hull[::stride]  # a big mesh gets a thinner lattice, never minutes of work
-    inside = in_hull[winding_number(triangles, p[in_hull]) > 0.5]
+    inside = in_hull[winding_number(p[in_hull], vertices, faces) > 0.5]
     if len(inside):
         depth[inside] = _cached(magnet, "surface", lambda: _surface_tree(magnet)).query(p[inside])[0]
     return depth
@@ -108,51 +99,19 @@ def _mesh_depth(magnet, p):
 
 def _maybe_inside(magnet, points) -> np.ndarray:
     """A cheap superset of the points inside the part (its convex hull for a mesh)."""
-    if magnet.shape != "mesh":
+    if shape_of(magnet).cheap_distance:
         return depth_inside(magnet, points) > 0
-    return _in_hull(magnet, (points - magnet.position) @ magnet.rotation)
-
-
-def winding_number(triangles: np.ndarray, points: np.ndarray) -> np.ndarray:
-    """Generalised winding number: 1 inside a closed outward mesh, 0 outside.
-
-    Solid angle of each triangle by Van Oosterom & Strackee, IEEE Trans. Biomed. Eng. 30, 125
-    (1983): tan(omega/2) = a.(b x c) / (|a||b||c| + (a.b)|c| + (a.c)|b| + (b.c)|a|).
-    """
-    total = np.zeros(len(points))
-    for start in range(0, len(triangles), 2000):
-        tri = triangles[start:start + 2000]
-        a, b, c = (tri[None, :, k, :] - points[:, None, :] for k in range(3))
-        la, lb, lc = (np.linalg.norm(v, axis=2) for v in (a, b, c))
-        numerator = np.einsum("ijk,ijk->ij", a, np.cross(b, c))
-        denominator = (la * lb * lc + np.einsum("ijk,ijk->ij", a, b) * lc
-                       + np.einsum("ijk,ijk->ij", a, c) * lb + np.einsum("ijk,ijk->ij", b, c) * la)
-        total += 2.0 * np.arctan2(numerator, denominator).sum(axis=1)
-    return total / (4.0 * np.pi)
+    return _in_hull(magnet, to_body(points, magnet.position, magnet.rotation))
 
 
 def depth_inside(magnet, points: np.ndarray) -> np.ndarray:
-    """(N,) distance from each world point to the part's surface, positive inside.
-
-    Exact inside (distance to the boundary of an intersection of sets is the least of the
-    distances); outside only its sign matters here.
-    """
-    p = (points - magnet.position) @ magnet.rotation  # world -> body
-    d = magnet.dims
-    if magnet.shape == "box":
-        return np.min(np.asarray(d) / 2.0 - np.abs(p), axis=1)
-    if magnet.shape == "sphere":
-        return d[0] / 2.0 - np.linalg.norm(p, axis=1)
-    if magnet.shape == "mesh":
-        return _mesh_depth(magnet, p)
-    rho = np.hypot(p[:, 0], p[:, 1])
-    height = d[2] if magnet.shape in ("ring", "arc") else d[1]
-    depth = np.minimum(d[0] / 2.0 - rho, height / 2.0 - np.abs(p[:, 2]))
-    if magnet.shape in ("ring", "arc"):
-        depth = np.minimum(depth, rho - d[1] / 2.0)
-    if magnet.shape == "arc":
-        depth = np.minimum(depth, _wedge_depth(p[:, 0], p[:, 1], d[3]))
-    return depth
+    """(N,) distance from each world point to the part's surface, positive inside (minus the
+    shape's signed distance; a mesh's from surface samples). Outside only its sign matters."""
+    p = to_body(points, magnet.position, magnet.rotation)
+    shape = shape_of(magnet)
+    if shape.cheap_distance:
+        return -shape.sdf(magnet, p)
+    return _mesh_depth(magnet, p)
 
 
 def overlap_depth(first, second, boxes) -> float:

@@ -10,32 +10,16 @@ from trapscape.scene import patterns, reading
 from trapscape.scene.errors import SceneError, SceneWarning
 from trapscape.scene.grades import find_grade
 from trapscape.scene.meshes import read_mesh
-from trapscape.scene.model import SHAPES, Magnet, frozen_array
+from trapscape.scene.model import Magnet, frozen_array
 from trapscape.scene.reading import Context
+from trapscape.scene.shapes import SHAPES, DimError
 from trapscape.scene.units import unit_scale
 
 MAX_PARTS = 10000  # more parts than any assembly we model; also bounds the pairwise checks
 
-# the dims of each shape, in the order of `size = [...]`; "angle" is in degrees, not a length
-NAMED_DIMS = {
-    "box": ("x_size", "y_size", "z_size"),
-    "cylinder": ("diameter", "height"),
-    "ring": ("outer_diameter", "inner_diameter", "height"),
-    "arc": ("outer_diameter", "inner_diameter", "height", "angle"),
-    "sphere": ("diameter",),
-}
-SIZE_EXAMPLES = {
-    "box": "size = [10, 10, 5] (edge lengths along body x, y, z)",
-    "cylinder": "size = [10, 5] (diameter, height) or diameter = 10 and height = 5",
-    "ring": "size = [20, 10, 5] (outer diameter, inner diameter, height)",
-    "arc": "size = [40, 30, 10, 45] (outer and inner diameter, height, angle in degrees)",
-    "sphere": "size = 10 or diameter = 10",
-}
 COMMON_KEYS = ("name", "shape", "position", "rotation", "north", "grade", "remanence",
                "pattern", "method", "cell_size", "density")
-SHAPE_KEYS = {shape: ("size",) + (names if shape != "box" else ())
-              for shape, names in NAMED_DIMS.items()}
-SHAPE_KEYS["mesh"] = ("file", "file_units")
+SHAPE_KEYS = {name: shape.keys for name, shape in SHAPES.items()}
 AXIS_WORDS = {f"{sign}{axis}": (1.0 if sign != "-" else -1.0) * np.eye(3)[k]
               for k, axis in enumerate("xyz") for sign in ("+", "-", "")}
 RADIAL = ("radial-out", "radial-in")
@@ -69,15 +53,15 @@ def read_magnets(ctx: Context, entries: list, grades: dict, base_dir: Path,
 
 def _read_entry(ctx, entry, index, grades, base_dir, mesh_files, meshes) -> list:
     where = f"{ctx.shown}, [[magnet]] {index}"
-    shape = reading.word(entry, "shape", where, SHAPES)
+    shape = reading.word(entry, "shape", where, tuple(SHAPES))
     name = reading.text(entry, "name", where, default=f"{shape}-{index}")
     where = f"{where} '{name}'"
     _check_magnet_keys(entry, shape, where)
-    if shape == "mesh":
+    if SHAPES[shape].from_file:
         dims = ()
         vertices, faces = _mesh(ctx, entry, where, base_dir, mesh_files, meshes)
     else:
-        dims, vertices, faces = _dims(ctx, entry, shape, where), None, None
+        dims, vertices, faces = _dims(ctx, entry, SHAPES[shape], where), None, None
     north, radial = _north(ctx, entry, shape, where)
     remanence, grade_name, density = _material(ctx, entry, grades, where)
     method = reading.word(entry, "method", where, ("auto", "exact", "dipoles"), default="auto")
@@ -107,57 +91,62 @@ def _check_magnet_keys(entry, shape, where):
     for other, keys in SHAPE_KEYS.items():
         for key in keys:
             if key not in allowed:
-                elsewhere.setdefault(key, f"a {shape} takes " + (
-                    SIZE_EXAMPLES[shape] if shape != "mesh" else "file = \"parts/a.stl\"")
-                    + f", while '{key}' is for a {other}")
+                elsewhere.setdefault(key, f"a {shape} takes {SHAPES[shape].size_example}, "
+                                          f"while '{key}' is for a {other}")
     reading.check_keys(entry, allowed, where, elsewhere)
 
 
 def _dims(ctx, entry, shape, where) -> tuple:
-    names = NAMED_DIMS[shape]
+    """The shape's dims in SI, from size = [...] or from its named keys; its own checks
+    (scene.shapes) raise DimError, reported here with the file, table, part and key."""
+    names = tuple(dim.name for dim in shape.dims)
     named = [k for k in names if k in entry and k != "size"]
     if "size" in entry and named:
         raise SceneError(f"{where}: both size and {named[0]} are given; keep one way of giving "
-                         f"the dimensions: {SIZE_EXAMPLES[shape]}.")
-    if "size" in entry:
+                         f"the dimensions: {shape.size_example}.")
+    if shape.takes_size and "size" in entry:
         raw = entry["size"]
-        if shape == "sphere" and not isinstance(raw, list):
+        if len(names) == 1 and not isinstance(raw, list):
             raw = [raw]
         if not isinstance(raw, list) or len(raw) != len(names):
             got = f"{len(raw)} values" if isinstance(raw, list) else "a single value"
-            raise SceneError(f"{where}, size: a {shape} takes {len(names)} value(s), got {got}; "
-                             f"write {SIZE_EXAMPLES[shape]}.")
-        values = [reading.scalar(ctx, v, f"{where}, size") for v in raw]
-        labels = ["size"] * len(names)
-    elif shape != "box" and all(k in entry for k in names):
-        values = [reading.scalar(ctx, entry[k], f"{where}, {k}") for k in names]
-        labels = list(names)
+            raise SceneError(f"{where}, size: a {shape.name} takes {len(names)} value(s), got "
+                             f"{got}; write {shape.size_example}.")
+        raws, labels = raw, ["size"] * len(names)
+    elif shape.takes_named and all(k in entry for k in names):
+        raws, labels = [entry[k] for k in names], list(names)
     else:
-        missing = "size" if shape == "box" else next(k for k in names if k not in entry)
+        missing = "size" if not shape.takes_named else next(k for k in names if k not in entry)
         raise SceneError(f"{where}: the key '{missing}' is missing; give the dimensions as "
-                         f"{SIZE_EXAMPLES[shape]}.")
-    for value, label, dim in zip(values, labels, names):
-        if value == 0 and dim == "inner_diameter":
-            if shape == "arc":
-                continue  # a pie-shaped sector
-            raise SceneError(f"{where}, {label}: a ring with inner diameter 0 is a solid "
-                             f"cylinder; write shape = \"cylinder\" with its diameter and height.")
-        if value <= 0:
-            raise SceneError(f"{where}, {label}: the {dim.replace('_', ' ')} must be positive, "
-                             f"got {value:g}; give a size above zero.")
-    dims = [reading.checked_length(ctx, v, f"{where}, {label}", is_size=True) if dim != "angle"
-            else v
-            for v, label, dim in zip(values, labels, names)]
-    if shape in ("ring", "arc") and dims[1] >= dims[0]:
-        raise SceneError(f"{where}: the inner diameter ({values[1]:g} {ctx.units}) must be "
-                         f"smaller than the outer diameter ({values[0]:g} {ctx.units}); swap "
-                         f"or correct them.")
-    if shape == "arc":
-        if dims[3] > 360.0:
-            raise SceneError(f"{where}: the arc's angle must be at most 360 degrees, got "
-                             f"{dims[3]:g}; give the angle it spans in degrees.")
-        dims[3] = float(np.radians(dims[3]))
-    return tuple(float(d) for d in dims)
+                         f"{shape.size_example}.")
+    values = [_dim_value(ctx, raw, dim.kind, f"{where}, {label}", shape)
+              for raw, dim, label in zip(raws, shape.dims, labels)]
+    try:
+        shape.validate(values, ctx.units)
+    except DimError as error:
+        at = where if error.index is None else f"{where}, {labels[error.index]}"
+        raise SceneError(f"{at}: {error}") from None
+    converted = [_dim_si(ctx, value, dim.kind, f"{where}, {label}")
+                 for value, dim, label in zip(values, shape.dims, labels)]
+    return shape.make_dims(converted)
+
+
+def _dim_value(ctx, raw, kind, where, shape):
+    """A dim as written (file units; degrees): a number, or for an outline a list of [x, y]."""
+    if kind != "outline":
+        return reading.scalar(ctx, raw, where)
+    if not isinstance(raw, list) or not all(isinstance(c, list) and len(c) == 2 for c in raw):
+        raise SceneError(f"{where}: write the corners of the cross-section as a list of [x, y] "
+                         f"pairs: {shape.size_example}.")
+    return [[reading.scalar(ctx, v, where) for v in corner] for corner in raw]
+
+
+def _dim_si(ctx, value, kind, where):
+    if kind == "angle":
+        return float(np.radians(value))
+    if kind == "outline":
+        return [[reading.checked_length(ctx, v, where) for v in corner] for corner in value]
+    return reading.checked_length(ctx, value, where, is_size=True)
 
 
 def _mesh(ctx, entry, where, base_dir, mesh_files, meshes):
@@ -185,7 +174,7 @@ def _north(ctx, entry, shape, where):
     if isinstance(value, str):
         word = value.strip().lower()
         if word in RADIAL:
-            if shape not in ("ring", "arc"):
+            if not SHAPES[shape].radial_ok:
                 raise SceneError(f"{key_where}: \"{value}\" is for rings and arcs only; give a "
                                  f"{shape} a direction such as \"+z\" or [0, 0, 1].")
             return None, word
@@ -196,7 +185,7 @@ def _north(ctx, entry, shape, where):
         hint = did_you_mean(word, list(AXIS_WORDS) + list(RADIAL))
         raise SceneError(f"{key_where}: \"{value}\" is not a direction{hint}; write an axis "
                          f"such as \"+z\" or \"-x\", a vector [0, 0, 1]"
-                         f"{', or radial-out / radial-in' if shape in ('ring', 'arc') else ''}.")
+                         f"{', or radial-out / radial-in' if SHAPES[shape].radial_ok else ''}.")
     raw = reading.vector_value(ctx, value, key_where)
     norm = float(np.linalg.norm(raw))
     if norm == 0.0 or not np.isfinite(norm):

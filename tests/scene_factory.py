@@ -60,3 +60,14 @@ def make_scene(magnets, probe, box_min, box_max, spacing, constraint_=None, grav
                              spacing=float(spacing)),
         params={}, path="", digest="test",
     )
+
+
+def shape_part(shape, dims, position=(0, 0, 0), rotation=None, north=(0, 0, 1), remanence=1.3,
+               radial=None) -> Magnet:
+    """A placed part of any registered shape (scene.shapes) with the given dims (SI)."""
+    north = None if radial else np.asarray(north, dtype=float) / np.linalg.norm(north)
+    return Magnet(name=f"{shape}-part", shape=shape, dims=tuple(dims),
+                  position=frozen_array(position, (3,)),
+                  rotation=frozen_array(np.eye(3) if rotation is None else rotation),
+                  north=None if north is None else frozen_array(north, (3,)), radial=radial,
+                  remanence=float(remanence))

@@ -6,6 +6,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.scene.measures import radial_sign
+from trapscape.scene.shapes import shape_of
 from trapscape.viewers.layers import style
 
 UP_THRESHOLD = 0.7  # |north . z| above this: the part shows a pole face from above
@@ -165,16 +167,13 @@ def _side_arrows(ctx, index, magnet, anchor):
         points = np.asarray(world_meshes(ctx)[index].points)
         reach = float(np.max((points[:, :2] - anchor) @ flat))
         return [(anchor + flat * reach * 0.2, flat)]
-    r_mid = (magnet.dims[0] + magnet.dims[1]) / 4.0
-    angles = [0.0] if magnet.shape == "arc" else np.linspace(0, 2 * np.pi, 8, endpoint=False)
-    sign = 1.0 if magnet.radial == "radial-out" else -1.0
+    mids, radial = shape_of(magnet).mid_wall(magnet, 8)
     result = []
-    for angle in angles:
-        body = np.array([np.cos(angle), np.sin(angle), 0.0])
+    for middle, body in zip(mids, radial):
         world = R @ body
-        start = ctx.to_units(magnet.position + R @ (body * r_mid))[:2]
+        start = ctx.to_units(magnet.position + R @ middle)[:2]
         flat = world[:2] / (np.linalg.norm(world[:2]) or 1.0)
-        result.append((start, sign * flat))
+        result.append((start, radial_sign(magnet) * flat))
     return result
 
 

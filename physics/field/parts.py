@@ -3,9 +3,11 @@ from __future__ import annotations
 
 import numpy as np
 
-from trapscape.physics.field.sources import Source, magnetization_vector
-from trapscape.scene.measures import smallest_dimension
+from trapscape.physics.field.sources import Source
+from trapscape.scene.measures import body_magnetization, magnetization_vector, smallest_dimension
 from trapscape.scene.measures import volume as part_volume
+from trapscape.scene.shapes import shape_of
+from trapscape.scene.shapes.frames import to_body
 
 # Below this, exact everywhere beats the equivalent sources (the exact form costs ~30-40 ns per
 # triangle and point, 200 equivalent dipoles about 150 ns per point)
@@ -19,30 +21,13 @@ RADIAL_CELLS_PER_WALL = 8  # radial parts have no closed form here: a dipole set
 
 def body_bounds(magnet) -> tuple[np.ndarray, np.ndarray]:
     """Body-frame bounding box (lower, upper) in m."""
-    d = magnet.dims
-    if magnet.shape == "box":
-        half = np.asarray(d, dtype=float) / 2.0
-        return -half, half
-    if magnet.shape in ("cylinder", "sphere"):
-        r = d[0] / 2.0
-        h = d[1] / 2.0 if magnet.shape == "cylinder" else r
-        return np.array([-r, -r, -h]), np.array([r, r, h])
-    if magnet.shape == "ring":
-        r, h = d[0] / 2.0, d[2] / 2.0
-        return np.array([-r, -r, -h]), np.array([r, r, h])
-    vertices = body_mesh(magnet)[0]
-    return vertices.min(axis=0), vertices.max(axis=0)
+    return shape_of(magnet).bounds(magnet)
 
 
 def body_mesh(magnet):
-    """(vertices, faces) of a mesh or arc part in its body frame."""
-    if magnet.shape == "mesh":
-        return np.asarray(magnet.mesh_vertices, float), np.asarray(magnet.mesh_faces, np.int64)
-    if magnet.shape == "arc":
-        from trapscape.physics.field.arc import arc_mesh
-
-        return arc_mesh(*magnet.dims)
-    raise ValueError(f"{magnet.shape} has no mesh")
+    """(vertices (V, 3) m, faces (F, 3)) of the part's tessellation in its body frame: exact for
+    meshes, boxes and prisms, area-preserving for round parts (scene.shapes.sector)."""
+    return shape_of(magnet).tessellation(magnet)
 
 
 def bounding_diagonal(magnet) -> float:
@@ -52,40 +37,25 @@ def bounding_diagonal(magnet) -> float:
 
 
 def part_sdf(magnet, points) -> np.ndarray:
-    from trapscape.physics.field.geometry import shape_sdf
-
-    body = (np.asarray(points, float) - magnet.position) @ magnet.rotation
-    mesh = body_mesh(magnet) if magnet.shape == "mesh" else None
-    return shape_sdf(magnet.shape, magnet.dims, body, mesh=mesh)
+    """(N,) signed distance (m) from world points to the part, negative inside."""
+    return shape_of(magnet).sdf(magnet, to_body(points, magnet.position, magnet.rotation))
 
 
 def part_contains(magnet, points) -> np.ndarray:
     """(N,) bool: which world points lie inside the part (bounding box first, then its test)."""
-    body = (np.asarray(points, float) - magnet.position) @ magnet.rotation
+    body = to_body(points, magnet.position, magnet.rotation)
     lower, upper = body_bounds(magnet)
     candidates = np.flatnonzero(np.all((body >= lower) & (body <= upper), axis=1))
     inside = np.zeros(len(body), dtype=bool)
     if len(candidates):
-        inside[candidates] = _inside_tests(magnet)[0](body[candidates])
+        inside[candidates] = shape_of(magnet).inside(magnet, body[candidates])
     return inside
 
 
 def part_magnetization(magnet, points) -> np.ndarray:
     """World-frame M (A/m) of the part at world points assumed inside it."""
-    body = (np.asarray(points, float) - magnet.position) @ magnet.rotation
+    body = to_body(points, magnet.position, magnet.rotation)
     return body_magnetization(magnet, body) @ magnet.rotation.T
-
-
-def body_magnetization(magnet, body_points) -> np.ndarray:
-    scale = magnet.remanence / (4e-7 * np.pi)
-    if magnet.radial is None:
-        return np.broadcast_to(magnetization_vector(magnet.remanence, magnet.north), body_points.shape).copy()
-    radial = body_points.copy()
-    radial[:, 2] = 0.0
-    norm = np.linalg.norm(radial, axis=1, keepdims=True)
-    direction = np.divide(radial, norm, out=np.zeros_like(radial), where=norm > 0)
-    sign = 1.0 if magnet.radial == "radial-out" else -1.0
-    return sign * scale * direction
 
 
 def _placed(magnet, index, kind, params, magnetization, **extra) -> Source:
@@ -103,12 +73,8 @@ def _placed(magnet, index, kind, params, magnetization, **extra) -> Source:
 
 def _exact_source(magnet, index) -> Source:
     M = magnetization_vector(magnet.remanence, magnet.north)
-    d = magnet.dims
-    if magnet.shape == "box":
-        return _placed(magnet, index, "box", (np.asarray(d, float),), M)
-    if magnet.shape in ("cylinder", "ring", "sphere"):
-        return _placed(magnet, index, magnet.shape, tuple(float(v) for v in d), M)
-    return _placed(magnet, index, "polyhedron", body_mesh(magnet), M)
+    shape = shape_of(magnet)
+    return _placed(magnet, index, shape.closed_form, shape.field_params(magnet), M)
 
 
 def default_cell_size(magnet, accuracy: float) -> float:
@@ -181,17 +147,14 @@ def _equivalent_source(magnet, index) -> Source:
 
 def _inside_tests(magnet):
     """(inside, sdf) callables on body points. A mesh's brute-force distance costs about 50 ns
-    per triangle and point, too much for a lattice, so meshes use the ray-parity inside test
-    alone; primitives have cheap analytic distances."""
-    if magnet.shape == "mesh":
-        from trapscape.physics.field.voxels import mesh_inside
-
-        vertices, faces = body_mesh(magnet)
-        return (lambda p: mesh_inside(p, vertices, faces)), None
-    from trapscape.physics.field.geometry import shape_sdf
+    per triangle and point, too much for a lattice, so such shapes give the inside test alone
+    (ray parity); the others have cheap closed-form distances."""
+    shape = shape_of(magnet)
+    if not shape.cheap_distance:
+        return (lambda p: shape.inside(magnet, p)), None
 
     def sdf(body_points):
-        return shape_sdf(magnet.shape, magnet.dims, body_points)
+        return shape.sdf(magnet, body_points)
 
     return (lambda p: sdf(p) < 0.0), sdf
 
@@ -200,8 +163,8 @@ def part_sources(magnet, index, accuracy=1e-3) -> list[Source]:
     """The sources that make up one magnet: exact where a closed form exists, else dipoles."""
     if magnet.radial is not None or magnet.method == "dipoles":
         return [_dipole_source(magnet, index, accuracy)]
-    if magnet.method == "exact" or magnet.shape != "mesh":
+    if magnet.method == "exact" or not shape_of(magnet).fit_far_field:
         return [_exact_source(magnet, index)]
-    if len(magnet.mesh_faces) < EXACT_TRIANGLE_LIMIT:
+    if len(body_mesh(magnet)[1]) < EXACT_TRIANGLE_LIMIT:
         return [_exact_source(magnet, index)]
     return [_equivalent_source(magnet, index)]

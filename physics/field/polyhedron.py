@@ -27,8 +27,6 @@ from dataclasses import dataclass
 import numpy as np
 from numba import njit, prange
 
-from trapscape.scene.errors import SceneError
-
 SURFACE_TOL = 1e-12  # relative to the mesh size; the same convention as physics.field.cuboid
 EDGE_PUSH = 1e-9  # relative to the mesh size
 _CHUNK = 64  # points per scratch allocation
@@ -52,7 +50,6 @@ class MeshTables:
     edge_normal: np.ndarray  # (F, 3, 3) outward in-plane unit normal of each face edge
     vertex_push: np.ndarray  # (V, 3) unit
     edge_push: np.ndarray  # (E, 3) unit
-    volume: float  # m^3
 
 
 _TABLES_CACHE: dict = {}
@@ -79,14 +76,14 @@ def _unit(v: np.ndarray, fallback: np.ndarray) -> np.ndarray:
 
 def _build_tables(vertices: np.ndarray, faces: np.ndarray) -> MeshTables:
     if faces.size == 0 or vertices.size == 0:
-        raise SceneError("the mesh has no triangles; give a closed triangle mesh.")
+        raise ValueError("the mesh has no triangles; give a closed triangle mesh.")
     if faces.min() < 0 or faces.max() >= len(vertices):
-        raise SceneError("the mesh has face indices outside its vertex list; re-export the mesh.")
+        raise ValueError("the mesh has face indices outside its vertex list; re-export the mesh.")
     lo, hi = vertices.min(axis=0), vertices.max(axis=0)
     centre = 0.5 * (lo + hi)
     scale = float(np.max(hi - lo))
     if not scale > 0.0:
-        raise SceneError("the mesh has no extent; give a closed triangle mesh with volume.")
+        raise ValueError("the mesh has no extent; give a closed triangle mesh with volume.")
     v = (vertices - centre) / scale
     a, b, c = v[faces[:, 0]], v[faces[:, 1]], v[faces[:, 2]]
     area_normal = np.cross(b - a, c - a)
@@ -125,8 +122,6 @@ def _build_tables(vertices: np.ndarray, faces: np.ndarray) -> MeshTables:
     fallback_v[:, 2] = 1.0
     fallback_e = np.zeros_like(edge_sum)
     fallback_e[:, 2] = 1.0
-    volume = float(np.sum(np.einsum("ij,ij->i", vertices[faces[:, 0]], np.cross(
-        vertices[faces[:, 1]] - vertices[faces[:, 0]], vertices[faces[:, 2]] - vertices[faces[:, 0]])))) / 6.0
     tables = MeshTables(
         centre=centre, scale=scale, vertices=np.ascontiguousarray(v), faces=np.ascontiguousarray(faces),
         face_edges=np.ascontiguousarray(face_edges), face_edge_sign=np.ascontiguousarray(face_edge_sign),
@@ -134,7 +129,7 @@ def _build_tables(vertices: np.ndarray, faces: np.ndarray) -> MeshTables:
         area_normal=np.ascontiguousarray(area_normal), unit_normal=np.ascontiguousarray(unit_normal),
         edge_normal=np.ascontiguousarray(edge_normal),
         vertex_push=np.ascontiguousarray(_unit(vertex_sum, fallback_v)),
-        edge_push=np.ascontiguousarray(_unit(edge_sum, fallback_e)), volume=volume,
+        edge_push=np.ascontiguousarray(_unit(edge_sum, fallback_e)),
     )
     return tables
 
@@ -147,11 +142,11 @@ def _check_closed(faces: np.ndarray) -> None:
     backward = directed[:, 1].astype(np.int64) * n + directed[:, 0]
     forward_sorted = np.sort(forward)
     if np.any(forward_sorted[1:] == forward_sorted[:-1]):
-        raise SceneError("the mesh is not consistently oriented (an edge is used twice in the same "
+        raise ValueError("the mesh is not consistently oriented (an edge is used twice in the same "
                          "direction); repair it so that every face is ordered counter-clockwise "
                          "seen from outside.")
     if not np.array_equal(forward_sorted, np.sort(backward)):
-        raise SceneError("the mesh is not closed (some edges belong to only one triangle); repair "
+        raise ValueError("the mesh is not closed (some edges belong to only one triangle); repair "
                          "it into a watertight solid.")
 
 
@@ -314,29 +309,6 @@ def _field_kernel(points, V, FV, FE, EV, elen, A2, sn, ce, de, vpush, epush, wan
                 G[m, 2, 2] = gzz
 
 
-@njit(cache=True, parallel=True, error_model="numpy")
-def _winding_kernel(points, V, FV, FE, EV, elen, A2, vpush, epush, W):
-    n = points.shape[0]
-    nV = V.shape[0]
-    nE = EV.shape[0]
-    nF = FV.shape[0]
-    n_chunks = (n + _CHUNK - 1) // _CHUNK
-    for chunk in prange(n_chunks):
-        r = np.empty((nV, 3))
-        R = np.empty(nV)
-        dot = np.empty(nE)
-        q = np.empty(nE)
-        s = np.empty(nE)
-        for m in range(chunk * _CHUNK, min(n, (chunk + 1) * _CHUNK)):
-            _locate_pushed(points[m, 0], points[m, 1], points[m, 2], V, EV, elen, vpush, epush,
-                           r, R, dot, q, s)
-            total = 0.0
-            for f in range(nF):
-                total += _solid_angle(f, FV, FE, A2, r, R, dot)
-            # seen from inside every outward face has a negative solid angle: -4 pi in all
-            W[m] = -total / (4.0 * math.pi)
-
-
 # ---------------------------------------------------------------------------------------------
 # public functions
 
@@ -388,19 +360,3 @@ def polyhedron_H_and_gradient(points: np.ndarray, vertices: np.ndarray, faces: n
                               magnetization) -> tuple[np.ndarray, np.ndarray]:
     """H (N, 3) and dH_i/dx_j (N, 3, 3) in one pass."""
     return _run_field(points, vertices, faces, magnetization, True, True)
-
-
-def winding_number(points: np.ndarray, vertices: np.ndarray, faces: np.ndarray) -> np.ndarray:
-    """(N,) sum of the faces' solid angles / 4 pi: 1 inside, 0 outside; a point on the surface
-    counts as outside (0), like the field, which takes the outer side there."""
-    t = mesh_tables(vertices, faces)
-    p = _scaled_points(t, points)
-    W = np.empty(len(p))
-    _winding_kernel(p, t.vertices, t.faces, t.face_edges, t.edges, t.edge_length, t.area_normal,
-                    t.vertex_push, t.edge_push, W)
-    return W
-
-
-def mesh_volume(vertices: np.ndarray, faces: np.ndarray) -> float:
-    """Volume (m^3) of a closed outward-oriented mesh (divergence theorem)."""
-    return mesh_tables(vertices, faces).volume

@@ -12,7 +12,6 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from trapscape.scene.units import MU0
 
 # shape -> (module, function stem) of the body-frame closed form (DEVELOPERS.md, Closed forms)
 CLOSED_FORMS = {
@@ -150,8 +149,3 @@ def mirrored(source: Source, point: np.ndarray, normal: np.ndarray, name_suffix:
         image = replace(image, near=mirrored(source.near, point, normal, name_suffix),
                         near_centre=reflect(source.near_centre))
     return image
-
-
-def magnetization_vector(remanence: float, north: np.ndarray) -> np.ndarray:
-    """M = Br / mu0 along north (DESIGN.md, Physics: rigid magnets, recoil permeability 1)."""
-    return remanence / MU0 * np.asarray(north, dtype=float)

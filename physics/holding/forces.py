@@ -31,159 +31,24 @@ force scale, measured against closed forms in tests/test_forces.py.
 """
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
 
+from trapscape.physics.field.parts import bounding_diagonal
+from trapscape.scene.measures import body_magnetization, magnetization_strength, moment_world, radial_sign
+from trapscape.scene.shapes import shape_of
+from trapscape.scene.shapes.patches import Patches, map_patches
 from trapscape.scene.units import MU0
-from trapscape.physics.field.parts import body_magnetization, bounding_diagonal
 
 GAUSS_ORDER = 4  # points per direction in each panel
 MAX_ROUNDS = 60  # rounds of refinement at most (each splits the worst panels in two)
 INWARD_PUSH = 1e-9  # of the part size: quadrature points sit just inside the target
-ARC_SAMPLES = 721  # points along an arc edge when looking for a part's extreme point
-
-
-@dataclass(frozen=True)
-class Patches:
-    """A family of parameter boxes [0, 1]^d mapped onto a part's surface (or volume), body frame.
-
-    kind: "parallelogram" (origin, e1, e2), "triangle" (a, b, c; Duffy's collapsed square),
-    "annulus" (r0, r1, phi0, phi1, z, normal sign), "lateral" (radius, phi0, phi1, z0, z1,
-    normal sign) or "sector_volume" (r0, r1, phi0, phi1, z0, z1). data: (P, k) parameters.
-    lengths: (P, d) physical extents, used to size the first panels.
-    """
-
-    kind: str
-    data: np.ndarray
-    lengths: np.ndarray
-
-    @property
-    def dimension(self) -> int:
-        return 3 if self.kind == "sector_volume" else 2
-
-
-def _map(patches: Patches, index: np.ndarray, t: np.ndarray):
-    """Body points (n, 3), Jacobian (n,) and outward normal (n, 3) (zero for volumes) at
-    parameters t (n, d) in [0, 1]^d of patches[index]."""
-    p = patches.data[index]
-    kind = patches.kind
-    if kind == "parallelogram":
-        o, e1, e2 = p[:, 0:3], p[:, 3:6], p[:, 6:9]
-        x = o + t[:, :1] * e1 + t[:, 1:2] * e2
-        cross = np.cross(e1, e2)
-        area = np.linalg.norm(cross, axis=1)
-        return x, area, cross / area[:, None]
-    if kind == "triangle":
-        a, b, c = p[:, 0:3], p[:, 3:6], p[:, 6:9]
-        u, v = t[:, :1], t[:, 1:2]
-        x = a + u * (b - a) + u * v * (c - b)
-        cross = np.cross(b - a, c - b)
-        norm = np.linalg.norm(cross, axis=1)
-        return x, norm * t[:, 0], cross / norm[:, None]
-    if kind == "annulus":
-        r = p[:, 0] + t[:, 0] * (p[:, 1] - p[:, 0])
-        phi = p[:, 2] + t[:, 1] * (p[:, 3] - p[:, 2])
-        x = np.stack([r * np.cos(phi), r * np.sin(phi), p[:, 4]], axis=1)
-        normal = np.zeros_like(x)
-        normal[:, 2] = p[:, 5]
-        return x, r * (p[:, 1] - p[:, 0]) * (p[:, 3] - p[:, 2]), normal
-    if kind == "lateral":
-        phi = p[:, 1] + t[:, 0] * (p[:, 2] - p[:, 1])
-        z = p[:, 3] + t[:, 1] * (p[:, 4] - p[:, 3])
-        radial = np.stack([np.cos(phi), np.sin(phi), np.zeros_like(phi)], axis=1)
-        return p[:, :1] * radial + z[:, None] * [0.0, 0.0, 1.0], \
-            p[:, 0] * (p[:, 2] - p[:, 1]) * (p[:, 4] - p[:, 3]), p[:, 5:6] * radial
-    if kind == "sector_volume":
-        r = p[:, 0] + t[:, 0] * (p[:, 1] - p[:, 0])
-        phi = p[:, 2] + t[:, 1] * (p[:, 3] - p[:, 2])
-        z = p[:, 4] + t[:, 2] * (p[:, 5] - p[:, 4])
-        x = np.stack([r * np.cos(phi), r * np.sin(phi), z], axis=1)
-        jac = r * (p[:, 1] - p[:, 0]) * (p[:, 3] - p[:, 2]) * (p[:, 5] - p[:, 4])
-        return x, jac, np.zeros_like(x)
-    raise ValueError(kind)
-
-
-# -- the charged surfaces of each shape ---------------------------------------------------------
-
-
-def _box_faces(size) -> Patches:
-    half = np.asarray(size, float) / 2.0
-    rows, lengths = [], []
-    for k in range(3):
-        i, j = (k + 1) % 3, (k + 2) % 3
-        for sign in (1.0, -1.0):
-            origin = -half.copy()
-            origin[k] = sign * half[k]
-            e_i, e_j = np.zeros(3), np.zeros(3)
-            e_i[i], e_j[j] = 2 * half[i], 2 * half[j]
-            first, second = (e_i, e_j) if sign > 0 else (e_j, e_i)  # e1 x e2 points outward
-            rows.append(np.concatenate([origin, first, second]))
-            lengths.append([np.linalg.norm(first), np.linalg.norm(second)])
-    return Patches("parallelogram", np.array(rows), np.array(lengths))
-
-
-def _sector_surfaces(r_in, r_out, height, phi0, phi1, closed_ends) -> list[Patches]:
-    """End faces, outer (and inner) lateral faces and, for arcs, the two flat ends."""
-    z0, z1 = -height / 2.0, height / 2.0
-    span = phi1 - phi0
-    ends = Patches("annulus", np.array([[r_in, r_out, phi0, phi1, z1, 1.0],
-                                         [r_in, r_out, phi0, phi1, z0, -1.0]]),
-                   np.array([[r_out - r_in, r_out * span]] * 2))
-    walls = [[r_out, phi0, phi1, z0, z1, 1.0]]
-    if r_in > 0:
-        walls.append([r_in, phi0, phi1, z0, z1, -1.0])
-    lateral = Patches("lateral", np.array(walls), np.array([[w[0] * span, height] for w in walls]))
-    families = [ends, lateral]
-    if closed_ends:
-        rows = []
-        for phi, sign in ((phi0, -1.0), (phi1, 1.0)):
-            radial = np.array([math.cos(phi), math.sin(phi), 0.0])
-            origin = r_in * radial + [0.0, 0.0, z0]
-            e_r, e_z = (r_out - r_in) * radial, np.array([0.0, 0.0, height])
-            # outward normal of the end at phi1 is +phi_hat = z x r_hat; at phi0 it is -phi_hat
-            rows.append(np.concatenate([origin, e_z, e_r] if sign > 0 else [origin, e_r, e_z]))
-        families.append(Patches("parallelogram", np.array(rows),
-                                np.array([[r_out - r_in, height]] * 2)))
-    return families
-
-
-def _sector_dims(magnet):
-    d = magnet.dims
-    if magnet.shape == "cylinder":
-        return 0.0, d[0] / 2.0, d[1], 0.0, 2 * math.pi, False
-    if magnet.shape == "ring":
-        return d[1] / 2.0, d[0] / 2.0, d[2], 0.0, 2 * math.pi, False
-    return d[1] / 2.0, d[0] / 2.0, d[2], -d[3] / 2.0, d[3] / 2.0, d[3] < 2 * math.pi - 1e-12
-
-
-def _mesh_triangles(magnet) -> Patches:
-    from trapscape.physics.field.parts import body_mesh
-
-    vertices, faces = body_mesh(magnet)
-    tri = vertices[faces]
-    data = tri.reshape(len(tri), 9)
-    lengths = np.stack([np.linalg.norm(tri[:, 1] - tri[:, 0], axis=1),
-                        np.linalg.norm(tri[:, 2] - tri[:, 1], axis=1)], axis=1)
-    return Patches("triangle", data, lengths)
 
 
 def charged_patches(magnet) -> list[Patches]:
     """The surfaces (and, for radial parts, the volume) that carry the part's charges."""
-    if magnet.shape == "box":
-        return [_box_faces(magnet.dims)]
-    if magnet.shape in ("cylinder", "ring", "arc"):
-        r_in, r_out, height, phi0, phi1, closed = _sector_dims(magnet)
-        families = _sector_surfaces(r_in, r_out, height, phi0, phi1, closed)
-        if magnet.radial is not None:
-            volume = np.array([[r_in, r_out, phi0, phi1, -height / 2.0, height / 2.0]])
-            families.append(Patches("sector_volume", volume,
-                                    np.array([[r_out - r_in, r_out * (phi1 - phi0), height]])))
-        return families
-    if magnet.shape == "mesh":
-        return [_mesh_triangles(magnet)]
-    raise ValueError(f"no charged surfaces for shape {magnet.shape}")
+    return shape_of(magnet).patches(magnet, volume_charge=magnet.radial is not None)
 
 
 def _charge(magnet, patches: Patches, body_points, normals):
@@ -192,10 +57,9 @@ def _charge(magnet, patches: Patches, body_points, normals):
     M = body_magnetization(magnet, body_points)
     if patches.kind != "sector_volume":
         return np.einsum("ij,ij->i", M, normals)
-    sign = 1.0 if magnet.radial == "radial-out" else -1.0
     r = np.hypot(body_points[:, 0], body_points[:, 1])
     # div(M0 s r_hat) = s M0 / r in cylindrical coordinates
-    return -sign * (magnet.remanence / MU0) / np.maximum(r, 1e-300)
+    return -radial_sign(magnet) * magnetization_strength(magnet.remanence) / np.maximum(r, 1e-300)
 
 
 # -- adaptive tensor Gauss-Legendre cubature -----------------------------------------------------
@@ -234,7 +98,7 @@ class _PartIntegrand:
             nodes, w = self.rules[d]
             lo, hi = lower[chosen, :d], upper[chosen, :d]
             t = (lo[:, None, :] + nodes[None] * (hi - lo)[:, None, :]).reshape(-1, d)
-            x, jac, n = _map(patches, np.repeat(patch[chosen], len(w)), t)
+            x, jac, n = map_patches(patches, np.repeat(patch[chosen], len(w)), t)
             weight = np.repeat(np.prod(hi - lo, axis=1), len(w)) * np.tile(w, len(chosen))
             body.append(x - self.push * n)
             charge.append(_charge(self.magnet, patches, x, n) * jac * weight)
@@ -359,25 +223,15 @@ def _adaptive(integrand, boxes, rtol: float, max_rounds: int = MAX_ROUNDS):
 
 
 def torque_reference(magnet) -> np.ndarray:
-    """The point torques are taken about: the body origin (a primitive's centre), or a mesh
-    part's volume centroid (sum of signed tetrahedra; derived here), world frame, m."""
-    if magnet.shape != "mesh":
-        return np.asarray(magnet.position, float)
-    from trapscape.physics.field.parts import body_mesh
-
-    vertices, faces = body_mesh(magnet)
-    tri = vertices[faces]
-    volumes = np.einsum("ij,ij->i", tri[:, 0], np.cross(tri[:, 1], tri[:, 2])) / 6.0
-    centroid = (volumes[:, None] * tri.sum(axis=1) / 4.0).sum(axis=0) / volumes.sum()
-    return np.asarray(magnet.rotation, float) @ centroid + magnet.position
+    """The point torques are taken about (world frame, m): the shape's reference point, the body
+    origin (a primitive's centre) or a mesh part's volume centroid."""
+    return np.asarray(magnet.rotation, float) @ shape_of(magnet).reference_point(magnet) + magnet.position
 
 
 def _sphere_force(magnet, acting, reference):
     """Exact for a uniformly magnetised sphere in a field with no sources inside it:
     F = mu0 (m . grad) H(c), T = mu0 m x H(c) (Jackson 5.7, 5.16; mean-value property)."""
-    from trapscape.physics.field.parts import part_volume
-
-    m = magnet.remanence / MU0 * part_volume(magnet) * magnet.north_world
+    m = moment_world(magnet)
     c = np.asarray(magnet.position, float)[None]
     H, G = acting.applied_H(c, gradient=True)
     force = MU0 * G[0] @ m
@@ -394,7 +248,7 @@ def force_on_part(field_model, index: int, images_only: bool = False, rtol: floa
     reference = torque_reference(magnet)
     if not acting.sources:
         return np.zeros(3), np.zeros(3)
-    if magnet.shape == "sphere":
+    if shape_of(magnet).is_ball:
         return _sphere_force(magnet, acting, reference)
     families = charged_patches(magnet)
     finest = min(s.size for s in acting.sources)
@@ -419,26 +273,9 @@ def part_forces(field_model, parts=None, rtol: float = 1e-6):
 
 
 def lowest_point(magnet, direction) -> float:
-    """min over the part of x . direction (world, m): how far the part reaches along -direction.
-    Exact for boxes, cylinders, rings, spheres and meshes; arcs from 721 samples per edge."""
+    """min over the part of x . direction (world, m): how far the part reaches along -direction
+    (minus the shape's support function along -direction)."""
     d = np.asarray(direction, float)
-    R = np.asarray(magnet.rotation, float)
+    b = np.asarray(magnet.rotation, float).T @ d  # the direction in the body frame
     c = float(np.asarray(magnet.position, float) @ d)
-    b = R.T @ d  # the direction in the body frame
-    dims = magnet.dims
-    if magnet.shape == "box":
-        return c - float(np.abs(b) @ (np.asarray(dims, float) / 2.0))
-    if magnet.shape == "sphere":
-        return c - dims[0] / 2.0
-    if magnet.shape in ("cylinder", "ring"):
-        radius, height = dims[0] / 2.0, dims[-1]
-        return c - height / 2.0 * abs(b[2]) - radius * math.hypot(b[0], b[1])
-    if magnet.shape == "arc":
-        r_in, r_out, height, phi0, phi1, _ = _sector_dims(magnet)
-        phi = np.linspace(phi0, phi1, ARC_SAMPLES)
-        ring = np.stack([np.cos(phi), np.sin(phi)], axis=1) @ b[:2]
-        edges = [r * ring + z * b[2] for r in (r_in, r_out) for z in (-height / 2, height / 2)]
-        return c + float(np.min(edges))
-    from trapscape.physics.field.parts import body_mesh
-
-    return c + float((body_mesh(magnet)[0] @ b).min())
+    return c - float(shape_of(magnet).support(magnet, -b[None])[0])

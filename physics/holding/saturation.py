@@ -21,6 +21,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from trapscape.scene.shapes.frames import box_corners, perpendicular_pair, to_world
+
 FOOTPRINT_NODES = 96  # grid nodes on the longer side of the footprint's box
 HEIGHT_SAMPLES = 24  # samples along the plate normal when projecting a part onto the plate
 LIFT = 1e-6  # of the part size: face points are lifted off the plate, into a magnet in contact
@@ -65,11 +67,7 @@ class Footprint:
 
 def plate_axes(normal) -> np.ndarray:
     """Two unit vectors spanning the plate's face (a right-handed frame with the normal)."""
-    n = np.asarray(normal, float)
-    helper = np.eye(3)[np.argmin(np.abs(n))]
-    first = np.cross(n, helper)
-    first /= np.linalg.norm(first)
-    return np.array([first, np.cross(n, first)])
+    return perpendicular_pair(normal)
 
 
 def footprint(magnets, plate, nodes: int = FOOTPRINT_NODES) -> Footprint:
@@ -110,8 +108,7 @@ def _projected_box(magnet, axes):
     from trapscape.physics.field.parts import body_bounds
 
     lower, upper = body_bounds(magnet)
-    corners = np.array(np.meshgrid(*zip(lower, upper), indexing="ij")).reshape(3, -1).T
-    flat = (corners @ np.asarray(magnet.rotation, float).T + magnet.position) @ axes.T
+    flat = to_world(box_corners(lower, upper), magnet.position, magnet.rotation) @ axes.T
     return flat.min(axis=0), flat.max(axis=0)
 
 

@@ -5,7 +5,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from trapscape.physics.field.parts import body_bounds, part_sdf
+from trapscape.physics.field.parts import part_sdf
+from trapscape.scene.measures import bounding_box
 
 DESCENT_ITERATIONS = 300
 
@@ -13,15 +14,6 @@ DESCENT_ITERATIONS = 300
 def in_box(points, low, high, tolerance) -> np.ndarray:
     """Points (N, 3) inside the box [low, high] (3,) widened by tolerance, all in m; (N,) bool."""
     return np.all((points >= low - tolerance) & (points <= high + tolerance), axis=1)
-
-
-def world_box(magnet):
-    """World-frame bounding box (low, high) of a placed part, m."""
-    low, high = body_bounds(magnet)
-    corners = np.array([[x, y, z] for x in (low[0], high[0]) for y in (low[1], high[1])
-                        for z in (low[2], high[2])])
-    world = corners @ np.asarray(magnet.rotation, float).T + np.asarray(magnet.position, float)
-    return world.min(axis=0), world.max(axis=0)
 
 
 class ProbeGeometry:
@@ -55,7 +47,7 @@ class ProbeGeometry:
         self.high = np.asarray(scene.search_box.max, float)
         self.spacing = float(scene.search_box.spacing)
         self.names = [m.name for m in scene.magnets] + [p.name for p in scene.plates]
-        self.part_boxes = [world_box(m) for m in scene.magnets]
+        self.part_boxes = [bounding_box(m) for m in scene.magnets]
 
     def clearance(self, points) -> np.ndarray:
         """Distance (N,) in m from points (N, 3) to the nearest magnet surface or plate face

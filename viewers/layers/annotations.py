@@ -24,24 +24,28 @@ def text_width(plotter, text: str, font_size: int) -> float:
 
 # -- legend -----------------------------------------------------------------------------------
 
-def symbol_outline(shape: str, x: float, y: float, r: float):
-    """Display-coordinate polygon(s) of a legend symbol centred at (x, y), half-size r:
-    a list of (points (K, 2), closed) rings; a ring symbol has two."""
+def _circle(r):
     angle = np.linspace(0.0, 2.0 * np.pi, 33)[:-1]
-    circle = np.column_stack([np.cos(angle), np.sin(angle)])
-    if shape == "sphere":
-        return [(np.array([x, y]) + r * circle, True)]
-    if shape == "ring":
-        return [(np.array([x, y]) + r * circle, True), (np.array([x, y]) + 0.55 * r * circle, True)]
-    if shape == "diamond":
-        return [(np.array([[x, y - 1.2 * r], [x + 0.85 * r, y], [x, y + 1.2 * r], [x - 0.85 * r, y]]), True)]
-    if shape == "cube":
-        return [(np.array([[x - 0.8 * r, y - 0.8 * r], [x + 0.8 * r, y - 0.8 * r],
-                           [x + 0.8 * r, y + 0.8 * r], [x - 0.8 * r, y + 0.8 * r]]), True)]
-    if shape == "line":
-        return [(np.array([[x - 1.3 * r, y], [x + 1.3 * r, y]]), False)]
-    return [(np.array([[x - 1.3 * r, y - 0.75 * r], [x + 1.3 * r, y - 0.75 * r],
-                       [x + 1.3 * r, y + 0.75 * r], [x - 1.3 * r, y + 0.75 * r]]), True)]
+    return r * np.column_stack([np.cos(angle), np.sin(angle)])
+
+
+# a legend symbol of half-size r about the origin: a list of (points (K, 2), closed) rings
+SYMBOL_OUTLINES = {
+    "sphere": lambda r: [(_circle(r), True)],
+    "ring": lambda r: [(_circle(r), True), (_circle(0.55 * r), True)],
+    "diamond": lambda r: [(np.array([[0, -1.2 * r], [0.85 * r, 0], [0, 1.2 * r], [-0.85 * r, 0]]), True)],
+    "cube": lambda r: [(0.8 * r * np.array([[-1, -1], [1, -1], [1, 1], [-1, 1]]), True)],
+    "line": lambda r: [(np.array([[-1.3 * r, 0], [1.3 * r, 0]]), False)],
+    "rectangle": lambda r: [(r * np.array([[-1.3, -0.75], [1.3, -0.75], [1.3, 0.75], [-1.3, 0.75]]), True)],
+}
+HOLLOW_SYMBOLS = ("ring",)  # drawn as a band between their outlines, not filled
+
+
+def symbol_outline(symbol: str, x: float, y: float, r: float):
+    """Display-coordinate polygon(s) of a legend symbol centred at (x, y), half-size r:
+    a list of (points (K, 2), closed) rings; a ring symbol has two (unknown: a rectangle)."""
+    outline = SYMBOL_OUTLINES.get(symbol, SYMBOL_OUTLINES["rectangle"])
+    return [(np.array([x, y]) + points, closed) for points, closed in outline(r)]
 
 
 def _actor_2d(points, polys=(), lines=(), colour=(0, 0, 0), width=1.0, opacity=1.0):
@@ -88,14 +92,14 @@ def filled(plotter, ring: np.ndarray, colour, outline="#333333", width=1.0, opac
 
 @dataclass
 class Legend:
-    """Entries (label, colour, shape) drawn as a panel of 2D symbols and dark text, so light
+    """Entries (label, colour, symbol) drawn as a panel of 2D symbols and dark text, so light
     colours stay readable on white."""
 
     entries: list = field(default_factory=list)
 
-    def add(self, label: str, colour, shape: str = "rectangle") -> None:
+    def add(self, label: str, colour, symbol: str = "rectangle") -> None:
         if all(entry[0] != label for entry in self.entries):
-            self.entries.append((label, colour, shape))
+            self.entries.append((label, colour, symbol))
 
     def height(self, font_size: int) -> float:
         return (len(self.entries) + 0.5) * font_size * 2.6
@@ -111,16 +115,16 @@ class Legend:
         panel = np.array([[left, bottom], [left + width, bottom], [left + width, top], [left, top]])
         filled(plotter, panel, "#ffffff", outline="#9a9a9a", opacity=0.92)
         r = font_size * 0.7
-        for i, (label, colour, shape) in enumerate(self.entries):
+        for i, (label, colour, symbol) in enumerate(self.entries):
             y = top - (i + 0.8) * row
             x = left + font_size * 2.0
-            for ring, closed in symbol_outline(shape, x, y, r):
-                if closed and shape != "ring":
+            for ring, closed in symbol_outline(symbol, x, y, r):
+                if closed and symbol not in HOLLOW_SYMBOLS:
                     filled(plotter, ring, colour)
                 elif not closed:
                     plotter.add_actor(_actor_2d(ring, lines=[[0, 1]], colour=_darker(colour),
                                                 width=max(2.0, font_size / 5)), reset_camera=False)
-            if shape == "ring":
+            if symbol in HOLLOW_SYMBOLS:
                 _draw_ring(plotter, x, y, r, colour)
             plotter.add_text(label, position=(x + font_size * 2.2, y - font_size * 0.75),
                              font_size=font_size, color=style.TEXT)

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.scene.shapes.frames import perpendicular_pair
 from trapscape.viewers.layers import style
 from trapscape.viewers.layers.probe_data import energy_and_force
 from trapscape.viewers.layers.traps_data import describe_force
@@ -39,10 +40,7 @@ def lattice(ctx) -> np.ndarray:
 
 
 def _plane_lattice(corners, normal) -> np.ndarray:
-    helper = np.eye(3)[np.argmin(np.abs(normal))]
-    u = np.cross(normal, helper)
-    u /= np.linalg.norm(u)
-    v = np.cross(normal, u)
+    u, v = perpendicular_pair(normal)
     centre = corners.mean(axis=0)
     cu, cv = (corners - centre) @ u, (corners - centre) @ v
     step = max(np.ptp(cu), np.ptp(cv)) / LATTICE_PLANE

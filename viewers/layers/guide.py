@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.scene.shapes.frames import perpendicular_pair
 from trapscape.viewers.layers import style
 
 
@@ -35,10 +36,7 @@ def plane_in_box(ctx, point, normal):
     if len(corners) < 3:
         return None
     centre = corners.mean(axis=0)
-    helper = np.eye(3)[np.argmin(np.abs(normal))]
-    u = np.cross(normal, helper)
-    u /= np.linalg.norm(u)
-    v = np.cross(normal, u)
+    u, v = perpendicular_pair(normal)
     order = np.argsort(np.arctan2((corners - centre) @ v, (corners - centre) @ u))
     return pv.PolyData(corners[order], faces=[len(order), *range(len(order))])
 

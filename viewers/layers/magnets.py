@@ -4,8 +4,11 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.scene.measures import body_magnetization, radial_sign
+from trapscape.scene.shapes import shape_of
 from trapscape.viewers.layers import style
 
+DRAWING_SEGMENTS = 64  # facets of a drawn full turn (cylinders, rings, arcs) and sphere rings
 POLARITY_TOLERANCE = 0.5  # a face is a pole face when its normal is within 60 degrees of M
 
 
@@ -15,52 +18,15 @@ def body_polydata(magnet):
     """The part's closed surface in its body frame, metres, outward normals."""
     import pyvista as pv
 
-    d = magnet.dims
-    if magnet.shape == "box":
-        a, b, c = (v / 2.0 for v in d)
-        return pv.Box(bounds=(-a, a, -b, b, -c, c)).triangulate()
-    if magnet.shape == "cylinder":
-        return pv.Cylinder(center=(0, 0, 0), direction=(0, 0, 1), radius=d[0] / 2.0,
-                           height=d[1], resolution=64, capping=True).triangulate()
-    if magnet.shape == "sphere":
-        return pv.Sphere(radius=d[0] / 2.0, theta_resolution=48, phi_resolution=32)
-    if magnet.shape == "ring":
-        return _ring(d[0] / 2.0, d[1] / 2.0, d[2])
-    from trapscape.physics.field.parts import body_mesh
-
-    vertices, faces = body_mesh(magnet)
+    vertices, faces = shape_of(magnet).tessellation(magnet, segments=DRAWING_SEGMENTS)
     return pv.PolyData.from_regular_faces(np.asarray(vertices, float), np.asarray(faces))
-
-
-def _ring(outer, inner, height, resolution=64):
-    import pyvista as pv
-
-    angle = np.linspace(0.0, 2.0 * np.pi, resolution, endpoint=False)
-    circle = np.stack([np.cos(angle), np.sin(angle)], axis=1)
-    rings = [np.column_stack([r * circle, np.full(resolution, z)])
-             for z in (-height / 2.0, height / 2.0) for r in (outer, inner)]
-    points = np.concatenate(rings)  # outer-bottom, inner-bottom, outer-top, inner-top
-    ob, ib, ot, it = (np.arange(resolution) + k * resolution for k in range(4))
-    nxt = lambda idx: np.roll(idx, -1)  # noqa: E731
-    quads = np.concatenate([
-        np.stack([ob, nxt(ob), nxt(ot), ot], axis=1),  # outer wall, normal outward
-        np.stack([ib, it, nxt(it), nxt(ib)], axis=1),  # inner wall, normal towards the axis
-        np.stack([ot, nxt(ot), nxt(it), it], axis=1),  # top, +z
-        np.stack([ob, ib, nxt(ib), nxt(ob)], axis=1),  # bottom, -z
-    ])
-    return pv.PolyData.from_regular_faces(points, quads).triangulate()
 
 
 def _magnetisation_direction(magnet, body_points) -> np.ndarray:
     """Unit M direction in the body frame at body points (radial parts vary cell by cell)."""
-    if magnet.radial is None:
-        north = np.asarray(magnet.north, float)
-        return np.broadcast_to(north / np.linalg.norm(north), body_points.shape)
-    radial = np.array(body_points, dtype=float)
-    radial[:, 2] = 0.0
-    norm = np.linalg.norm(radial, axis=1, keepdims=True)
-    radial = np.divide(radial, norm, out=np.zeros_like(radial), where=norm > 0)
-    return radial if magnet.radial == "radial-out" else -radial
+    M = body_magnetization(magnet, body_points)
+    size = np.linalg.norm(M, axis=1, keepdims=True)
+    return np.divide(M, size, out=np.zeros_like(M), where=size > 0)
 
 
 def part_polydata(ctx, index: int):
@@ -168,12 +134,9 @@ def part_arrows(ctx, index: int):
         starts = [centre]
         directions = [R @ (magnet.north / np.linalg.norm(magnet.north))]
     else:
-        r_mid = (magnet.dims[0] + magnet.dims[1]) / 4.0
-        angles = [0.0] if magnet.shape == "arc" else [0, np.pi / 2, np.pi, 3 * np.pi / 2]
-        body = [np.array([np.cos(a), np.sin(a), 0.0]) for a in angles]
-        sign = 1.0 if magnet.radial == "radial-out" else -1.0
-        starts = [ctx.to_units(magnet.position + R @ (b * r_mid)) for b in body]
-        directions = [sign * (R @ b) for b in body]
+        mids, radial = shape_of(magnet).mid_wall(magnet, 4)
+        starts = [ctx.to_units(magnet.position + R @ b) for b in mids]
+        directions = [radial_sign(magnet) * (R @ b) for b in radial]
     arrows = []
     for start, direction in zip(starts, directions):
         reach = float(np.max((points - start) @ direction))

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.scene.shapes.frames import frame_along
 from trapscape.viewers.layers import style
 from trapscape.viewers.layers.traps_data import describe_force, describe_position
 
@@ -24,30 +25,46 @@ def marker_radius(ctx) -> float:
     return float(np.clip(probe, 0.008 * ctx.size, 0.018 * ctx.size))
 
 
-def marker_mesh(kind: str, centre, radius, view_direction):
+def _ball(centre, radius, view_direction):
     import pyvista as pv
 
-    shape = style.MARKER_SHAPE.get(kind, "cube")
-    if shape == "sphere":
-        return pv.Sphere(radius=radius, center=centre, theta_resolution=32, phi_resolution=24)
-    if shape == "diamond":
-        diamond = pv.Octahedron(radius=radius * 1.25, center=centre)
-        diamond.clear_data()
-        return diamond
-    if shape == "ring":
-        torus = pv.ParametricTorus(ringradius=radius, crosssectionradius=radius * 0.3)
-        return _face(torus, view_direction, centre)
+    return pv.Sphere(radius=radius, center=centre, theta_resolution=32, phi_resolution=24)
+
+
+def _diamond(centre, radius, view_direction):
+    import pyvista as pv
+
+    diamond = pv.Octahedron(radius=radius * 1.25, center=centre)
+    diamond.clear_data()
+    return diamond
+
+
+def _torus(centre, radius, view_direction):
+    import pyvista as pv
+
+    torus = pv.ParametricTorus(ringradius=radius, crosssectionradius=radius * 0.3)
+    return _face(torus, view_direction, centre)
+
+
+def _cube(centre, radius, view_direction):
+    import pyvista as pv
+
     return pv.Cube(center=centre, x_length=1.5 * radius, y_length=1.5 * radius,
                    z_length=1.5 * radius)
 
 
+GLYPH_MESHES = {"sphere": _ball, "diamond": _diamond, "ring": _torus, "cube": _cube}
+
+
+def marker_mesh(kind: str, centre, radius, view_direction):
+    """The glyph of an equilibrium class (style.MARKER_SHAPE), centred and sized."""
+    glyph = GLYPH_MESHES.get(style.MARKER_SHAPE.get(kind, "cube"), _cube)
+    return glyph(centre, radius, view_direction)
+
+
 def _face(mesh, direction, centre):
     """Turn a mesh built about +z so that its axis points along `direction`, then place it."""
-    direction = np.asarray(direction, float) / np.linalg.norm(direction)
-    helper = np.eye(3)[np.argmin(np.abs(direction))]
-    u = np.cross(direction, helper)
-    u /= np.linalg.norm(u)
-    frame = np.column_stack([u, np.cross(direction, u), direction])
+    frame = frame_along(direction)
     mesh.points = np.asarray(mesh.points) @ frame.T + np.asarray(centre)
     return mesh
 

@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.scene.shapes.frames import perpendicular_pair
 from trapscape.viewers.layers import style
 
 
@@ -14,10 +15,7 @@ def plate_slab(ctx, plate):
     normal = np.asarray(plate.normal, float)
     point = ctx.to_units(plate.point)
     thickness = float(ctx.to_units(plate.thickness)) or 0.02 * ctx.size
-    helper = np.eye(3)[np.argmin(np.abs(normal))]
-    u = np.cross(normal, helper)
-    u /= np.linalg.norm(u)
-    v = np.cross(normal, u)
+    u, v = perpendicular_pair(normal)
     corners = _box_corners(ctx.box_bounds)
     span_u = (corners - point) @ u
     span_v = (corners - point) @ v

@@ -102,7 +102,6 @@ def test_a_triangulated_box_feels_the_force_of_the_box():
 
 
 def test_a_full_arc_is_a_ring():
-    import trapscape.physics.field.arc  # noqa: F401  the arc's own field (its mesh) comes from there
     ring = magnet("ring", (0.012, 0.006, 0.004), (0, 0, 0), north=(1, 0, 1))
     arc = magnet("arc", (0.012, 0.006, 0.004, 2 * math.pi), (0, 0, 0), north=(1, 0, 1))
     other = magnet("box", (0.006, 0.006, 0.006), (0.002, 0.0, 0.008))

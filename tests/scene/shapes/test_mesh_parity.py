@@ -2,8 +2,7 @@
 import numpy as np
 import trimesh
 
-from trapscape.physics.field.polyhedron import winding_number
-from trapscape.physics.field.voxels import mesh_inside
+from trapscape.scene.shapes.meshops import mesh_inside, winding_number
 
 
 def test_parity_agrees_with_the_winding_number():
