@@ -1,0 +1,143 @@
+"""One analysis of one scene: the scene, its field model, the trap report, pull curves and field
+values, each computed on first use and kept, so a command, a view and a report share them."""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import cached_property
+
+import numpy as np
+
+from trapscape.scene.units import MU0
+
+
+@dataclass(frozen=True)
+class FieldValues:
+    """The field at points (SI): B (N, 3) in T, H (N, 3) in A/m (the magnets' applied field;
+    inside a magnet B = mu0 (H + M)), in_model (N,) False behind a steel plate's face."""
+
+    B: np.ndarray
+    H: np.ndarray
+    in_model: np.ndarray
+
+
+def load_analysis(path, overrides=()) -> "Analysis":
+    """Load a scene file and start its analysis.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The scene file (TOML).
+    overrides : iterable of str or dict, optional
+        ``--set`` overrides of [params]: ``["gap=4", ...]`` or ``{"gap": "4"}``.
+
+    Returns
+    -------
+    Analysis
+        Nothing is computed yet.
+
+    Raises
+    ------
+    SceneError
+        The file cannot be read or is not a valid scene, or an override is malformed.
+    """
+    from trapscape.scene.loader import load_scene, parse_overrides
+
+    if not isinstance(overrides, dict):
+        overrides = parse_overrides(list(overrides))
+    return Analysis(load_scene(path, overrides=overrides))
+
+
+class Analysis:
+    """The results of one scene, computed lazily and once.
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene
+        A loaded scene (SI).
+    model : trapscape.physics.field.model.FieldModel, optional
+        Its field model, if already built.
+    """
+
+    def __init__(self, scene, model=None):
+        self.scene = scene
+        if model is not None:
+            self.__dict__["model"] = model
+        self._traps = None
+        self._holds = {}
+
+    @cached_property
+    def model(self):
+        """The scene's FieldModel (built on first use)."""
+        from trapscape.physics.field.model import FieldModel
+
+        return FieldModel.from_scene(self.scene)
+
+    def traps(self, progress=None):
+        """The trap report of the scene's probe, found on the first call.
+
+        Parameters
+        ----------
+        progress : callable, optional
+            ``progress(done, total, stage)`` during the scan of the first call.
+
+        Returns
+        -------
+        trapscape.physics.traps.search.TrapReport
+        """
+        if self._traps is None:
+            from trapscape.physics.traps.search import find_traps
+
+            self._traps = find_traps(self.model, self.scene, progress=progress)
+        return self._traps
+
+    def hold(self, gaps_m, part=None, plate=None, friction=None, progress=None):
+        """The pull curve on a steel plate (see physics.analysis.holding.hold_analysis); the same
+        request twice is computed once."""
+        from trapscape.physics.analysis.holding import hold_analysis
+
+        gaps = tuple(float(g) for g in np.asarray(gaps_m, float).ravel())
+        key = (gaps, part, plate, friction)
+        if key not in self._holds:
+            self._holds[key] = hold_analysis(self.scene, gaps, part=part, plate=plate,
+                                             friction=friction, progress=progress)
+        return self._holds[key]
+
+    def field_at(self, points_m, progress=None) -> FieldValues:
+        """B, H and the in-model mask at points.
+
+        Parameters
+        ----------
+        points_m : array_like, shape (N, 3)
+            World points in m.
+        progress : callable, optional
+            ``progress(done, total)`` while the field is summed.
+
+        Returns
+        -------
+        FieldValues
+        """
+        points = np.asarray(points_m, dtype=np.float64).reshape(-1, 3)
+        H = self.model.applied_H(points, progress=progress)
+        B = MU0 * (H + self.model.magnetization(points))
+        return FieldValues(B=B, H=H, in_model=self.model.in_model(points))
+
+    # -- the JSON results (stamped; see physics.analysis.results) ---------------------------
+
+    def check_result(self) -> dict:
+        """The stamped `check` JSON payload."""
+        from trapscape.physics.analysis.results import check_json, stamp
+
+        return stamp(self.scene, check_json(self.scene))
+
+    def traps_result(self, progress=None) -> dict:
+        """The stamped `traps` JSON payload (finds the traps if not done yet)."""
+        from trapscape.physics.analysis.results import stamp, traps_json
+
+        return stamp(self.scene, traps_json(self.traps(progress), self.scene))
+
+    def hold_result(self, gaps_m, part=None, plate=None, friction=None, progress=None) -> dict:
+        """The stamped `hold` JSON payload (computes the pull curve if not done yet)."""
+        from trapscape.physics.analysis.results import hold_json, stamp
+
+        result = self.hold(gaps_m, part=part, plate=plate, friction=friction, progress=progress)
+        return stamp(self.scene, hold_json(self.scene, result))
