@@ -72,12 +72,12 @@ def grid_spacing(ctx, spacing=None, resolution=None) -> tuple[float, str | None]
 
 def field_grid(ctx, spacing: float):
     """ImageData over the search box (scene unit) with the field and probe arrays."""
-    from trapscape.viewers.layers.probe_data import energy_and_force
+    from trapscape.physics.analysis.views import probe_energy_and_force
 
     lower, upper = ctx.box_bounds
     grid = ctx.sample_grid(lower, upper, spacing)
     del grid.point_data["B_abs_mT"]
-    energy, _, ok = energy_and_force(ctx, np.asarray(grid.points))
+    energy, _, ok = probe_energy_and_force(ctx.analysis, np.asarray(grid.points, float) * ctx.scale)
     grid.point_data["probe_energy_J"] = energy
     grid.point_data["probe_fits"] = ok.astype(np.uint8)
     _stamp(ctx, grid)

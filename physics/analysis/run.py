@@ -72,6 +72,13 @@ class Analysis:
 
         return FieldModel.from_scene(self.scene)
 
+    @cached_property
+    def point_probe(self):
+        """The scene's probe as a point model on the field model (physics.probe.laws)."""
+        from trapscape.physics.probe.laws import PointProbe, ProbeLaw
+
+        return PointProbe(self.model, ProbeLaw.from_scene(self.scene))
+
     def traps(self, progress=None):
         """The trap report of the scene's probe, found on the first call.
 

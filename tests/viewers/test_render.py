@@ -59,7 +59,7 @@ def not_blank(image) -> float:
 @pytest.fixture(scope="module")
 def gauge():
     scene = load_scene(str(SAMPLES / "level_gauge.toml"))
-    return ViewContext(scene, grid_resolution=28, section_resolution=90)
+    return ViewContext.of(scene, grid_resolution=28, section_resolution=90)
 
 
 @pytest.fixture(scope="module", params=["level_gauge", "bead_chip"])
@@ -67,7 +67,7 @@ def gauge_picture(request, gauge):
     if request.param == "level_gauge":
         ctx = gauge
     else:
-        ctx = ViewContext(load_scene(str(SAMPLES / f"{request.param}.toml")), grid_resolution=24,
+        ctx = ViewContext.of(load_scene(str(SAMPLES / f"{request.param}.toml")), grid_resolution=24,
                           section_resolution=90)
     options = RenderOptions(layers=default_layers(ctx.scene), size=SMALL)
     plotter = build_plotter(ctx, options)
@@ -112,7 +112,7 @@ def test_picture_is_not_blank_and_has_a_legend(gauge_picture):
 @pytest.mark.parametrize("sample", sorted(p.stem for p in SAMPLES.glob("*.toml")))
 def test_every_sample_renders_off_screen(sample):
     scene = load_scene(str(SAMPLES / f"{sample}.toml"))
-    ctx = ViewContext(scene, grid_resolution=20, section_resolution=48)
+    ctx = ViewContext.of(scene, grid_resolution=20, section_resolution=48)
     centre = ctx.box_bounds.mean(axis=0)
     options = RenderOptions(layers=("magnets", "plates", "section", "guide"), size=(320, 240),
                             section_axis=1, section_level=float(centre[1]))
@@ -159,7 +159,7 @@ def test_polarity_map_marks_north_faces(tmp_path):
     from trapscape.viewers.polarity import draw_polarity_map, part_mark
 
     scene = load_scene(str(SAMPLES / "graphite_stage.toml"))
-    ctx = ViewContext(scene)
+    ctx = ViewContext.of(scene)
     path = draw_polarity_map(ctx, str(tmp_path / "polarity.png"), size=(500, 400))
     image = np.asarray(Image.open(path).convert("RGB"))
     ups = [part_mark(m)[1] for m in scene.magnets]
