@@ -128,23 +128,23 @@ class Analysis:
         B = MU0 * (H + self.model.magnetization(points))
         return FieldValues(B=B, H=H, in_model=self.model.in_model(points))
 
-    # -- the JSON results (stamped; see physics.analysis.results) ---------------------------
+    # -- the JSON results (stamped and JSON-ready; see physics.analysis.results) -------------
 
     def check_result(self) -> dict:
-        """The stamped `check` JSON payload."""
-        from trapscape.physics.analysis.results import check_json, stamp
+        """The stamped `check` JSON payload, JSON-ready."""
+        from trapscape.physics.analysis.results import check_json, json_ready, stamp
 
-        return stamp(self.scene, check_json(self.scene))
+        return json_ready(stamp(self.scene, check_json(self.scene)))
 
     def traps_result(self, progress=None) -> dict:
-        """The stamped `traps` JSON payload (finds the traps if not done yet)."""
-        from trapscape.physics.analysis.results import stamp, traps_json
+        """The stamped `traps` JSON payload, JSON-ready (finds the traps if not done yet)."""
+        from trapscape.physics.analysis.results import json_ready, stamp, traps_json
 
-        return stamp(self.scene, traps_json(self.traps(progress), self.scene))
+        return json_ready(stamp(self.scene, traps_json(self.traps(progress), self.scene)))
 
     def hold_result(self, gaps_m, part=None, plate=None, friction=None, progress=None) -> dict:
-        """The stamped `hold` JSON payload (computes the pull curve if not done yet)."""
-        from trapscape.physics.analysis.results import hold_json, stamp
+        """The stamped `hold` JSON payload, JSON-ready (computes the pull curve if not done yet)."""
+        from trapscape.physics.analysis.results import hold_json, json_ready, stamp
 
         result = self.hold(gaps_m, part=part, plate=plate, friction=friction, progress=progress)
-        return stamp(self.scene, hold_json(self.scene, result))
+        return json_ready(stamp(self.scene, hold_json(self.scene, result)))
