@@ -160,21 +160,21 @@ def export_stl(ctx, path: str, layers) -> list:
 
 def export_html(ctx, path: str, options) -> list:
     """The scene view as one HTML file (vtk.js inside, no server, nothing fetched)."""
-    from trapscape.viewers.render import build_plotter
+    from trapscape.viewers.render import build_picture
 
     try:
         import trame_pyvista  # noqa: F401  (pyvista's HTML export goes through it)
     except ImportError:
         raise SceneError("export: an .html view needs the optional packages of the html extra; "
                          "install them with pip install 'trapscape[html]'.") from None
-    plotter = build_plotter(ctx, options, off_screen=True, overlay=False, annotations="html")
+    picture = build_picture(ctx, options, off_screen=True, overlay=False, annotations="html")
+    plotter, legend = picture.plotter, picture.legend
     try:
         exporter = getattr(plotter, "trame", None)
         if exporter is not None and hasattr(exporter, "export_html"):
             exporter.export_html(path)
         else:
             plotter.export_html(path)
-        legend = plotter._trapscape_legend
     finally:
         plotter.close()
     _add_page_text(ctx, path, options, legend)

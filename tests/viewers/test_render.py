@@ -16,7 +16,7 @@ from trapscape.scene.loader import load_scene  # noqa: E402
 from trapscape.viewers.layers import default_layers, parse_layers  # noqa: E402
 from trapscape.viewers.layers import style  # noqa: E402
 from trapscape.viewers.layers.context import ViewContext  # noqa: E402
-from trapscape.viewers.render import RenderOptions, build_plotter, world_to_pixels  # noqa: E402
+from trapscape.viewers.render import RenderOptions, build_picture, world_to_pixels  # noqa: E402
 
 from repo_paths import SAMPLES  # noqa: E402
 SMALL = (400, 300)
@@ -27,7 +27,8 @@ def rgb(hex_colour):
 
 
 def screenshot(ctx, options):
-    plotter = build_plotter(ctx, options)
+    picture = build_picture(ctx, options)
+    plotter = picture.plotter
     try:
         image = plotter.screenshot(return_img=True)
         return plotter, image
@@ -70,12 +71,13 @@ def gauge_picture(request, gauge):
         ctx = ViewContext.of(load_scene(str(SAMPLES / f"{request.param}.toml")), grid_resolution=24,
                           section_resolution=90)
     options = RenderOptions(layers=default_layers(ctx.scene), size=SMALL)
-    plotter = build_plotter(ctx, options)
+    picture = build_picture(ctx, options)
+    plotter = picture.plotter
     try:
         image = plotter.screenshot(return_img=True)
         stable = [e for e in ctx.equilibria if e.kind == "stable"]
         projected = world_to_pixels(plotter, [e.position for e in stable])
-        layout = plotter._trapscape_layout
+        layout = picture.layout
     finally:
         plotter.close()
     return image, stable, projected, layout

@@ -40,7 +40,10 @@ class ViewContext:
     grid_resolution: int = 64  # points on the longest side of the 3D field grid
     section_resolution: int = 220  # points on the longest side of the section map
     progress: object = None  # callable(done, total) or None
-    section: Section | None = None
+    section: Section | None = None  # set by viewers.render.prepare with the view's vectors
+    # pyvista geometry the layers made from the analysis's numbers, by name, so a render and an
+    # export of one context make it once
+    made: dict = field(default_factory=dict)
     _notes: list = field(default_factory=list)
 
     @classmethod

@@ -14,9 +14,8 @@ RESOLUTION = 48  # grid points on the longest side
 
 def sheet(ctx):
     """The hover sheet (scene unit), or None where the force along the lines never balances."""
-    cached = getattr(ctx, "_hover_sheet", "unset")
-    if cached != "unset":
-        return cached
+    if "hover sheet" in ctx.made:
+        return ctx.made["hover sheet"]
     import pyvista as pv
 
     lower, upper = ctx.box_bounds
@@ -39,7 +38,7 @@ def sheet(ctx):
         kept = surface.threshold(0.5, scalars="keep", preference="point", all_scalars=True)
         if kept.n_points:
             result = kept.extract_surface(algorithm=None)
-    ctx._hover_sheet = result
+    ctx.made["hover sheet"] = result
     return result
 
 
