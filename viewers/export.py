@@ -38,7 +38,7 @@ def format_of(path: str) -> str:
 
 
 def _stamp(ctx, dataset) -> None:
-    from trapscape.viewers.commands.common import tool_version
+    from trapscape.physics.analysis.results import tool_version
 
     dataset.field_data["length_unit"] = np.array([ctx.unit])
     dataset.field_data["metres_per_length_unit"] = np.array([ctx.scale])

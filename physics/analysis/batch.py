@@ -98,7 +98,17 @@ def run_job(job: Job) -> dict:
 
 def run_job_in_worker(job: Job) -> dict:
     """`run_job` with the engine in in-process mode (one thread, no child processes) for its
-    duration: what the executor's workers run."""
+    duration: what the executor's workers run.
+
+    Parameters
+    ----------
+    job : Job
+
+    Returns
+    -------
+    dict
+        As `run_job`.
+    """
     from trapscape.physics.field import engine
 
     with engine.in_process_mode():

@@ -30,7 +30,13 @@ HOLD_CAUTIONS = (
 
 
 def tool_version() -> str:
-    """The installed trapscape version, or "unknown" when it is run from a bare checkout."""
+    """The tool's version for the JSON stamp.
+
+    Returns
+    -------
+    str
+        The installed trapscape version, or "unknown" when run from a bare checkout.
+    """
     from importlib.metadata import PackageNotFoundError, version
 
     try:

@@ -98,8 +98,28 @@ class Analysis:
         return self._traps
 
     def hold(self, gaps_m, part=None, plate=None, friction=None, progress=None):
-        """The pull curve on a steel plate (see physics.analysis.holding.hold_analysis); the same
-        request twice is computed once."""
+        """The pull curve on a steel plate; the same request twice is computed once.
+
+        Parameters
+        ----------
+        gaps_m : array_like
+            Air gaps in m.
+        part, plate : str, optional
+            The moving magnet (default: all) and the plate (default: the nearest).
+        friction : float, optional
+            Friction coefficient, for the slip force.
+        progress : callable, optional
+            ``progress(done, total)`` after each gap of the first computation.
+
+        Returns
+        -------
+        trapscape.physics.analysis.holding.HoldResult
+
+        Raises
+        ------
+        SceneError
+            See physics.analysis.holding.hold_analysis.
+        """
         from trapscape.physics.analysis.holding import hold_analysis
 
         gaps = tuple(float(g) for g in np.asarray(gaps_m, float).ravel())
@@ -131,19 +151,47 @@ class Analysis:
     # -- the JSON results (stamped and JSON-ready; see physics.analysis.results) -------------
 
     def check_result(self) -> dict:
-        """The stamped `check` JSON payload, JSON-ready."""
+        """The `check` result.
+
+        Returns
+        -------
+        dict
+            physics.analysis.results.check_json, stamped and JSON-ready.
+        """
         from trapscape.physics.analysis.results import check_json, json_ready, stamp
 
         return json_ready(stamp(self.scene, check_json(self.scene)))
 
     def traps_result(self, progress=None) -> dict:
-        """The stamped `traps` JSON payload, JSON-ready (finds the traps if not done yet)."""
+        """The `traps` result (finds the traps if not done yet).
+
+        Parameters
+        ----------
+        progress : callable, optional
+            As for `traps`.
+
+        Returns
+        -------
+        dict
+            physics.analysis.results.traps_json, stamped and JSON-ready.
+        """
         from trapscape.physics.analysis.results import json_ready, stamp, traps_json
 
         return json_ready(stamp(self.scene, traps_json(self.traps(progress), self.scene)))
 
     def hold_result(self, gaps_m, part=None, plate=None, friction=None, progress=None) -> dict:
-        """The stamped `hold` JSON payload, JSON-ready (computes the pull curve if not done yet)."""
+        """The `hold` result (computes the pull curve if not done yet).
+
+        Parameters
+        ----------
+        gaps_m, part, plate, friction, progress
+            As for `hold`.
+
+        Returns
+        -------
+        dict
+            physics.analysis.results.hold_json, stamped and JSON-ready.
+        """
         from trapscape.physics.analysis.results import hold_json, json_ready, stamp
 
         result = self.hold(gaps_m, part=part, plate=plate, friction=friction, progress=progress)

@@ -10,8 +10,8 @@ import math
 
 import numpy as np
 
-from trapscape.physics.field.dipole_direct import (_INV_4PI, COINCIDENT_M, as_points,  # noqa: F401
-                                                   direct_dipole_H, symmetric_from_six)
+from trapscape.physics.field.dipole_direct import (_INV_4PI, COINCIDENT_M, as_points,
+                                                   direct_dipole_H)
 from trapscape.physics.field.fmm import fmm_dipole_H, split_count
 
 # Cost model for method="auto", measured on this machine (2 cores, other jobs running, so from

@@ -8,7 +8,7 @@ import sys
 import threading
 from pathlib import Path
 
-from trapscape.physics.analysis.results import json_ready, stamp, tool_version  # noqa: F401
+from trapscape.physics.analysis.results import json_ready
 from trapscape.scene.errors import SceneError
 
 
@@ -19,10 +19,6 @@ def add_scene_arguments(parser) -> None:
         help="override a [params] value, e.g. --set gap=4 (repeatable)",
     )
     parser.add_argument("--quiet", action="store_true", help="no progress output")
-
-
-def load_scene_from_args(args):
-    return analysis_from_args(args).scene
 
 
 def analysis_from_args(args):
