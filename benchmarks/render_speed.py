@@ -32,7 +32,7 @@ def time_sample(name: str, spec: str | None, size=(1600, 1200)) -> tuple[float, 
     layers = parse_layers(spec, scene)
     options = RenderOptions(layers=layers, size=size)
     start = time.perf_counter()
-    ctx = ViewContext(scene)
+    ctx = ViewContext.of(scene)
     ctx.grid
     ctx.equilibria  # the trap search
     prepare(ctx, options)

@@ -39,7 +39,7 @@ def main() -> int:
     contexts = {}
     for sample, name, what in PICTURES:
         if sample not in contexts:
-            contexts[sample] = ViewContext(load_scene(str(ROOT / "samples" / f"{sample}.toml")))
+            contexts[sample] = ViewContext.of(load_scene(str(ROOT / "samples" / f"{sample}.toml")))
         ctx = contexts[sample]
         path = out / name
         if what == "polarity":

@@ -38,7 +38,7 @@ def format_of(path: str) -> str:
 
 
 def _stamp(ctx, dataset) -> None:
-    from trapscape.viewers.commands.common import tool_version
+    from trapscape.physics.analysis.results import tool_version
 
     dataset.field_data["length_unit"] = np.array([ctx.unit])
     dataset.field_data["metres_per_length_unit"] = np.array([ctx.scale])
@@ -72,12 +72,12 @@ def grid_spacing(ctx, spacing=None, resolution=None) -> tuple[float, str | None]
 
 def field_grid(ctx, spacing: float):
     """ImageData over the search box (scene unit) with the field and probe arrays."""
-    from trapscape.viewers.layers.probe_data import energy_and_force
+    from trapscape.physics.analysis.views import probe_energy_and_force
 
     lower, upper = ctx.box_bounds
     grid = ctx.sample_grid(lower, upper, spacing)
     del grid.point_data["B_abs_mT"]
-    energy, _, ok = energy_and_force(ctx, np.asarray(grid.points))
+    energy, _, ok = probe_energy_and_force(ctx.analysis, np.asarray(grid.points, float) * ctx.scale)
     grid.point_data["probe_energy_J"] = energy
     grid.point_data["probe_fits"] = ok.astype(np.uint8)
     _stamp(ctx, grid)
@@ -160,21 +160,21 @@ def export_stl(ctx, path: str, layers) -> list:
 
 def export_html(ctx, path: str, options) -> list:
     """The scene view as one HTML file (vtk.js inside, no server, nothing fetched)."""
-    from trapscape.viewers.render import build_plotter
+    from trapscape.viewers.render import build_picture
 
     try:
         import trame_pyvista  # noqa: F401  (pyvista's HTML export goes through it)
     except ImportError:
         raise SceneError("export: an .html view needs the optional packages of the html extra; "
                          "install them with pip install 'trapscape[html]'.") from None
-    plotter = build_plotter(ctx, options, off_screen=True, overlay=False, annotations="html")
+    picture = build_picture(ctx, options, off_screen=True, overlay=False, annotations="html")
+    plotter, legend = picture.plotter, picture.legend
     try:
         exporter = getattr(plotter, "trame", None)
         if exporter is not None and hasattr(exporter, "export_html"):
             exporter.export_html(path)
         else:
             plotter.export_html(path)
-        legend = plotter._trapscape_legend
     finally:
         plotter.close()
     _add_page_text(ctx, path, options, legend)

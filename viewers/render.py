@@ -91,8 +91,21 @@ def colour_scale(ctx, options):
                        line_width=max(1.5, options.size[1] / 600))
 
 
-def build_plotter(ctx, options: RenderOptions, off_screen: bool = True, overlay: bool = True,
-                  annotations: str = "picture"):
+@dataclass
+class Picture:
+    """A built view: the plotter with every layer drawn, and what was decided on the way (the
+    legend, the layout of the window, the world length of one pixel, the marker overlay, which
+    must live as long as the plotter)."""
+
+    plotter: object
+    legend: object
+    layout: object = None
+    world_per_pixel: float | None = None
+    overlay: object = None
+
+
+def build_picture(ctx, options: RenderOptions, off_screen: bool = True, overlay: bool = True,
+                  annotations: str = "picture") -> Picture:
     """A pyvista Plotter holding every chosen layer, the camera set, annotations added
     ("picture": legend, colour bar, scale bar, title; "html": what a web view can carry)."""
     if off_screen:
@@ -122,23 +135,22 @@ def build_plotter(ctx, options: RenderOptions, off_screen: bool = True, overlay:
             module.draw(plotter, ctx, legend, overlay=marker_layer)
         else:
             module.draw(plotter, ctx, legend)
-    plotter._trapscape_legend = legend
-    plotter._trapscape_layout = None
+    picture = Picture(plotter, legend, overlay=marker_layer)
     layout = plan_layout(plotter, ctx, options, legend)
     if annotations == "html":  # a page of any size: centre the content, the text is HTML
         layout.legend_width, layout.title_band = 0.0, 0.0
-    _frame(plotter, ctx, options, layout)
-    plotter._trapscape_layout = layout
+    picture.world_per_pixel = _frame(plotter, ctx, options, layout)
+    picture.layout = layout
     if "markers" in options.layers:
         from trapscape.viewers.layers.markers import draw_labels
 
-        draw_labels(plotter, ctx, plotter._trapscape_world_per_pixel, layout.content[1])
+        draw_labels(plotter, ctx, picture.world_per_pixel, layout.content[1])
     if annotations == "html":
         _annotate_html(plotter, ctx, options, legend, scale)
     else:
-        _annotate(plotter, ctx, options, legend, scale, layout)
+        _annotate(plotter, ctx, options, legend, scale, layout, picture.world_per_pixel)
     # no depth peeling: with Mesa's EGL it drops every translucent actor (seen with VTK 9.7)
-    return plotter
+    return picture
 
 
 def _overlay(plotter):
@@ -152,7 +164,6 @@ def _overlay(plotter):
     plotter.ren_win.SetNumberOfLayers(2)
     plotter.ren_win.AddRenderer(overlay)
     overlay.SetActiveCamera(plotter.renderer.GetActiveCamera())
-    plotter._trapscape_overlay = overlay  # kept alive with the plotter
     return overlay
 
 
@@ -232,7 +243,8 @@ def plan_layout(plotter, ctx, options, legend) -> Layout:
     return layout
 
 
-def _frame(plotter, ctx, options, layout: Layout) -> None:
+def _frame(plotter, ctx, options, layout: Layout) -> float:
+    """Set the camera so the content fills the layout's box; return world units per pixel."""
     direction, up, right = view_vectors(options.camera)
     lower, upper = content_bounds(plotter, ctx, options)
     if options.camera == "fit":
@@ -260,10 +272,10 @@ def _frame(plotter, ctx, options, layout: Layout) -> None:
     camera.up = tuple(up)
     camera.parallel_scale = scale
     plotter.renderer.ResetCameraClippingRange()
-    plotter._trapscape_world_per_pixel = pixel
+    return pixel
 
 
-def _annotate(plotter, ctx, options, legend, scale, layout: Layout) -> None:
+def _annotate(plotter, ctx, options, legend, scale, layout: Layout, world_per_pixel) -> None:
     from trapscape.viewers.layers.annotations import draw_scale_bar, title_lines
     from trapscape.viewers.layers.style import TEXT
 
@@ -287,7 +299,7 @@ def _annotate(plotter, ctx, options, legend, scale, layout: Layout) -> None:
                                              int(top - 2.0 * font * (1.45 + 1.0) * 1.15)),
                          font_size=small, color=TEXT)
     if options.scale_bar:
-        draw_scale_bar(plotter, plotter._trapscape_world_per_pixel, ctx.unit,
+        draw_scale_bar(plotter, world_per_pixel, ctx.unit,
                        origin_px=(0.03 * width, 0.04 * height + font), font_size=font,
                        target_px=0.16 * width)
     if not options.legend:
@@ -340,7 +352,8 @@ def _draw_table(plotter, rows, left, top, font, floor) -> None:
 
 
 def render_png(ctx, options: RenderOptions, path: str) -> str:
-    plotter = build_plotter(ctx, options, off_screen=True)
+    picture = build_picture(ctx, options, off_screen=True)
+    plotter = picture.plotter
     try:
         plotter.screenshot(path, transparent_background=options.transparent,
                            window_size=list(options.size))
@@ -356,5 +369,5 @@ def show_window(ctx, options: RenderOptions) -> None:
 
         raise SceneError("--show needs a display and none is set (DISPLAY is empty); "
                          "write a picture with -o OUT.png instead.")
-    plotter = build_plotter(ctx, replace(options), off_screen=False)
-    plotter.show()
+    picture = build_picture(ctx, replace(options), off_screen=False)
+    picture.plotter.show()

@@ -6,7 +6,9 @@ included), so H = -grad u and dH_i/dx_j = -d2u/dx_i dx_j; its Hessian rows come 
 xx, yy, zz, xy, xz, yz (fmm3dpy 2.1.0, checked by fmm_self_test against the direct sum, since
 these conventions have changed between versions).
 The wheel runs on one core: the targets are split over `processes` processes, each evaluating all
-sources at its share of the targets (the calling process takes the first share).
+sources at its share of the targets (the calling process takes the first share). In the engine's
+in-process mode (physics.field.engine) the same shares run one after another in the calling
+process, so the numbers are the same in both modes.
 
 Accuracy (measured 2026-12-01, 12 cubes of 15^3 dipoles, errors relative to the local field scale
 of DESIGN.md): eps = 1e-4, 1e-5 and 1e-6 all give up to 8e-4 at weak-field targets 20-35 mm from
@@ -22,7 +24,8 @@ import sys
 
 import numpy as np
 
-from trapscape.physics.field.dipole_sum import COINCIDENT_M, dipole_H, symmetric_from_six
+from trapscape.physics.field import engine
+from trapscape.physics.field.dipole_direct import COINCIDENT_M, direct_dipole_H, symmetric_from_six
 
 # Each process gets at least this many targets: forking a worker costs 4-11 ms here (measured
 # 2026-12-01), and an FMM target costs 2.6-65 us (physics.field.dipole_sum.FMM_COSTS), so a share of
@@ -54,6 +57,8 @@ def fmm_dipole_H(targets, positions, moments, gradient=False, eps=1e-6, processe
     shares = _split(len(targets), processes)
     if len(shares) == 1:
         H, G6 = _fmm_share(targets, positions, moments, gradient, eps)
+    elif not engine.may_start_processes():
+        H, G6 = _fmm_shares_here(targets, positions, moments, gradient, eps, shares)
     else:
         H, G6 = _fmm_in_processes(targets, positions, moments, gradient, eps, shares)
     G = symmetric_from_six(G6) if gradient else None
@@ -74,7 +79,7 @@ def _redo_coincident_targets_directly(targets, positions, moments, H, G) -> None
     suspect = ~np.isfinite(H).all(axis=1) | (np.linalg.norm(H, axis=1) >= bound)
     if not suspect.any():
         return
-    redo = dipole_H(targets[suspect], positions, moments, gradient=G is not None, method="direct")
+    redo = direct_dipole_H(targets[suspect], positions, moments, gradient=G is not None)
     if G is None:
         H[suspect] = redo
     else:
@@ -88,7 +93,7 @@ def fmm_self_test() -> None:
     moments = rng.normal(size=(300, 3))
     targets = rng.uniform(-3.0, 3.0, (200, 3))
     H_fmm, G6 = _fmm_share(targets, positions, moments, True, 1e-12)
-    H_ref, G_ref = dipole_H(targets, positions, moments, gradient=True, method="direct")
+    H_ref, G_ref = direct_dipole_H(targets, positions, moments, gradient=True)
     error_H = np.abs(H_fmm - H_ref).max() / np.abs(H_ref).max()
     error_G = np.abs(symmetric_from_six(G6) - G_ref).max() / np.abs(G_ref).max()
     if not (error_H < SELF_TEST_TOLERANCE and error_G < SELF_TEST_TOLERANCE):
@@ -112,6 +117,14 @@ def split_count(n_targets: int, processes: int) -> int:
 def _split(n_targets: int, processes: int) -> list[tuple[int, int]]:
     edges = np.linspace(0, n_targets, split_count(n_targets, processes) + 1).astype(int)
     return list(zip(edges[:-1], edges[1:]))
+
+
+def _fmm_shares_here(targets, positions, moments, gradient, eps, shares):
+    """Every share in this process, one after another (in-process mode)."""
+    results = [_fmm_share(targets[a:b], positions, moments, gradient, eps) for a, b in shares]
+    H = np.concatenate([r[0] for r in results])
+    G6 = np.concatenate([r[1] for r in results]) if gradient else None
+    return H, G6
 
 
 def _fmm_in_processes(targets, positions, moments, gradient, eps, shares):

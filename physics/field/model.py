@@ -8,6 +8,7 @@ from __future__ import annotations
 import numpy as np
 
 from trapscape.scene.units import MU0
+from trapscape.physics.field.dipole_sum import dipole_H
 from trapscape.physics.field.parts import part_contains, part_magnetization, part_sdf, part_sources
 from trapscape.physics.field.sources import Source, mirrored
 
@@ -55,8 +56,6 @@ class FieldModel:
         G = np.zeros((len(points), 3, 3)) if gradient else None
         plain_sets = [s for s in chosen if s.kind == "dipoles" and s.near is None]
         if plain_sets:
-            from trapscape.physics.field.dipole_sum import dipole_H
-
             positions = np.concatenate([s.dipole_positions for s in plain_sets])
             moments = np.concatenate([s.dipole_moments for s in plain_sets])
             _accumulate(H, G, dipole_H(points, positions, moments, gradient=gradient), gradient,
@@ -72,8 +71,6 @@ class FieldModel:
     def _add_zoned(source, points, H, G, gradient):
         """A part with an exact zone: its exact form there, its dipoles only outside it (they
         sit inside the zone, so their own field is never evaluated close to them)."""
-        from trapscape.physics.field.dipole_sum import dipole_H
-
         near = source.in_near_zone(points)
         if near.any():
             h, g = source.near.closed_form_H(points[near], gradient)

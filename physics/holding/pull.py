@@ -25,7 +25,6 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from trapscape.scene.errors import SceneError
 from trapscape.scene.model import frozen_array
 
 PEEL_DIRECTIONS = 180
@@ -43,15 +42,16 @@ class HoldRow:
 
 
 def choose_plate(scene, plate: str | None = None, moving=None):
-    """(index, plate): the named plate, or the one nearest the moving parts."""
+    """(index, plate): the named plate, or the one nearest the moving parts.
+
+    Raises ValueError when the scene has no steel plate or none of that name (physics.analysis
+    words it for the user)."""
     if not scene.plates:
-        raise SceneError(f"{scene.path or 'the scene'} has no [[steel_plate]]; add one (point, "
-                         f"normal, thickness) to compute the pull on steel.")
+        raise ValueError("the scene has no steel plate to pull on")
     if plate is not None:
         names = [p.name for p in scene.plates]
         if plate not in names:
-            raise SceneError(f"no steel plate named '{plate}' in {scene.path or 'the scene'}; "
-                             f"choose one of {', '.join(names)}.")
+            raise ValueError(f"no steel plate named {plate!r}; the plates are {names}")
         return names.index(plate), scene.plates[names.index(plate)]
     moving = range(len(scene.magnets)) if moving is None else moving
     distances = [min(current_gap(scene, [i], p) for i in moving) for p in scene.plates]
@@ -60,15 +60,15 @@ def choose_plate(scene, plate: str | None = None, moving=None):
 
 
 def moving_parts(scene, part: str | None = None) -> list[int]:
-    """Indices of the magnets that move: all of them, or the one named."""
+    """Indices of the magnets that move: all of them, or the one named (ValueError if the scene
+    has no magnet or none of that name)."""
     if not scene.magnets:
-        raise SceneError(f"{scene.path or 'the scene'} has no [[magnet]]; add one to compute a pull.")
+        raise ValueError("the scene has no magnet to pull")
     if part is None:
         return list(range(len(scene.magnets)))
     names = [m.name for m in scene.magnets]
     if part not in names:
-        raise SceneError(f"--part '{part}': no magnet of that name in {scene.path or 'the scene'}; "
-                         f"use one of {', '.join(names)}.")
+        raise ValueError(f"no magnet named {part!r}; the magnets are {names}")
     return [names.index(part)]
 
 
@@ -144,12 +144,14 @@ def hold_at(scene, moving, plate, shadow, gap: float, friction=None, rtol: float
         plate_flux_density=B_plate, saturation_warning=bool(B_plate > plate.saturation))
 
 
-def _checked(gaps, friction):
+def checked_gaps(gaps, friction=None) -> np.ndarray:
+    """The gaps (m) as a flat array; ValueError unless they are finite and >= 0 and the friction
+    coefficient (if any) is finite and >= 0."""
     gaps = np.asarray(gaps, float).ravel()
     if not len(gaps) or not np.all(np.isfinite(gaps)) or (gaps < 0).any():
-        raise SceneError("gaps must be zero or positive numbers; e.g. --gap 0..5@11.")
+        raise ValueError("gaps must be finite numbers >= 0")
     if friction is not None and not (np.isfinite(friction) and friction >= 0):
-        raise SceneError(f"--friction {friction}: give a friction coefficient >= 0, e.g. 0.2.")
+        raise ValueError(f"the friction coefficient must be a finite number >= 0, not {friction}")
     return gaps
 
 
@@ -159,7 +161,7 @@ def pull_curve(scene, gaps, part=None, friction=None, progress=None, plate=None,
     assembly, or of one named part, on the nearest (or the named) steel plate."""
     from trapscape.physics.holding.saturation import footprint
 
-    gaps = _checked(gaps, friction)
+    gaps = checked_gaps(gaps, friction)
     moving = moving_parts(scene, part)
     _, chosen = choose_plate(scene, plate, moving)
     shadow = footprint([scene.magnets[i] for i in moving], chosen)

@@ -15,6 +15,8 @@ from typing import ClassVar
 
 import numpy as np
 
+from trapscape.physics.probe.registry import law_class
+
 
 @dataclass(frozen=True, eq=False)
 class ProbeLaw(ABC):
@@ -71,8 +73,6 @@ class ProbeLaw(ABC):
         ProbeLaw
             An instance of the kind's registered subclass.
         """
-        from trapscape.physics.probe.registry import law_class
-
         return law_class(scene.probe.kind).from_probe(scene.probe, scene.gravity)
 
     @classmethod

@@ -13,6 +13,11 @@ from trapscape.physics.traps.report import ScanGrid
 from trapscape.scene.units import MU0
 
 
+class SearchSetupError(ValueError):
+    """The scene cannot be searched as set up (its sentence names the scene and the fix): the
+    layer above shows it to the user rather than treating it as a bug."""
+
+
 @dataclass(frozen=True, eq=False)
 class GridLayout:
     """Where the scan samples, before any field is computed (arrays read-only).
@@ -66,8 +71,8 @@ def grid_layout(box, constraint, where: str = "the scene") -> GridLayout:
 
     Raises
     ------
-    ValueError
-        When the constraint's line or plane does not cross the box.
+    SearchSetupError
+        A ValueError: the constraint's line or plane does not cross the box.
     """
     c = constraint
     low, high, h = np.asarray(box.min, float), np.asarray(box.max, float), float(box.spacing)
@@ -87,7 +92,7 @@ def grid_layout(box, constraint, where: str = "the scene") -> GridLayout:
     if c.kind == "line":
         t_low, t_high = line_in_box(point, axes[0], low, high)
         if t_low > t_high:
-            raise ValueError(f"{where}: the probe's constraint line does not cross the "
+            raise SearchSetupError(f"{where}: the probe's constraint line does not cross the "
                              "search box; move [probe.constraint] point or widen [search_box].")
         first, last = int(np.ceil(t_low / h - 1e-9)), int(np.floor(t_high / h + 1e-9))
         t = h * np.arange(first, max(last, first + 1) + 1)
@@ -103,7 +108,7 @@ def grid_layout(box, constraint, where: str = "the scene") -> GridLayout:
     points = point + (h * index) @ axes
     inside = in_box(points, low, high, tolerance)
     if not inside.any():
-        raise ValueError(f"{where}: the probe's constraint plane does not cross the "
+        raise SearchSetupError(f"{where}: the probe's constraint plane does not cross the "
                          "search box; move [probe.constraint] point or widen [search_box].")
     _read_only(axes, points, inside)
     return GridLayout("plane", points[0], axes, shape, points, inside, 0.0)

@@ -61,9 +61,10 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
 
     Raises
     ------
-    ValueError
-        When the constraint's line or plane does not cross the search box (one sentence naming
-        the scene file and how to fix it; the layer above turns it into a SceneError).
+    SearchSetupError
+        A ValueError: the constraint's line or plane does not cross the search box (one
+        sentence naming the scene file and how to fix it; the layer above turns it into a
+        SceneError).
     """
     problem = TrapProblem.from_scene(field_model, scene, finite_probe)
     grid = scan(problem, progress)

@@ -3,7 +3,6 @@ from __future__ import annotations
 
 import math
 import warnings
-from pathlib import Path
 
 import numpy as np
 from hypothesis import HealthCheck, given, settings

@@ -22,13 +22,13 @@ from repo_paths import SAMPLES  # noqa: E402
 
 @pytest.fixture(scope="module")
 def chip():
-    return ViewContext(load_scene(str(SAMPLES / "bead_chip.toml")), grid_resolution=24,
+    return ViewContext.of(load_scene(str(SAMPLES / "bead_chip.toml")), grid_resolution=24,
                        section_resolution=60)
 
 
 @pytest.fixture(scope="module")
 def gauge():
-    return ViewContext(load_scene(str(SAMPLES / "level_gauge.toml")), grid_resolution=24,
+    return ViewContext.of(load_scene(str(SAMPLES / "level_gauge.toml")), grid_resolution=24,
                        section_resolution=60)
 
 
@@ -41,7 +41,7 @@ def test_vti_round_trip_keeps_values_and_unit(gauge, tmp_path):
     assert float(grid.field_data["metres_per_length_unit"][0]) == gauge.scale
     # the points are in the scene's unit: at them (in metres) the model gives the stored B
     points_m = np.asarray(grid.points) * gauge.scale
-    B = gauge.model.B(points_m)
+    B = gauge.analysis.model.B(points_m)
     np.testing.assert_allclose(grid["B_T"], B, rtol=1e-12, atol=1e-15)
     np.testing.assert_allclose(grid["B_abs_T"], np.linalg.norm(B, axis=1), rtol=1e-12)
     # u = B^2 / (2 mu0), vacuum energy density (Jackson, Classical Electrodynamics, eq. 5.148)

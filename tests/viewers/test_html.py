@@ -5,7 +5,6 @@ from __future__ import annotations
 import shutil
 import subprocess
 import tempfile
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -40,7 +39,7 @@ def test_html_view_draws_in_headless_chromium(tmp_path):
     from trapscape.viewers.render import RenderOptions
 
     scene = load_scene(str(SAMPLES / "bead_chip.toml"))
-    ctx = ViewContext(scene, grid_resolution=20, section_resolution=60)
+    ctx = ViewContext.of(scene, grid_resolution=20, section_resolution=60)
     page = tmp_path / "view.html"
     export(ctx, str(page), options=RenderOptions(layers=default_layers(scene), size=(600, 450)))
     text = page.read_text(encoding="utf-8")

@@ -2,7 +2,6 @@
 projects it, the legend is there, and the polarity map marks the north faces."""
 from __future__ import annotations
 
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -17,7 +16,7 @@ from trapscape.viewers.layers import default_layers, parse_layers  # noqa: E402
 from trapscape.viewers.layers import style  # noqa: E402
 from trapscape.viewers.layers.context import ViewContext  # noqa: E402
 from trapscape.viewers.layers.screen import world_to_pixels  # noqa: E402
-from trapscape.viewers.render import RenderOptions, build_plotter  # noqa: E402
+from trapscape.viewers.render import RenderOptions, build_picture  # noqa: E402
 
 from repo_paths import SAMPLES  # noqa: E402
 SMALL = (400, 300)
@@ -28,7 +27,8 @@ def rgb(hex_colour):
 
 
 def screenshot(ctx, options):
-    plotter = build_plotter(ctx, options)
+    picture = build_picture(ctx, options)
+    plotter = picture.plotter
     try:
         image = plotter.screenshot(return_img=True)
         return plotter, image
@@ -60,7 +60,7 @@ def not_blank(image) -> float:
 @pytest.fixture(scope="module")
 def gauge():
     scene = load_scene(str(SAMPLES / "level_gauge.toml"))
-    return ViewContext(scene, grid_resolution=28, section_resolution=90)
+    return ViewContext.of(scene, grid_resolution=28, section_resolution=90)
 
 
 @pytest.fixture(scope="module", params=["level_gauge", "bead_chip"])
@@ -68,15 +68,16 @@ def gauge_picture(request, gauge):
     if request.param == "level_gauge":
         ctx = gauge
     else:
-        ctx = ViewContext(load_scene(str(SAMPLES / f"{request.param}.toml")), grid_resolution=24,
+        ctx = ViewContext.of(load_scene(str(SAMPLES / f"{request.param}.toml")), grid_resolution=24,
                           section_resolution=90)
     options = RenderOptions(layers=default_layers(ctx.scene), size=SMALL)
-    plotter = build_plotter(ctx, options)
+    picture = build_picture(ctx, options)
+    plotter = picture.plotter
     try:
         image = plotter.screenshot(return_img=True)
         stable = [e for e in ctx.equilibria if e.kind == "stable"]
         projected = world_to_pixels(plotter, [e.position for e in stable])
-        layout = plotter._trapscape_layout
+        layout = picture.layout
     finally:
         plotter.close()
     return image, stable, projected, layout
@@ -113,7 +114,7 @@ def test_picture_is_not_blank_and_has_a_legend(gauge_picture):
 @pytest.mark.parametrize("sample", sorted(p.stem for p in SAMPLES.glob("*.toml")))
 def test_every_sample_renders_off_screen(sample):
     scene = load_scene(str(SAMPLES / f"{sample}.toml"))
-    ctx = ViewContext(scene, grid_resolution=20, section_resolution=48)
+    ctx = ViewContext.of(scene, grid_resolution=20, section_resolution=48)
     centre = ctx.box_bounds.mean(axis=0)
     options = RenderOptions(layers=("magnets", "plates", "section", "guide"), size=(320, 240),
                             section_axis=1, section_level=float(centre[1]))
@@ -160,7 +161,7 @@ def test_polarity_map_marks_north_faces(tmp_path):
     from trapscape.viewers.polarity import draw_polarity_map, part_mark
 
     scene = load_scene(str(SAMPLES / "graphite_stage.toml"))
-    ctx = ViewContext(scene)
+    ctx = ViewContext.of(scene)
     path = draw_polarity_map(ctx, str(tmp_path / "polarity.png"), size=(500, 400))
     image = np.asarray(Image.open(path).convert("RGB"))
     ups = [part_mark(m)[1] for m in scene.magnets]

@@ -15,7 +15,7 @@ from trapscape.scene.measures import volume  # noqa: E402
 from trapscape.viewers.layers import style  # noqa: E402
 from trapscape.viewers.layers.context import ViewContext  # noqa: E402
 from trapscape.viewers.layers.magnets import body_polydata, part_polydata  # noqa: E402
-from trapscape.viewers.render import RenderOptions, build_plotter  # noqa: E402
+from trapscape.viewers.render import RenderOptions, build_picture  # noqa: E402
 
 SCENE = '''units = "mm"
 [[magnet]]
@@ -36,7 +36,7 @@ resolution = 24
 
 @pytest.fixture(scope="module")
 def ctx():
-    return ViewContext(load_scene_text(SCENE), grid_resolution=16, section_resolution=40)
+    return ViewContext.of(load_scene_text(SCENE), grid_resolution=16, section_resolution=40)
 
 
 def test_drawn_surface_is_closed_and_holds_the_volume(ctx):
@@ -52,7 +52,8 @@ def test_its_top_face_is_a_pole_face(ctx):
 
 
 def test_it_renders_with_north_and_south_faces(ctx):
-    plotter = build_plotter(ctx, RenderOptions(layers=("magnets",), size=(320, 240), camera="top"))
+    plotter = build_picture(ctx, RenderOptions(layers=("magnets",), size=(320, 240),
+                                               camera="top")).plotter
     try:
         image = plotter.screenshot(return_img=True)
     finally:

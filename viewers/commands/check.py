@@ -12,8 +12,7 @@ import warnings
 import numpy as np
 
 from trapscape.scene.errors import SceneWarning
-from trapscape.scene.measures import mass, moment_world, scene_bounding_box, volume
-from trapscape.viewers.commands.common import add_scene_arguments, load_scene_from_args, stamp, write_json
+from trapscape.viewers.commands.common import add_scene_arguments, analysis_from_args, write_json
 
 AXIS_NAMES = {(1, 0, 0): "+x", (-1, 0, 0): "-x", (0, 1, 0): "+y", (0, -1, 0): "-y",
               (0, 0, 1): "+z", (0, 0, -1): "-z"}
@@ -27,17 +26,17 @@ def add_arguments(parser) -> None:
 def run(args) -> int:
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", SceneWarning)
-        scene = load_scene_from_args(args)
+        analysis = analysis_from_args(args)
     for warning in caught:  # one line each on stderr, like errors
         if issubclass(warning.category, SceneWarning):
             print(f"trapscape: warning: {warning.message}", file=sys.stderr)
         else:
             warnings.showwarning(warning.message, warning.category, warning.filename,
                                  warning.lineno)
-    summary = summarise(scene)
+    result = analysis.check_result()
     if args.json:  # first, so the file is there even if the table's reader goes away
-        write_json(args.json, stamp(scene, summary))
-    print(format_table(scene, summary))
+        write_json(args.json, result)
+    print(format_table(analysis.scene, result))
     return 0
 
 
@@ -53,48 +52,10 @@ def north_words(vector) -> str:
 
 
 def summarise(scene) -> dict:
-    """The JSON payload of `check` (before stamping)."""
-    parts = []
-    moments = [_tidy(moment_world(m), 1e-12) for m in scene.magnets]
-    for magnet, moment in zip(scene.magnets, moments):
-        north = magnet.north_world
-        parts.append({
-            "name": magnet.name, "shape": magnet.shape, "grade": magnet.grade,
-            "volume_m3": volume(magnet), "mass_kg": mass(magnet),
-            "moment_Am2": moment.tolist(), "remanence_T": magnet.remanence,
-            "north_world": magnet.radial if north is None else np.round(north, 12).tolist(),
-            "position": scene.to_file_units(magnet.position).tolist(),
-        })
-    low, high = scene_bounding_box(scene.magnets)
-    # parts that cancel leave round-off (STL vertices are float32: ~1e-7 of each part)
-    total = _tidy(np.sum(moments, axis=0), 1e-6, scale=sum(np.linalg.norm(m) for m in moments))
-    box = scene.search_box
-    return {
-        "title": scene.title,
-        "parts": parts,
-        "total_moment_Am2": total.tolist(),
-        "bounding_box": {"min": scene.to_file_units(low).tolist(),
-                         "max": scene.to_file_units(high).tolist()},
-        "search_box": {"min": scene.to_file_units(box.min).tolist(),
-                       "max": scene.to_file_units(box.max).tolist(),
-                       "spacing": float(scene.to_file_units(box.spacing)),
-                       "shape": list(box.shape())},
-        "probe": {"kind": scene.probe.kind,
-                  "diameter": float(scene.to_file_units(scene.probe.diameter)),
-                  "mass_kg": scene.probe.mass},
-        "constraint": scene.constraint.kind,
-        "steel_plates": [p.name for p in scene.plates],
-        "params": scene.params,
-        "safety": None,
-        "shipping": None,
-    }
+    """The JSON payload of `check` (before stamping): physics.analysis.results.check_json."""
+    from trapscape.physics.analysis.results import check_json
 
-
-def _tidy(vector, relative: float, scale: float | None = None) -> np.ndarray:
-    """Components below `relative` of the scale (default: the vector's length) set to 0."""
-    vector = np.asarray(vector, float)
-    scale = float(np.linalg.norm(vector)) if scale is None else scale
-    return np.where(np.abs(vector) <= relative * scale, 0.0, vector) + 0.0
+    return check_json(scene)
 
 
 def format_table(scene, summary) -> str:

@@ -3,11 +3,12 @@ from __future__ import annotations
 
 import contextlib
 import json
-import math
+import os
 import sys
+import threading
+from pathlib import Path
 
-import numpy as np
-
+from trapscape.physics.analysis.results import json_ready
 from trapscape.scene.errors import SceneError
 
 
@@ -20,10 +21,11 @@ def add_scene_arguments(parser) -> None:
     parser.add_argument("--quiet", action="store_true", help="no progress output")
 
 
-def load_scene_from_args(args):
-    from trapscape.scene.loader import load_scene, parse_overrides
+def analysis_from_args(args):
+    """The analysis of SCENE with its --set overrides (nothing computed yet)."""
+    from trapscape.physics.analysis.run import load_analysis
 
-    return load_scene(args.scene, overrides=parse_overrides(args.set))
+    return load_analysis(args.scene, args.set)
 
 
 def show_progress(args) -> bool:
@@ -53,44 +55,27 @@ def progress(args, unit="pt", desc=None):
         bar.close()
 
 
-def _clean(value):
-    """JSON-safe: numpy to Python, NaN and inf to null."""
-    if isinstance(value, dict):
-        return {str(k): _clean(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_clean(v) for v in value]
-    if isinstance(value, np.ndarray):
-        return _clean(value.tolist())
-    if isinstance(value, (np.floating, float)):
-        value = float(value)
-        return value if math.isfinite(value) else None
-    if isinstance(value, np.integer):
-        return int(value)
-    if isinstance(value, np.bool_):
-        return bool(value)
-    return value
-
-
-def tool_version() -> str:
-    from importlib.metadata import PackageNotFoundError, version
-
+@contextlib.contextmanager
+def replaced_atomically(path, newline=None):
+    """A text stream on a temporary file beside `path`, moved onto `path` when the block ends
+    without error (readers never see half a file); SceneError if it cannot be written."""
+    target = Path(path)
+    # a name of our own (not mkstemp's, whose 0600 mode would outlive the move)
+    temporary = target.with_name(f".{target.name}.{os.getpid()}.{threading.get_ident()}.tmp")
     try:
-        return version("trapscape")
-    except PackageNotFoundError:
-        return "unknown"
-
-
-def stamp(scene, payload: dict) -> dict:
-    """Every JSON output carries the length unit, the tool's version and the scene's hash."""
-    head = {"length_unit": scene.units, "trapscape_version": tool_version(),
-            "scene": scene.path, "scene_sha256": scene.digest}
-    return {**head, **payload}
+        try:
+            with open(temporary, "w", encoding="utf-8", newline=newline) as stream:
+                yield stream
+            os.replace(temporary, target)
+        except BaseException:
+            temporary.unlink(missing_ok=True)
+            raise
+    except OSError as error:
+        raise SceneError(f"cannot write {path}: {error.strerror}; choose a writable path.") from None
 
 
 def write_json(path: str, payload: dict) -> None:
-    try:
-        with open(path, "w", encoding="utf-8") as handle:
-            json.dump(_clean(payload), handle, indent=2, allow_nan=False)
-            handle.write("\n")
-    except OSError as error:
-        raise SceneError(f"cannot write {path}: {error.strerror}; choose a writable path.") from None
+    """The payload as JSON, written to a temporary file beside `path` and moved into place."""
+    text = json.dumps(json_ready(payload), indent=2, allow_nan=False) + "\n"
+    with replaced_atomically(path) as stream:
+        stream.write(text)

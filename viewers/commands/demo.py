@@ -34,8 +34,11 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
+    from trapscape.physics.analysis.run import Analysis
     from trapscape.scene.loader import load_scene
+    from trapscape.viewers.commands.common import progress
     from trapscape.viewers.commands.render import parse_size
+    from trapscape.viewers.layers.context import ViewContext
 
     sample = samples_dir() / args.sample
     if not sample.is_file():
@@ -49,48 +52,26 @@ def run(args) -> int:
     size = parse_size(args.size)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        scene = load_scene(str(sample))
+        analysis = Analysis(load_scene(str(sample)))
     print(f"sample: {sample}")
-    written = [("check", write_check(scene, out / "check.json"))]
-    report, ctx = find_report(scene, args)
-    written.append(("traps", write_traps(scene, report, out / "traps.json")))
+    written = [("check", write_json_file(analysis.check_result(), out / "check.json"))]
+    with progress(args, desc="scan") as update:
+        analysis.traps(progress=update)  # found once: the JSON and the view share it
+    written.append(("traps", write_json_file(analysis.traps_result(), out / "traps.json")))
+    ctx = ViewContext.of(analysis)
     written.append(("render", write_render(ctx, out / "view.png", size)))
     written.append(("polarity map", write_polarity(ctx, out / "polarity.png", size)))
     for what, path in written:
         print(f"{what:>12}: {path}")
     print(headline_sentence(ctx))
-    from trapscape.physics.traps.search import CAUTION
-
-    print(CAUTION)
+    print(analysis.traps().caution)
     return 0
 
 
-def write_check(scene, path: Path) -> Path:
-    from trapscape.viewers.commands.check import summarise
-    from trapscape.viewers.commands.common import stamp, write_json
+def write_json_file(payload: dict, path: Path) -> Path:
+    from trapscape.viewers.commands.common import write_json
 
-    write_json(str(path), stamp(scene, summarise(scene)))
-    return path
-
-
-def find_report(scene, args):
-    """The trap report, computed once and shared with the view."""
-    from trapscape.physics.traps.search import find_traps
-    from trapscape.viewers.commands.common import progress
-    from trapscape.viewers.layers.context import ViewContext
-
-    ctx = ViewContext(scene)
-    with progress(args, desc="scan") as update:
-        report = find_traps(ctx.model, scene, progress=update)
-    ctx.__dict__["trap_report"] = report  # cached_property: the view uses this one
-    return report, ctx
-
-
-def write_traps(scene, report, path: Path) -> Path:
-    from trapscape.viewers.commands.common import stamp, write_json
-    from trapscape.viewers.commands.traps import report_json
-
-    write_json(str(path), stamp(scene, report_json(report, scene)))
+    write_json(str(path), payload)
     return path
 
 

@@ -4,7 +4,7 @@ HTML file with the interactive 3D view."""
 from __future__ import annotations
 
 from trapscape.scene.errors import SceneError
-from trapscape.viewers.commands.common import add_scene_arguments, load_scene_from_args
+from trapscape.viewers.commands.common import add_scene_arguments, analysis_from_args
 from trapscape.viewers.commands.render import (add_view_arguments, print_notes, render_options,
                                      view_context)
 
@@ -24,8 +24,9 @@ def run(args) -> int:
     from trapscape.viewers.layers import parse_layers
 
     kind = format_of(args.out)
-    scene = load_scene_from_args(args)
-    ctx = view_context(scene, args)
+    analysis = analysis_from_args(args)
+    scene = analysis.scene
+    ctx = view_context(analysis, args, traps=kind != ".vti")  # a field grid marks no trap
     layers = None
     if kind in (".vtp", ".stl"):
         layers = parse_layers(args.layers, scene) if args.layers else GEOMETRY_DEFAULTS

@@ -7,7 +7,8 @@ import math
 import numpy as np
 
 from trapscape.scene.errors import SceneError
-from trapscape.viewers.commands.common import add_scene_arguments, load_scene_from_args, progress
+from trapscape.viewers.commands.common import (add_scene_arguments, analysis_from_args, progress,
+                                               replaced_atomically)
 
 AXES = {"x": 0, "y": 1, "z": 2}
 
@@ -27,17 +28,14 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    scene = load_scene_from_args(args)
+    analysis = analysis_from_args(args)
+    scene = analysis.scene
     points, layout = _sample_points(scene, args)
     if not (args.out or args.plot):
         raise SceneError("field: say where the result goes with --out OUT.csv (and/or --plot FILE.png).")
-    from trapscape.physics.field.model import FieldModel
-
-    model = FieldModel.from_scene(scene)
     with progress(args, unit="pt", desc="field") as update:
-        H = model.applied_H(points, progress=update)
-    B = 4e-7 * np.pi * (H + model.magnetization(points))
-    in_model = model.in_model(points)
+        values = analysis.field_at(points, progress=update)
+    B, H, in_model = values.B, values.H, values.in_model
     if args.out:
         _write_csv(args.out, scene, points, B, H, in_model)
         print(f"wrote {len(points)} points to {args.out}")
@@ -137,14 +135,11 @@ def _write_csv(path, scene, points, B, H, in_model):
     header = [f"x_{u}", f"y_{u}", f"z_{u}", "Bx_T", "By_T", "Bz_T",
               "Hx_A_per_m", "Hy_A_per_m", "Hz_A_per_m", "B_T", "in_model"]
     table = np.column_stack([points / scene.unit_scale, B, H, np.linalg.norm(B, axis=1)])
-    try:
-        with open(path, "w", newline="", encoding="utf-8") as handle:
-            writer = csv.writer(handle)
-            writer.writerow(header)
-            for row, ok in zip(table, in_model):
-                writer.writerow([f"{v:.9g}" for v in row] + [int(ok)])
-    except OSError as error:
-        raise SceneError(f"cannot write {path}: {error.strerror}; choose a writable path.") from None
+    with replaced_atomically(path, newline="") as handle:
+        writer = csv.writer(handle)
+        writer.writerow(header)
+        for row, ok in zip(table, in_model):
+            writer.writerow([f"{v:.9g}" for v in row] + [int(ok)])
 
 
 def _plot(path, scene, points, B, layout):

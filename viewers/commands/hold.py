@@ -1,37 +1,19 @@
 """`trapscape hold`: the pull of the magnets on a steel plate against the air gap, with the slip
-force, the peel torque and the plate-saturation warning (physics/hold.py)."""
+force, the peel torque and the plate-saturation warning (physics.analysis.holding)."""
 from __future__ import annotations
 
 import re
 
 import numpy as np
 
+from trapscape.physics.analysis.results import HOLD_CAUTIONS as CAUTIONS
+from trapscape.physics.analysis.results import HOLD_NOTES as NOTES
 from trapscape.scene.errors import SceneError
-from trapscape.viewers.commands.common import (add_scene_arguments, load_scene_from_args, progress,
-                                     stamp, write_json)
+from trapscape.viewers.commands.common import add_scene_arguments, analysis_from_args, progress, write_json
 
 _NUMBER = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"
 _GAPS = re.compile(rf"^\s*({_NUMBER})\s*\.\.\s*({_NUMBER})\s*@\s*(\d+)\s*$")
 MAX_GAPS = 1000
-
-CAUTIONS = (
-    "Magnets snap onto steel: keep fingers and skin out of the gap (pinching).",
-    "Sintered magnets are brittle and chip or shatter when they strike steel or each other; "
-    "wear eye protection.",
-    "Keep strong magnets away from implanted medical devices (pacemakers, defibrillators) and "
-    "out of children's reach (swallowed magnets are dangerous).",
-    "These figures are estimates: verify them against the supplier's data, test the real "
-    "assembly, and follow the local codes for lifting and holding loads.",
-)
-NOTES = (
-    "The plate is a perfect magnetic mirror (each magnet pulled by its image): this overstates "
-    "the pull where the plate saturates or is thin, and for rough, painted or non-flat steel.",
-    "Slip = friction x pull is the usual estimate (common practice).",
-    "Peel torque: pull x distance from the centre of pull to the nearest footprint edge, at the "
-    "onset of tipping.",
-    "Several plates: each magnet has one image in each plate (first order); the gap and the pull "
-    "refer to the plate named here.",
-)
 
 
 def add_arguments(parser) -> None:
@@ -64,38 +46,23 @@ def parse_gaps(text: str) -> np.ndarray:
 
 
 def run(args) -> int:
-    from trapscape.physics.holding.pull import choose_plate, moving_parts, pull_curve, saturation_onset_gap
-
-    scene = load_scene_from_args(args)
+    analysis = analysis_from_args(args)
+    scene = analysis.scene
     gaps = parse_gaps(args.gap)
-    moving = moving_parts(scene, args.part)
-    _, plate = choose_plate(scene, args.plate, moving)
     with progress(args, unit="gap", desc="pull") as update:
-        rows = pull_curve(scene, gaps * scene.unit_scale, part=args.part, friction=args.friction,
-                          plate=plate.name, progress=update)
-    onset = saturation_onset_gap(scene, part=args.part, plate=plate.name)
+        result = analysis.hold(gaps * scene.unit_scale, part=args.part, plate=args.plate,
+                               friction=args.friction, progress=update)
+    onset = result.saturation_onset_gap_m
     onset_file = None if onset is None else onset / scene.unit_scale
-    _print_table(scene, rows, plate, args, onset_file)
+    _print_table(scene, result.rows, result.plate, args, onset_file)
     if args.json:
-        write_json(args.json, stamp(scene, _payload(scene, rows, plate, args, onset_file)))
+        write_json(args.json, analysis.hold_result(gaps * scene.unit_scale, part=args.part,
+                                                   plate=args.plate, friction=args.friction))
         print(f"wrote {args.json}")
     if args.plot:
-        _plot(args.plot, scene, rows, plate, args)
+        _plot(args.plot, scene, result.rows, result.plate, args)
         print(f"wrote the plot to {args.plot}")
     return 0
-
-
-def _payload(scene, rows, plate, args, onset):
-    unit = scene.unit_scale
-    return {
-        "plate": plate.name, "part": args.part, "friction": args.friction,
-        "plate_thickness": plate.thickness / unit, "plate_saturation_T": plate.saturation,
-        "rows": [{"gap": r.gap / unit, "pull_N": r.pull, "slip_N": r.slip,
-                  "saturation_warning": r.saturation_warning, "peel_torque_N_m": r.peel_torque,
-                  "plate_flux_density_T": r.plate_flux_density} for r in rows],
-        "saturation_onset_gap": onset,
-        "notes": list(NOTES), "cautions": list(CAUTIONS),
-    }
 
 
 def _format(value, width=11):

@@ -5,7 +5,7 @@ from __future__ import annotations
 import sys
 
 from trapscape.scene.errors import SceneError
-from trapscape.viewers.commands.common import add_scene_arguments, load_scene_from_args, show_progress
+from trapscape.viewers.commands.common import add_scene_arguments, analysis_from_args, show_progress
 
 AXES = {"x": 0, "y": 1, "z": 2}
 DEFAULT_RESOLUTION = 64
@@ -79,14 +79,16 @@ def parse_section(text):
         raise SceneError(f"--section {text!r}: {value!r} is not a number.") from None
 
 
-def view_context(scene, args):
+def view_context(analysis, args, traps: bool = True):
+    """The view's context; with traps, the analysis finds them first (every scene view marks
+    them, and the section passes through the headline trap)."""
     from trapscape.viewers.layers.context import ViewContext
 
     resolution = args.resolution or DEFAULT_RESOLUTION
     if resolution < 8:
         raise SceneError("--resolution must be at least 8.")
-    return ViewContext(scene, grid_resolution=resolution,
-                       progress=_progress(args) if show_progress(args) else None)
+    return ViewContext.of(analysis, traps=traps, grid_resolution=resolution,
+                          progress=_progress(args) if show_progress(args) else None)
 
 
 def _progress(args):
@@ -131,9 +133,10 @@ def run(args) -> int:
         from trapscape.viewers.export import check_writable
 
         check_writable(args.out)
-    scene = load_scene_from_args(args)
+    analysis = analysis_from_args(args)
+    scene = analysis.scene
     size = parse_size(args.size)
-    ctx = view_context(scene, args)
+    ctx = view_context(analysis, args, traps=args.view != "polarity")
     if args.view == "polarity":
         from trapscape.viewers.polarity import draw_polarity_map
 

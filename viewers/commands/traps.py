@@ -4,8 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from trapscape.viewers.commands.common import (add_scene_arguments, load_scene_from_args, progress,
-                                     stamp, write_json)
+from trapscape.viewers.commands.common import add_scene_arguments, analysis_from_args, progress, write_json
 
 
 def add_arguments(parser) -> None:
@@ -14,66 +13,14 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    from trapscape.physics.field.model import FieldModel
-    from trapscape.physics.traps.search import find_traps
-
-    scene = load_scene_from_args(args)
-    model = FieldModel.from_scene(scene)
+    analysis = analysis_from_args(args)
     with progress(args, desc="scan") as update:
-        report = find_traps(model, scene, progress=update)
-    print(format_table(report, scene))
+        report = analysis.traps(progress=update)
+    print(format_table(report, analysis.scene))
     if args.json:
-        write_json(args.json, stamp(scene, report_json(report, scene)))
+        write_json(args.json, analysis.traps_result())
         print(f"wrote {args.json}")
     return 0
-
-
-# -- JSON -----------------------------------------------------------------------------------------
-
-def _length(scene, metres):
-    return None if metres is None else np.asarray(metres, float) / scene.unit_scale
-
-
-def equilibrium_json(eq, scene) -> dict:
-    escape = eq.escape
-    return {
-        "position": _length(scene, eq.position),
-        "coordinate": _length(scene, eq.coordinate_m),
-        "class": eq.classification,
-        "stable_directions": eq.stable_directions,
-        "free_directions": eq.free_directions,
-        "stiffness_N_per_m": list(eq.stiffness_N_per_m),
-        "directions": eq.directions,
-        "frequency_Hz": list(eq.frequency_Hz),
-        "B_T": eq.B_T,
-        "energy_J": eq.energy_J,
-        "escape_energy_J": escape.energy_J if escape else None,
-        "escape_force_N": escape.force_N if escape else None,
-        "escape_exit": escape.exit if escape else None,
-        "well_interval": (None if not (eq.well and eq.well.interval_m)
-                          else _length(scene, eq.well.interval_m)),
-        "contact": None if eq.contact is None else {
-            "surface": eq.contact.surface, "normal_force_N": eq.contact.normal_force_N},
-        "family_size": eq.family_size,
-        "finite_probe_correction": eq.finite_probe_correction,
-        "note": eq.note or None,
-    }
-
-
-def report_json(report, scene) -> dict:
-    finite = report.finite_probe
-    return {
-        "constraint": report.constraint_kind,
-        "probe": report.probe_kind,
-        "equilibria": [equilibrium_json(e, scene) for e in report.equilibria],
-        "earnshaw_note": report.earnshaw_note,
-        "finite_probe": {"used": finite.used, "model": finite.model,
-                         "threshold": finite.threshold,
-                         "max_relative_correction": finite.max_relative_correction,
-                         "note": finite.note},
-        "notes": list(report.notes),
-        "caution": report.caution,
-    }
 
 
 # -- the table ------------------------------------------------------------------------------------
@@ -103,7 +50,7 @@ def format_table(report, scene) -> str:
     box = scene.search_box
     size = float(np.max(np.asarray(box.max) - np.asarray(box.min))) / scene.unit_scale
     for i, eq in enumerate(report.equilibria, 1):
-        position = ", ".join(f"{v:.4g}" for v in _tidy(_length(scene, eq.position), size))
+        position = ", ".join(f"{v:.4g}" for v in _tidy(np.asarray(eq.position, float) / scene.unit_scale, size))
         escape = eq.escape
         contact = "-" if eq.contact is None else (
             f"{eq.contact.surface} ({_number(eq.contact.normal_force_N)} N)")

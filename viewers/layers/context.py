@@ -1,8 +1,8 @@
-"""What the layers draw from: the scene, its field model, field samples and the trap report.
-
-Everything is computed on first use and kept, so a render and an export of the same scene share
-the field samples. Lengths handed to pyvista are in the scene's unit (so scale bars, exports and
-STL files read in the unit the user wrote); physics works in metres.
+"""What the layers draw from: the analysis of the scene (physics.analysis) and the trap report
+the command had it find. The field at a view's grid points is sampled by physics.analysis.views
+and kept here, so a render and an export of the same scene share it. Lengths handed to pyvista
+are in the scene's unit (so scale bars, exports and STL files read in the unit the user wrote);
+physics works in metres.
 """
 from __future__ import annotations
 
@@ -11,7 +11,7 @@ from functools import cached_property
 
 import numpy as np
 
-from trapscape.scene.units import MU0
+from trapscape.physics.analysis.views import field_samples, headline_of, trap_markers
 
 AXIS_NAMES = ("x", "y", "z")
 
@@ -35,19 +35,30 @@ class Section:
 
 @dataclass
 class ViewContext:
-    scene: object
+    analysis: object  # physics.analysis.run.Analysis
+    trap_report: object = None  # what the command's analysis found (None: no traps to draw)
     grid_resolution: int = 64  # points on the longest side of the 3D field grid
     section_resolution: int = 220  # points on the longest side of the section map
     progress: object = None  # callable(done, total) or None
-    model: object = None
-    section: Section | None = None
+    section: Section | None = None  # set by viewers.render.prepare with the view's vectors
+    # pyvista geometry the layers made from the analysis's numbers, by name, so a render and an
+    # export of one context make it once
+    made: dict = field(default_factory=dict)
     _notes: list = field(default_factory=list)
 
-    def __post_init__(self):
-        if self.model is None:
-            from trapscape.physics.field.model import FieldModel
+    @classmethod
+    def of(cls, analysis, traps: bool = True, **options) -> "ViewContext":
+        """The context of a view of `analysis` (an Analysis, or a Scene to analyse); with
+        traps, the analysis finds them first (once: it keeps the report)."""
+        from trapscape.physics.analysis.run import Analysis
 
-            self.model = FieldModel.from_scene(self.scene)
+        if not isinstance(analysis, Analysis):
+            analysis = Analysis(analysis)
+        return cls(analysis, trap_report=analysis.traps() if traps else None, **options)
+
+    @property
+    def scene(self):
+        return self.analysis.scene
 
     # -- units ------------------------------------------------------------------------------
 
@@ -100,10 +111,8 @@ class ViewContext:
 
     @cached_property
     def grid(self):
-        """pyvista ImageData over the search box (scene unit) with B_T, B_abs_T, B_abs_mT,
-        energy_density_J_per_m3 (B^2 / 2 mu0, vacuum field energy density, Jackson 3rd ed.
-        eq. 5.148 with B = mu0 H outside matter), inside_magnet (-1 or the part index) and
-        in_model (0 behind a steel plate)."""
+        """pyvista ImageData over the search box (scene unit) with the arrays of
+        physics.analysis.views.field_samples."""
         import pyvista as pv
 
         lower, upper = self.box_bounds
@@ -127,14 +136,8 @@ class ViewContext:
 
     def _fill_field(self, dataset) -> None:
         points_m = np.asarray(dataset.points, dtype=float) * self.scale
-        B = self.model.B(points_m, progress=self.progress)
-        B_abs = np.linalg.norm(B, axis=1)
-        dataset.point_data["B_T"] = B
-        dataset.point_data["B_abs_T"] = B_abs
-        dataset.point_data["B_abs_mT"] = B_abs * 1e3
-        dataset.point_data["energy_density_J_per_m3"] = B_abs**2 / (2.0 * MU0)
-        dataset.point_data["inside_magnet"] = self.model.inside_magnet(points_m).astype(np.int32)
-        dataset.point_data["in_model"] = self.model.in_model(points_m).astype(np.uint8)
+        for name, values in field_samples(self.analysis, points_m, self.progress).items():
+            dataset.point_data[name] = values
 
     def field_on(self, dataset):
         """Add the field arrays to any pyvista dataset (its points in scene unit) and return it."""
@@ -158,21 +161,11 @@ class ViewContext:
     # -- traps ------------------------------------------------------------------------------
 
     @cached_property
-    def trap_report(self):
-        """physics.traps.search' report for this scene, or None while that module is not there."""
-        from trapscape.viewers.layers.traps_data import find_report
-
-        return find_report(self)
-
-    @cached_property
     def equilibria(self) -> list:
-        from trapscape.viewers.layers.traps_data import equilibria_of
-
-        return equilibria_of(self)
+        """The trap report's equilibria as markers (physics.analysis.views.trap_markers)."""
+        return trap_markers(self.trap_report, self.scene)
 
     @property
     def headline(self):
         """The equilibrium a customer asks about first: the firmest stable one, else the first."""
-        from trapscape.viewers.layers.traps_data import headline_of
-
         return headline_of(self.equilibria)

@@ -44,7 +44,7 @@ def _spread(points, count):
 
 
 def lines(ctx):
-    cache = getattr(ctx, "_field_lines_3d", None)
+    cache = ctx.made.get("field lines")
     if cache is not None:
         return cache
     source = seeds(ctx)
@@ -58,8 +58,8 @@ def lines(ctx):
         source, vectors="direction", integration_direction="both", initial_step_length=0.5,
         step_unit="cl", max_steps=3000, max_length=4.0 * ctx.size, terminal_speed=1e-6,
         integrator_type=45)
-    ctx._field_lines_3d = traced if traced.n_points else None
-    return ctx._field_lines_3d
+    ctx.made["field lines"] = traced if traced.n_points else None
+    return ctx.made["field lines"]
 
 
 def meshes(ctx) -> dict:

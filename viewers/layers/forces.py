@@ -1,13 +1,13 @@
-"""Layer "forces": the force on the probe (magnetic + gravity, physics/probe.py) on a lattice:
+"""Layer "forces": the force on the probe (magnetic + gravity, physics.analysis.views) on a lattice:
 in the box for a free probe, on the guide plane (its in-plane part) or along the guide line (its
 part along the line). Arrows point along the force; their length grows with log |F|."""
 from __future__ import annotations
 
 import numpy as np
 
+from trapscape.physics.analysis.views import allowed_force, probe_energy_and_force
 from trapscape.scene.shapes.frames import perpendicular_pair
 from trapscape.viewers.layers import style
-from trapscape.viewers.layers.probe_data import energy_and_force
 from trapscape.viewers.layers.traps_data import describe_force
 
 LATTICE_FREE = 9  # points on the longest side of the box
@@ -50,13 +50,6 @@ def _plane_lattice(corners, normal) -> np.ndarray:
     return centre + A.reshape(-1, 1) * u + B.reshape(-1, 1) * v
 
 
-def allowed_force(ctx, force) -> np.ndarray:
-    """The part of the force the constraint does not take up (physics.probe.laws.projected_force)."""
-    from trapscape.physics.probe.laws import allowed_basis, projected_force
-
-    return projected_force(force, allowed_basis(ctx.scene.constraint))
-
-
 def arrows(ctx):
     """(glyph mesh, smallest and largest |F| in N) or None."""
     import pyvista as pv
@@ -64,8 +57,8 @@ def arrows(ctx):
     points = lattice(ctx)
     if len(points) == 0:
         return None
-    _, force, ok = energy_and_force(ctx, points)
-    force = allowed_force(ctx, force)
+    _, force, ok = probe_energy_and_force(ctx.analysis, np.asarray(points, float) * ctx.scale)
+    force = allowed_force(ctx.scene, force)
     size = np.linalg.norm(force, axis=1)
     keep = ok & (size > 0)
     if not keep.any():

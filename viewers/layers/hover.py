@@ -6,17 +6,16 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.physics.analysis.views import guide_direction, probe_energy_and_force
 from trapscape.viewers.layers import style
-from trapscape.viewers.layers.probe_data import energy_and_force, guide_direction
 
 RESOLUTION = 48  # grid points on the longest side
 
 
 def sheet(ctx):
     """The hover sheet (scene unit), or None where the force along the lines never balances."""
-    cached = getattr(ctx, "_hover_sheet", "unset")
-    if cached != "unset":
-        return cached
+    if "hover sheet" in ctx.made:
+        return ctx.made["hover sheet"]
     import pyvista as pv
 
     lower, upper = ctx.box_bounds
@@ -24,8 +23,8 @@ def sheet(ctx):
     dims = np.maximum(np.floor((upper - lower) / step + 1e-9).astype(int) + 1, 2)
     grid = pv.ImageData(dimensions=tuple(int(d) for d in dims), spacing=(step,) * 3,
                         origin=tuple(lower))
-    direction = guide_direction(ctx)
-    _, force, ok = energy_and_force(ctx, np.asarray(grid.points))
+    direction = guide_direction(ctx.scene)
+    _, force, ok = probe_energy_and_force(ctx.analysis, np.asarray(grid.points, float) * ctx.scale)
     along = force @ direction
     grid.point_data["force_along_N"] = along
     grid.point_data["admissible"] = ok.astype(float)
@@ -39,7 +38,7 @@ def sheet(ctx):
         kept = surface.threshold(0.5, scalars="keep", preference="point", all_scalars=True)
         if kept.n_points:
             result = kept.extract_surface(algorithm=None)
-    ctx._hover_sheet = result
+    ctx.made["hover sheet"] = result
     return result
 
 
@@ -55,5 +54,5 @@ def draw(plotter, ctx, legend) -> None:
         return
     plotter.add_mesh(surface, color=style.HOVER, opacity=0.55, smooth_shading=True,
                      specular=0.2, scalars=None)
-    axis = "".join(a for a, v in zip("xyz", guide_direction(ctx)) if abs(v) > 0.999) or "the guide"
+    axis = "".join(a for a, v in zip("xyz", guide_direction(ctx.scene)) if abs(v) > 0.999) or "the guide"
     legend.add(f"hover sheet: rest points on lines along {axis}", style.HOVER, "rectangle")

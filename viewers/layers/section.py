@@ -55,7 +55,7 @@ def _through_point(ctx) -> np.ndarray:
 def section_grid(ctx):
     """The sampled plane (ImageData one point thick along the axis) with the field arrays and
     `free` (1 outside the magnets and in front of every plate)."""
-    cache = getattr(ctx, "_section_grid", None)
+    cache = ctx.made.get("section grid")
     if cache is not None and cache[0] == (ctx.section.axis, ctx.section.level):
         return cache[1]
     import pyvista as pv
@@ -73,7 +73,7 @@ def section_grid(ctx):
     grid = pv.ImageData(dimensions=dims, spacing=spacing, origin=origin)
     ctx.field_on(grid)
     grid.point_data["free"] = ((grid["inside_magnet"] < 0) & (grid["in_model"] > 0)).astype(float)
-    ctx._section_grid = ((axis, level), grid)
+    ctx.made["section grid"] = ((axis, level), grid)
     return grid
 
 

@@ -11,7 +11,7 @@ from trapscape.viewers.layers import style
 
 def well_meshes(ctx) -> list:
     """[(equilibrium, closed surface)] for every equilibrium that has a well."""
-    cache = getattr(ctx, "_well_meshes", None)
+    cache = ctx.made.get("wells")
     if cache is not None:
         return cache
     report = ctx.trap_report
@@ -23,7 +23,7 @@ def well_meshes(ctx) -> list:
         mesh = _line_well(ctx, well) if report.grid.kind == "line" else _region_well(ctx, report.grid, well)
         if mesh is not None and mesh.n_points:
             result.append((equilibrium, mesh))
-    ctx._well_meshes = result
+    ctx.made["wells"] = result
     return result
 
 

@@ -6,7 +6,6 @@ import pytest
 
 from forces_factory import coaxial_cylinders_force, magnet, plate, scene, sphere_moment
 from trapscape.physics.holding.pull import force_and_torque, placed_at_gap, pull_curve, saturation_onset_gap
-from trapscape.scene.errors import SceneError
 
 MU0 = 4e-7 * math.pi
 M_N42 = 1.30 / MU0
@@ -107,14 +106,17 @@ def test_one_part_moves_alone():
     assert near.pull != far.pull
 
 
-def test_bad_input_is_a_scene_error():
+def test_bad_input_is_a_value_error():
+    """Physics says what is wrong; physics.analysis words it for the user (tests/physics/analysis)."""
     disc = [magnet("cylinder", (0.012, 0.005), (0, 0, 0.01), name="disc")]
-    with pytest.raises(SceneError, match="steel_plate"):
+    with pytest.raises(ValueError, match="no steel plate"):
         pull_curve(scene(disc), [0.0])
-    with pytest.raises(SceneError, match="no magnet"):
+    with pytest.raises(ValueError, match="no magnet named 'lid'"):
         pull_curve(scene(disc, [plate()]), [0.0], part="lid")
-    with pytest.raises(SceneError, match="gaps"):
+    with pytest.raises(ValueError, match="gaps"):
         pull_curve(scene(disc, [plate()]), [-0.001])
+    with pytest.raises(ValueError, match="friction"):
+        pull_curve(scene(disc, [plate()]), [0.0], friction=-1.0)
 
 
 def test_outline_length_of_a_circle():

@@ -7,7 +7,7 @@ import pytest
 
 from trapscape.physics.field.model import FieldModel
 from trapscape.physics.traps.problem import TrapProblem
-from trapscape.physics.traps.scan import grid_layout
+from trapscape.physics.traps.scan import SearchSetupError, grid_layout
 from trapscape.physics.traps.search import find_traps
 from scene_factory import constraint, make_scene, soft_probe, sphere_magnet
 
@@ -71,11 +71,11 @@ def test_plane_and_free_layouts():
 
 
 @pytest.mark.parametrize("kind, point", [("line", (0, 0.03, 0)), ("plane", (0, 0, 0.05))])
-def test_a_constraint_that_misses_the_box_raises_value_error_with_the_sentence(kind, point):
+def test_a_constraint_that_misses_the_box_raises_a_setup_error_with_the_sentence(kind, point):
     scene = scene_with(constraint(kind, point=point, direction=(0, 0, 1)))
     message = (f"the scene: the probe's constraint {kind} does not cross the search box; move "
                "[probe.constraint] point or widen [search_box].")
     with pytest.raises(ValueError) as caught:
         find_traps(FieldModel.from_scene(scene), scene)
     assert str(caught.value) == message
-    assert type(caught.value) is ValueError
+    assert isinstance(caught.value, SearchSetupError)  # the analysis layer shows it to the user

@@ -281,9 +281,6 @@ def test_traps_command_writes_the_json_of_the_design(tmp_path, capsys):
     assert unstable["escape_energy_J"] is None and unstable["contact"] is None
 
 
-@pytest.mark.xfail(strict=True, raises=ValueError, reason=(
-    "physics.traps raises ValueError now; the analysis layer above is to turn it into the "
-    "SceneError the CLI prints with exit code 2 (remove this mark when it does)"))
 def test_traps_command_rejects_a_line_outside_the_box(tmp_path, capsys):
     from trapscape.viewers.cli import main
 

@@ -1,0 +1,203 @@
+"""One analysis of one scene: the scene, its field model, the trap report, pull curves and field
+values, each computed on first use and kept, so a command, a view and a report share them."""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import cached_property
+
+import numpy as np
+
+from trapscape.scene.errors import SceneError
+from trapscape.scene.units import MU0
+
+
+@dataclass(frozen=True)
+class FieldValues:
+    """The field at points (SI): B (N, 3) in T, H (N, 3) in A/m (the magnets' applied field;
+    inside a magnet B = mu0 (H + M)), in_model (N,) False behind a steel plate's face."""
+
+    B: np.ndarray
+    H: np.ndarray
+    in_model: np.ndarray
+
+
+def load_analysis(path, overrides=()) -> "Analysis":
+    """Load a scene file and start its analysis.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The scene file (TOML).
+    overrides : iterable of str or dict, optional
+        ``--set`` overrides of [params]: ``["gap=4", ...]`` or ``{"gap": "4"}``.
+
+    Returns
+    -------
+    Analysis
+        Nothing is computed yet.
+
+    Raises
+    ------
+    SceneError
+        The file cannot be read or is not a valid scene, or an override is malformed.
+    """
+    from trapscape.scene.loader import load_scene, parse_overrides
+
+    if not isinstance(overrides, dict):
+        overrides = parse_overrides(list(overrides))
+    return Analysis(load_scene(path, overrides=overrides))
+
+
+class Analysis:
+    """The results of one scene, computed lazily and once.
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene
+        A loaded scene (SI).
+    model : trapscape.physics.field.model.FieldModel, optional
+        Its field model, if already built.
+    """
+
+    def __init__(self, scene, model=None):
+        self.scene = scene
+        if model is not None:
+            self.__dict__["model"] = model
+        self._traps = None
+        self._holds = {}
+
+    @cached_property
+    def model(self):
+        """The scene's FieldModel (built on first use)."""
+        from trapscape.physics.field.model import FieldModel
+
+        return FieldModel.from_scene(self.scene)
+
+    @cached_property
+    def point_probe(self):
+        """The scene's probe as a point model on the field model (physics.probe.laws)."""
+        from trapscape.physics.probe.laws import PointProbe, ProbeLaw
+
+        return PointProbe(self.model, ProbeLaw.from_scene(self.scene))
+
+    def traps(self, progress=None):
+        """The trap report of the scene's probe, found on the first call.
+
+        Parameters
+        ----------
+        progress : callable, optional
+            ``progress(done, total, stage)`` during the scan of the first call.
+
+        Returns
+        -------
+        trapscape.physics.traps.search.TrapReport
+        """
+        if self._traps is None:
+            from trapscape.physics.traps.scan import SearchSetupError
+            from trapscape.physics.traps.search import find_traps
+
+            try:
+                self._traps = find_traps(self.model, self.scene, progress=progress)
+            except SearchSetupError as error:
+                raise SceneError(str(error)) from None
+        return self._traps
+
+    def hold(self, gaps_m, part=None, plate=None, friction=None, progress=None):
+        """The pull curve on a steel plate; the same request twice is computed once.
+
+        Parameters
+        ----------
+        gaps_m : array_like
+            Air gaps in m.
+        part, plate : str, optional
+            The moving magnet (default: all) and the plate (default: the nearest).
+        friction : float, optional
+            Friction coefficient, for the slip force.
+        progress : callable, optional
+            ``progress(done, total)`` after each gap of the first computation.
+
+        Returns
+        -------
+        trapscape.physics.analysis.holding.HoldResult
+
+        Raises
+        ------
+        SceneError
+            See physics.analysis.holding.hold_analysis.
+        """
+        from trapscape.physics.analysis.holding import hold_analysis
+
+        gaps = tuple(float(g) for g in np.asarray(gaps_m, float).ravel())
+        key = (gaps, part, plate, friction)
+        if key not in self._holds:
+            self._holds[key] = hold_analysis(self.scene, gaps, part=part, plate=plate,
+                                             friction=friction, progress=progress)
+        return self._holds[key]
+
+    def field_at(self, points_m, progress=None) -> FieldValues:
+        """B, H and the in-model mask at points.
+
+        Parameters
+        ----------
+        points_m : array_like, shape (N, 3)
+            World points in m.
+        progress : callable, optional
+            ``progress(done, total)`` while the field is summed.
+
+        Returns
+        -------
+        FieldValues
+        """
+        points = np.asarray(points_m, dtype=np.float64).reshape(-1, 3)
+        H = self.model.applied_H(points, progress=progress)
+        B = MU0 * (H + self.model.magnetization(points))
+        return FieldValues(B=B, H=H, in_model=self.model.in_model(points))
+
+    # -- the JSON results (stamped and JSON-ready; see physics.analysis.results) -------------
+
+    def check_result(self) -> dict:
+        """The `check` result.
+
+        Returns
+        -------
+        dict
+            physics.analysis.results.check_json, stamped and JSON-ready.
+        """
+        from trapscape.physics.analysis.results import check_json, json_ready, stamp
+
+        return json_ready(stamp(self.scene, check_json(self.scene)))
+
+    def traps_result(self, progress=None) -> dict:
+        """The `traps` result (finds the traps if not done yet).
+
+        Parameters
+        ----------
+        progress : callable, optional
+            As for `traps`.
+
+        Returns
+        -------
+        dict
+            physics.analysis.results.traps_json, stamped and JSON-ready.
+        """
+        from trapscape.physics.analysis.results import json_ready, stamp, traps_json
+
+        return json_ready(stamp(self.scene, traps_json(self.traps(progress), self.scene)))
+
+    def hold_result(self, gaps_m, part=None, plate=None, friction=None, progress=None) -> dict:
+        """The `hold` result (computes the pull curve if not done yet).
+
+        Parameters
+        ----------
+        gaps_m, part, plate, friction, progress
+            As for `hold`.
+
+        Returns
+        -------
+        dict
+            physics.analysis.results.hold_json, stamped and JSON-ready.
+        """
+        from trapscape.physics.analysis.results import hold_json, json_ready, stamp
+
+        result = self.hold(gaps_m, part=part, plate=plate, friction=friction, progress=progress)
+        return json_ready(stamp(self.scene, hold_json(self.scene, result)))
