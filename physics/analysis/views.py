@@ -25,6 +25,32 @@ class ViewEquilibrium:
     closed_in: bool = False  # a well with no way out inside the search box
 
 
+@dataclass(frozen=True)
+class ProbeWords:
+    """How views and sentences name the scene's probe, from its law (not its kind's name)."""
+
+    noun: str  # "soft-iron bead", "diamagnetic probe", ...
+    subject: str  # how a sentence about it starts: "The steel probe"
+    hovers: bool  # weakly magnetic: the hover sheet (force balancing the weight) is worth drawing
+
+
+def probe_words(scene) -> ProbeWords:
+    """The probe's names and the hover hint, asked of its law.
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene
+
+    Returns
+    -------
+    ProbeWords
+    """
+    from trapscape.physics.probe.laws import ProbeLaw
+
+    law = ProbeLaw.from_scene(scene)
+    return ProbeWords(noun=law.noun, subject=law.subject, hovers=law.weakly_magnetic)
+
+
 def field_samples(analysis, points_m, progress=None) -> dict:
     """The field arrays a view colours and contours by.
 

@@ -6,6 +6,7 @@ from __future__ import annotations
 import warnings
 from pathlib import Path
 
+from trapscape.physics.analysis.views import probe_words
 from trapscape.scene.errors import SceneError
 
 DEMO_SAMPLE = "level_gauge.toml"
@@ -95,8 +96,7 @@ def headline_sentence(ctx) -> str:
     from trapscape.viewers.layers.traps_data import describe_force, describe_position
 
     scene = ctx.scene
-    probe = {"soft": "The steel probe", "magnet": "The magnet probe",
-             "weak": "The probe"}.get(scene.probe.kind, "The probe")
+    probe = probe_words(scene).subject
     headline = ctx.headline
     if headline is None:
         return f"{probe} finds no equilibrium in the search box."

@@ -6,6 +6,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from trapscape.physics.analysis.views import probe_words
 from trapscape.viewers.layers import style
 
 
@@ -241,11 +242,8 @@ def draw_scale_bar(plotter, world_per_pixel: float, unit: str, origin_px, font_s
 def title_lines(scene, section) -> tuple[str, str]:
     """The title (the scene's) and one line saying what probe, constraint and section it shows."""
     probe = scene.probe
-    kind = {"soft": "soft-iron bead", "magnet": "magnet probe", "weak": "weakly magnetic probe"}
-    if probe.kind == "weak" and (probe.susceptibility or 0) < 0:
-        kind["weak"] = "diamagnetic probe"
     diameter = probe.diameter / scene.unit_scale
-    parts = [f"{kind.get(probe.kind, probe.kind)} Ø {diameter:.3g} {scene.units}"]
+    parts = [f"{probe_words(scene).noun} Ø {diameter:.3g} {scene.units}"]
     constraint = scene.constraint
     if constraint.kind == "line":
         parts.append(f"on a line along {_direction_name(constraint.direction)}")
