@@ -23,6 +23,8 @@ FORMATS = {".stl": "stl", ".obj": "obj", ".ply": "ply", ".3mf": "3mf"}
 REPAIR_HINT = "repair it in CAD or a mesh tool (close the holes, export as a solid) and export again"
 
 
+MESH_ELEMENT = "mesh"  # the 3MF core specification's element holding vertices and triangles
+
 def read_mesh(path: Path, shown: str, scale: float | None, where: str):
     """(vertices (V, 3) m, faces (F, 3) int64) of a checked, outward-oriented closed mesh.
 
@@ -140,7 +142,7 @@ def _3mf_build(root):
         element = objects[object_id]
         pieces = []
         for child in element:
-            if _tag(child) == "mesh":
+            if _tag(child) == MESH_ELEMENT:
                 vertices = np.array([[float(v.get(a)) for a in "xyz"] for v in child.iter()
                                      if _tag(v) == "vertex"])
                 faces = np.array([[int(t.get(a)) for a in ("v1", "v2", "v3")]
