@@ -21,9 +21,8 @@ from trapscape.scene.units import METRES_PER_3MF_UNIT
 
 FORMATS = {".stl": "stl", ".obj": "obj", ".ply": "ply", ".3mf": "3mf"}
 REPAIR_HINT = "repair it in CAD or a mesh tool (close the holes, export as a solid) and export again"
-
-
 MESH_ELEMENT = "mesh"  # the 3MF core specification's element holding vertices and triangles
+
 
 def read_mesh(path: Path, shown: str, scale: float | None, where: str):
     """(vertices (V, 3) m, faces (F, 3) int64) of a checked, outward-oriented closed mesh.
