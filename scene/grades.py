@@ -35,6 +35,7 @@ from pathlib import Path
 
 from trapscape.scene.errors import SceneError
 from trapscape.scene.names import did_you_mean
+from trapscape.scene.tomlfile import parse_toml
 
 BUILT_IN_SOURCE = "typical supplier datasheet ranges, from memory (not checked against IEC 60404-8-1)"
 
@@ -126,8 +127,6 @@ GRADE_KEYS = ("source", "remanence", "remanence_range", "coercivity_kA_per_m",
 
 def load_materials(path: Path, raw: bytes, shown: str) -> dict:
     """Upper-case name -> Grade from a user's materials file (already read as bytes)."""
-    from trapscape.scene.tomlfile import parse_toml
-
     document = parse_toml(raw, shown)
     unknown = [k for k in document if k != "grade"]
     if unknown:

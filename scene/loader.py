@@ -43,9 +43,16 @@ from trapscape.scene import reading
 from trapscape.scene.errors import SceneError, SceneWarning
 from trapscape.scene.expressions import evaluate_params
 from trapscape.scene.grades import built_in_grades, load_materials
-from trapscape.scene.measures import largest_dimension, scene_bounding_box
-from trapscape.scene.model import (CONSTRAINT_KINDS, Constraint, Probe, Scene, SearchBox,
-                         SteelPlate, frozen_array)
+from trapscape.scene.measures import extent_along, largest_dimension, scene_bounding_box
+from trapscape.scene.model import (
+    CONSTRAINT_KINDS,
+    Constraint,
+    Probe,
+    Scene,
+    SearchBox,
+    SteelPlate,
+    frozen_array,
+)
 from trapscape.scene.overlaps import overlapping_pairs
 from trapscape.scene.parts import read_magnets
 from trapscape.scene.probe_reading import read_probe
@@ -199,8 +206,6 @@ def _plates(ctx: Context, document, magnets) -> list:
 
 
 def _check_in_front(ctx, plate, magnets, where):
-    from trapscape.scene.measures import extent_along
-
     for magnet in magnets:
         low, _ = extent_along(magnet, plate.normal)
         behind = float(plate.normal @ plate.point) - low

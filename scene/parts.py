@@ -11,6 +11,7 @@ from trapscape.scene.errors import SceneError, SceneWarning
 from trapscape.scene.grades import find_grade
 from trapscape.scene.meshes import read_mesh
 from trapscape.scene.model import Magnet, frozen_array
+from trapscape.scene.names import did_you_mean
 from trapscape.scene.reading import Context
 from trapscape.scene.shapes import SHAPES, DimError
 from trapscape.scene.units import unit_scale
@@ -180,7 +181,6 @@ def _north(ctx, entry, shape, where):
             return None, word
         if word in AXIS_WORDS:
             return AXIS_WORDS[word].copy(), None
-        from trapscape.scene.names import did_you_mean
 
         hint = did_you_mean(word, list(AXIS_WORDS) + list(RADIAL))
         raise SceneError(f"{key_where}: \"{value}\" is not a direction{hint}; write an axis "

@@ -13,7 +13,13 @@ from pathlib import Path
 
 import numpy as np
 
+from trapscape.physics.analysis.results import tool_version
+from trapscape.physics.analysis.views import probe_energy_and_force
 from trapscape.scene.errors import SceneError
+from trapscape.viewers.layers import layer_module
+from trapscape.viewers.layers.annotations import title_lines
+from trapscape.viewers.layers.markers import table_rows
+from trapscape.viewers.render import RenderOptions, build_picture, colour_scale, prepare
 
 GEOMETRY_DEFAULTS = ("magnets", "markers", "wells", "isosurfaces", "hover")
 MAX_GRID_POINTS = 2_000_000  # beyond this the .vti grid is coarsened (said on stderr)
@@ -38,8 +44,6 @@ def format_of(path: str) -> str:
 
 
 def _stamp(ctx, dataset) -> None:
-    from trapscape.physics.analysis.results import tool_version
-
     dataset.field_data["length_unit"] = np.array([ctx.unit])
     dataset.field_data["metres_per_length_unit"] = np.array([ctx.scale])
     dataset.field_data["trapscape_version"] = np.array([tool_version()])
@@ -72,8 +76,6 @@ def grid_spacing(ctx, spacing=None, resolution=None) -> tuple[float, str | None]
 
 def field_grid(ctx, spacing: float):
     """ImageData over the search box (scene unit) with the field and probe arrays."""
-    from trapscape.physics.analysis.views import probe_energy_and_force
-
     lower, upper = ctx.box_bounds
     grid = ctx.sample_grid(lower, upper, spacing)
     del grid.point_data["B_abs_mT"]
@@ -97,8 +99,6 @@ def export_vti(ctx, path: str, spacing=None, resolution=None) -> list:
 
 def layer_geometry(ctx, layers) -> list:
     """[(layer, object name, PolyData)] of every chosen layer that has geometry."""
-    from trapscape.viewers.layers import layer_module
-
     pieces = []
     for layer in layers:
         for name, mesh in layer_module(layer).meshes(ctx).items():
@@ -160,8 +160,6 @@ def export_stl(ctx, path: str, layers) -> list:
 
 def export_html(ctx, path: str, options) -> list:
     """The scene view as one HTML file (vtk.js inside, no server, nothing fetched)."""
-    from trapscape.viewers.render import build_picture
-
     try:
         import trame_pyvista  # noqa: F401  (pyvista's HTML export goes through it)
     except ImportError:
@@ -185,8 +183,6 @@ def _add_page_text(ctx, path: str, options, legend) -> None:
     """Title, legend and equilibria as plain HTML over the 3D view (vtk.js draws no text)."""
     import html
 
-    from trapscape.viewers.layers.annotations import title_lines
-    from trapscape.viewers.layers.markers import table_rows
 
     title, subtitle = title_lines(ctx.scene, ctx.section)
     title = options.title or title
@@ -219,8 +215,6 @@ def _add_page_text(ctx, path: str, options, legend) -> None:
 def _css_colour_bar(ctx, options) -> str:
     """The |B| colour scale as a CSS gradient with five labelled stops (vtk.js's own bar shows
     a log scale's ticks wrongly)."""
-    from trapscape.viewers.render import colour_scale
-
     scale = colour_scale(ctx, options)
     low, high = scale.clim
     t = np.linspace(0.0, 1.0, 5)
@@ -244,8 +238,6 @@ def _css(colour) -> str:
 
 def export(ctx, path: str, layers=None, options=None, spacing=None, resolution=None) -> list:
     """Write `path` in the format its extension names; returns the files written."""
-    from trapscape.viewers.render import RenderOptions, prepare
-
     kind = format_of(path)
     check_writable(path)
     if kind == ".vti":

@@ -9,14 +9,13 @@ import numpy as np
 from trapscape.scene.measures import radial_sign
 from trapscape.scene.shapes import shape_of
 from trapscape.viewers.layers import style
+from trapscape.viewers.layers.magnets import world_meshes
 
 UP_THRESHOLD = 0.7  # |north . z| above this: the part shows a pole face from above
 
 
 def footprint_triangles(ctx, index: int) -> np.ndarray:
     """(T, 3, 2) the part's upward-facing triangles seen from above (x, y), scene unit."""
-    from trapscape.viewers.layers.magnets import world_meshes
-
     mesh = world_meshes(ctx)[index].triangulate().compute_normals(
         cell_normals=True, point_normals=False, split_vertices=False, consistent_normals=False)
     faces = np.asarray(mesh.faces).reshape(-1, 4)[:, 1:]
@@ -27,8 +26,6 @@ def footprint_triangles(ctx, index: int) -> np.ndarray:
 def silhouette_segments(ctx, index: int) -> np.ndarray:
     """(S, 2, 2) outline seen from above: edges between a face looking up and one that does
     not (derived here: the silhouette of a closed surface under a view along z)."""
-    from trapscape.viewers.layers.magnets import world_meshes
-
     mesh = world_meshes(ctx)[index].triangulate().compute_normals(
         cell_normals=True, point_normals=False, split_vertices=False, consistent_normals=False)
     mesh = mesh.clean()
@@ -162,7 +159,6 @@ def _side_arrows(ctx, index, magnet, anchor):
     if magnet.radial is None:
         north = R @ (magnet.north / np.linalg.norm(magnet.north))
         flat = north[:2] / (np.linalg.norm(north[:2]) or 1.0)
-        from trapscape.viewers.layers.magnets import world_meshes
 
         points = np.asarray(world_meshes(ctx)[index].points)
         reach = float(np.max((points[:, :2] - anchor) @ flat))

@@ -11,6 +11,22 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
+from trapscape.scene.errors import SceneError
+from trapscape.scene.names import did_you_mean, listing
+from trapscape.viewers.layers import layer_module
+from trapscape.viewers.layers.annotations import (
+    ColourScale,
+    Legend,
+    draw_scale_bar,
+    text_width,
+    title_lines,
+)
+from trapscape.viewers.layers.cutaway import hidden_parts
+from trapscape.viewers.layers.magnets import world_meshes
+from trapscape.viewers.layers.markers import draw_labels
+from trapscape.viewers.layers.section import choose_section
+from trapscape.viewers.layers.style import BACKGROUND, TEXT
+
 CAMERAS = {  # preset -> (direction from the focal point to the camera, view up)
     "iso": ((1.0, -1.0, 0.8), (0.0, 0.0, 1.0)),
     "front": ((0.0, -1.0, 0.0), (0.0, 0.0, 1.0)),
@@ -48,9 +64,6 @@ class RenderOptions:
 def view_vectors(camera: str):
     """(direction to the camera, up, right), unit vectors."""
     if camera not in CAMERAS:
-        from trapscape.scene.errors import SceneError
-        from trapscape.scene.names import did_you_mean, listing
-
         raise SceneError(f"--camera {camera!r} is not a preset{did_you_mean(camera, CAMERAS)}; "
                          f"choose {listing(CAMERAS)}.")
     direction, up = (np.asarray(v, float) for v in CAMERAS[camera])
@@ -74,16 +87,12 @@ def prepare(ctx, options: RenderOptions) -> None:
     ctx.iso_levels_T = options.iso_levels_T
     ctx.cutaway = options.cutaway
     if "section" in options.layers:
-        from trapscape.viewers.layers.section import choose_section
-
         ctx.section = choose_section(ctx, direction, options.section_axis, options.section_level)
     else:
         ctx.section = None
 
 
 def colour_scale(ctx, options):
-    from trapscape.viewers.layers.annotations import ColourScale
-
     low, high = ctx.B_range_mT
     if not options.log_scale:
         low = 0.0
@@ -112,11 +121,6 @@ def build_picture(ctx, options: RenderOptions, off_screen: bool = True, overlay:
         prefer_egl()
     import pyvista as pv
 
-    from trapscape.viewers.layers import layer_module
-    from trapscape.viewers.layers.annotations import Legend
-    from trapscape.viewers.layers.cutaway import hidden_parts
-    from trapscape.viewers.layers.magnets import world_meshes
-    from trapscape.viewers.layers.style import BACKGROUND
 
     prepare(ctx, options)
     plotter = pv.Plotter(off_screen=off_screen, window_size=list(options.size))
@@ -142,8 +146,6 @@ def build_picture(ctx, options: RenderOptions, off_screen: bool = True, overlay:
     picture.world_per_pixel = _frame(plotter, ctx, options, layout)
     picture.layout = layout
     if "markers" in options.layers:
-        from trapscape.viewers.layers.markers import draw_labels
-
         draw_labels(plotter, ctx, picture.world_per_pixel, layout.content[1])
     if annotations == "html":
         _annotate_html(plotter, ctx, options, legend, scale)
@@ -225,8 +227,6 @@ class Layout:
 
 
 def plan_layout(plotter, ctx, options, legend) -> Layout:
-    from trapscape.viewers.layers.annotations import text_width
-
     width, height = options.size
     layout = Layout(width=width, height=height, font=ctx.font_size)
     if options.title != "":
@@ -276,14 +276,9 @@ def _frame(plotter, ctx, options, layout: Layout) -> float:
 
 
 def _annotate(plotter, ctx, options, legend, scale, layout: Layout, world_per_pixel) -> None:
-    from trapscape.viewers.layers.annotations import draw_scale_bar, title_lines
-    from trapscape.viewers.layers.style import TEXT
-
     width, height = options.size
     font = ctx.font_size
     if options.title != "":
-        from trapscape.viewers.layers.annotations import text_width
-
         title, subtitle = title_lines(ctx.scene, ctx.section)
         title = options.title or title
         top = height - 0.015 * height
@@ -333,9 +328,6 @@ def _annotate_html(plotter, ctx, options, legend, scale) -> None:
 
 def _draw_table(plotter, rows, left, top, font, floor) -> None:
     """The equilibria, one per line, as many as fit above `floor` (pixels)."""
-    from trapscape.viewers.layers.annotations import text_width
-    from trapscape.viewers.layers.style import TEXT
-
     room = plotter.window_size[0] - left - 4
     widest = max(rows + ["Equilibria (firmest first)"], key=len)
     while font > 6 and text_width(plotter, widest, font) > room:  # shrink rather than clip
@@ -365,8 +357,6 @@ def render_png(ctx, options: RenderOptions, path: str) -> str:
 def show_window(ctx, options: RenderOptions) -> None:
     """The interactive window with the same layers (needs a display)."""
     if not os.environ.get("DISPLAY") and os.name != "nt" and not os.environ.get("WAYLAND_DISPLAY"):
-        from trapscape.scene.errors import SceneError
-
         raise SceneError("--show needs a display and none is set (DISPLAY is empty); "
                          "write a picture with -o OUT.png instead.")
     picture = build_picture(ctx, replace(options), off_screen=False)

@@ -15,6 +15,8 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from trapscape.physics.analysis.results import json_ready
+from trapscape.physics.analysis.run import load_analysis
+from trapscape.physics.field import engine
 from trapscape.scene.errors import SceneError
 
 KINDS = ("check", "traps", "hold", "field")
@@ -74,8 +76,6 @@ def run_job(job: Job) -> dict:
         ``{"scene": path, "overrides": [...], <kind>: payload for each kind computed}``, JSON-
         ready; a user error (SceneError) gives ``"error": its sentence`` instead of payloads.
     """
-    from trapscape.physics.analysis.run import load_analysis
-
     result = {"scene": str(job.scene), "overrides": list(job.overrides)}
     try:
         analysis = load_analysis(job.scene, job.overrides)
@@ -109,8 +109,6 @@ def run_job_in_worker(job: Job) -> dict:
     dict
         As `run_job`.
     """
-    from trapscape.physics.field import engine
-
     with engine.in_process_mode():
         return run_job(job)
 
@@ -132,8 +130,6 @@ def run_batch(jobs, executor=None) -> list:
     """
     jobs = list(jobs)
     if executor is None:
-        from trapscape.physics.field import engine
-
         with engine.in_process_mode():
             return [run_job(job) for job in jobs]
     futures = [executor.submit(run_job_in_worker, job) for job in jobs]

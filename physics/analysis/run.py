@@ -7,7 +7,20 @@ from functools import cached_property
 
 import numpy as np
 
+from trapscape.physics.analysis.holding import hold_analysis
+from trapscape.physics.analysis.results import (
+    check_json,
+    hold_json,
+    json_ready,
+    stamp,
+    traps_json,
+)
+from trapscape.physics.field.model import FieldModel
+from trapscape.physics.probe.laws import PointProbe, ProbeLaw
+from trapscape.physics.traps.scan import SearchSetupError
+from trapscape.physics.traps.search import find_traps
 from trapscape.scene.errors import SceneError
+from trapscape.scene.loader import load_scene, parse_overrides
 from trapscape.scene.units import MU0
 
 
@@ -41,8 +54,6 @@ def load_analysis(path, overrides=()) -> "Analysis":
     SceneError
         The file cannot be read or is not a valid scene, or an override is malformed.
     """
-    from trapscape.scene.loader import load_scene, parse_overrides
-
     if not isinstance(overrides, dict):
         overrides = parse_overrides(list(overrides))
     return Analysis(load_scene(path, overrides=overrides))
@@ -69,15 +80,11 @@ class Analysis:
     @cached_property
     def model(self):
         """The scene's FieldModel (built on first use)."""
-        from trapscape.physics.field.model import FieldModel
-
         return FieldModel.from_scene(self.scene)
 
     @cached_property
     def point_probe(self):
         """The scene's probe as a point model on the field model (physics.probe.laws)."""
-        from trapscape.physics.probe.laws import PointProbe, ProbeLaw
-
         return PointProbe(self.model, ProbeLaw.from_scene(self.scene))
 
     def traps(self, progress=None):
@@ -93,9 +100,6 @@ class Analysis:
         trapscape.physics.traps.search.TrapReport
         """
         if self._traps is None:
-            from trapscape.physics.traps.scan import SearchSetupError
-            from trapscape.physics.traps.search import find_traps
-
             try:
                 self._traps = find_traps(self.model, self.scene, progress=progress)
             except SearchSetupError as error:
@@ -125,8 +129,6 @@ class Analysis:
         SceneError
             See physics.analysis.holding.hold_analysis.
         """
-        from trapscape.physics.analysis.holding import hold_analysis
-
         gaps = tuple(float(g) for g in np.asarray(gaps_m, float).ravel())
         key = (gaps, part, plate, friction)
         if key not in self._holds:
@@ -163,8 +165,6 @@ class Analysis:
         dict
             physics.analysis.results.check_json, stamped and JSON-ready.
         """
-        from trapscape.physics.analysis.results import check_json, json_ready, stamp
-
         return json_ready(stamp(self.scene, check_json(self.scene)))
 
     def traps_result(self, progress=None) -> dict:
@@ -180,8 +180,6 @@ class Analysis:
         dict
             physics.analysis.results.traps_json, stamped and JSON-ready.
         """
-        from trapscape.physics.analysis.results import json_ready, stamp, traps_json
-
         return json_ready(stamp(self.scene, traps_json(self.traps(progress), self.scene)))
 
     def hold_result(self, gaps_m, part=None, plate=None, friction=None, progress=None) -> dict:
@@ -197,7 +195,5 @@ class Analysis:
         dict
             physics.analysis.results.hold_json, stamped and JSON-ready.
         """
-        from trapscape.physics.analysis.results import hold_json, json_ready, stamp
-
         result = self.hold(gaps_m, part=part, plate=plate, friction=friction, progress=progress)
         return json_ready(stamp(self.scene, hold_json(self.scene, result)))

@@ -7,6 +7,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from trapscape.physics.probe.laws import ProbeLaw, allowed_basis, projected_force
 from trapscape.scene.units import MU0
 
 CLASSES = ("stable", "saddle", "unstable", "marginal")
@@ -45,8 +46,6 @@ def probe_words(scene) -> ProbeWords:
     -------
     ProbeWords
     """
-    from trapscape.physics.probe.laws import ProbeLaw
-
     law = ProbeLaw.from_scene(scene)
     return ProbeWords(noun=law.noun, subject=law.subject, hovers=law.weakly_magnetic)
 
@@ -142,8 +141,6 @@ def allowed_force(scene, force) -> np.ndarray:
     -------
     numpy.ndarray, shape (N, 3)
     """
-    from trapscape.physics.probe.laws import allowed_basis, projected_force
-
     return projected_force(force, allowed_basis(scene.constraint))
 
 

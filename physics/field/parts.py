@@ -3,8 +3,16 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.physics.field.dipoles import cell_size_for, discretise
+from trapscape.physics.field.equivalent import CHECK_RADIUS, fit_equivalent_dipoles
+from trapscape.physics.field.polyhedron import polyhedron_H
 from trapscape.physics.field.sources import Source
-from trapscape.scene.measures import body_magnetization, magnetization_vector, smallest_dimension
+from trapscape.scene.errors import SceneError
+from trapscape.scene.measures import (
+    body_magnetization,
+    magnetization_vector,
+    smallest_dimension,
+)
 from trapscape.scene.measures import volume as part_volume
 from trapscape.scene.shapes import shape_of
 from trapscape.scene.shapes.frames import to_body
@@ -83,7 +91,6 @@ def default_cell_size(magnet, accuracy: float) -> float:
     a size a laptop builds in seconds (their accuracy then holds from about half a wall)."""
     if magnet.cell_size:
         return float(magnet.cell_size)
-    from trapscape.physics.field.dipoles import cell_size_for
 
     smallest = smallest_dimension(magnet)
     if magnet.radial:
@@ -92,8 +99,6 @@ def default_cell_size(magnet, accuracy: float) -> float:
 
 
 def _dipole_source(magnet, index, accuracy) -> Source:
-    from trapscape.physics.field.dipoles import discretise
-
     inside, sdf = _inside_tests(magnet)
     cell = default_cell_size(magnet, accuracy)
     lower, upper = body_bounds(magnet)
@@ -105,7 +110,6 @@ def _dipole_source(magnet, index, accuracy) -> Source:
                                            part_volume(magnet), sdf=sdf,
                                            subsamples=MESH_SUBSAMPLES if sdf is None else 4)
     except ValueError as error:  # e.g. a cell_size so small the lattice would not fit
-        from trapscape.scene.errors import SceneError
 
         raise SceneError(f"magnet '{magnet.name}' ({magnet.origin or 'scene'}): cannot build its "
                          f"dipole set: {error}.") from None
@@ -123,8 +127,6 @@ def _dipole_source(magnet, index, accuracy) -> Source:
 def _equivalent_source(magnet, index) -> Source:
     """A many-triangle mesh: its exact form within CHECK_RADIUS circumradii of its centre, and
     beyond that equivalent dipoles fitted to it (physics/equivalent.py), far cheaper per point."""
-    from trapscape.physics.field.equivalent import CHECK_RADIUS, fit_equivalent_dipoles
-
     exact = _exact_source(magnet, index)
     vertices, faces = body_mesh(magnet)
     centre = 0.5 * (vertices.min(axis=0) + vertices.max(axis=0))
@@ -132,8 +134,6 @@ def _equivalent_source(magnet, index) -> Source:
     M = exact.magnetization
 
     def exact_H(body_points):
-        from trapscape.physics.field.polyhedron import polyhedron_H
-
         return polyhedron_H(body_points, vertices, faces, M)
 
     positions, moments, _ = fit_equivalent_dipoles(exact_H, centre, circumradius)

@@ -12,6 +12,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from trapscape.physics.field.sphere import sphere_H, sphere_H_gradient
 
 # shape -> (module, function stem) of the body-frame closed form (DEVELOPERS.md, Closed forms)
 CLOSED_FORMS = {
@@ -109,8 +110,6 @@ class Source:
 
 def point_dipole(points, center, moment, gradient=False):
     """Field of a point dipole (Jackson, Classical Electrodynamics, eq. 5.56) and its gradient."""
-    from trapscape.physics.field.sphere import sphere_H, sphere_H_gradient
-
     # A sphere of vanishing size is exactly a point dipole outside; reuse its tested formula.
     tiny = 1e-12
     volume = np.pi * tiny**3 / 6.0

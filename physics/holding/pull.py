@@ -25,6 +25,14 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from trapscape.physics.field.model import FieldModel
+from trapscape.physics.field.parts import bounding_diagonal
+from trapscape.physics.holding.forces import (
+    force_on_part,
+    lowest_point,
+    torque_reference,
+)
+from trapscape.physics.holding.saturation import footprint, plate_flux_density
 from trapscape.scene.model import frozen_array
 
 PEEL_DIRECTIONS = 180
@@ -74,8 +82,6 @@ def moving_parts(scene, part: str | None = None) -> list[int]:
 
 def current_gap(scene, moving, plate) -> float:
     """Distance from the plate's face to the nearest surface of the moving parts, m."""
-    from trapscape.physics.holding.forces import lowest_point
-
     face = float(np.asarray(plate.point) @ plate.normal)
     return min(lowest_point(scene.magnets[i], plate.normal) for i in moving) - face
 
@@ -92,9 +98,6 @@ def placed_at_gap(scene, moving, plate, gap: float):
 def force_and_torque(scene, moving, about, rtol: float = 1e-6):
     """Force (3,) N on the moving parts and torque (3,) N m about the point `about` (see the
     module docstring for which sources act), with the field model used."""
-    from trapscape.physics.field.model import FieldModel
-    from trapscape.physics.holding.forces import force_on_part, torque_reference
-
     model = FieldModel.from_scene(scene)
     whole = len(moving) == len(scene.magnets)
     force, torque = np.zeros(3), np.zeros(3)
@@ -130,8 +133,6 @@ def _reference_point(scene, moving, plate) -> np.ndarray:
 
 def hold_at(scene, moving, plate, shadow, gap: float, friction=None, rtol: float = 1e-6) -> HoldRow:
     """One row of the pull curve at one gap (m)."""
-    from trapscape.physics.holding.saturation import plate_flux_density
-
     placed = placed_at_gap(scene, moving, plate, gap)
     about = _reference_point(placed, moving, plate)
     force, torque, model = force_and_torque(placed, moving, about, rtol)
@@ -159,8 +160,6 @@ def pull_curve(scene, gaps, part=None, friction=None, progress=None, plate=None,
                rtol: float = 1e-6) -> list[HoldRow]:
     """The pull (and slip, peel torque, saturation estimate) at each gap (m) of the whole
     assembly, or of one named part, on the nearest (or the named) steel plate."""
-    from trapscape.physics.holding.saturation import footprint
-
     gaps = checked_gaps(gaps, friction)
     moving = moving_parts(scene, part)
     _, chosen = choose_plate(scene, plate, moving)
@@ -176,10 +175,6 @@ def pull_curve(scene, gaps, part=None, friction=None, progress=None, plate=None,
 def saturation_onset_gap(scene, part=None, plate=None, relative: float = 1e-3) -> float | None:
     """The gap (m) below which the plate-saturation warning holds (None: never, even in
     contact). The estimate falls with the gap; found by bisection."""
-    from trapscape.physics.field.model import FieldModel
-    from trapscape.physics.field.parts import bounding_diagonal
-    from trapscape.physics.holding.saturation import footprint, plate_flux_density
-
     moving = moving_parts(scene, part)
     _, chosen = choose_plate(scene, plate, moving)
     shadow = footprint([scene.magnets[i] for i in moving], chosen)

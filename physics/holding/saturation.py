@@ -21,6 +21,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from trapscape.physics.field.parts import body_bounds, part_sdf
+from trapscape.physics.holding.forces import lowest_point
 from trapscape.scene.shapes.frames import box_corners, perpendicular_pair, to_world
 
 FOOTPRINT_NODES = 96  # grid nodes on the longer side of the footprint's box
@@ -72,9 +74,6 @@ def plate_axes(normal) -> np.ndarray:
 
 def footprint(magnets, plate, nodes: int = FOOTPRINT_NODES) -> Footprint:
     """The shadow of the given parts on the plate, projected along its normal."""
-    from trapscape.physics.holding.forces import lowest_point
-    from trapscape.physics.field.parts import part_sdf
-
     n = np.asarray(plate.normal, float)
     axes = plate_axes(n)
     origin = np.asarray(plate.point, float) - (np.asarray(plate.point, float) @ axes.T) @ axes
@@ -105,8 +104,6 @@ def footprint(magnets, plate, nodes: int = FOOTPRINT_NODES) -> Footprint:
 
 def _projected_box(magnet, axes):
     """(lower (2,), upper (2,)): the part's body box projected on the plate axes."""
-    from trapscape.physics.field.parts import body_bounds
-
     lower, upper = body_bounds(magnet)
     flat = to_world(box_corners(lower, upper), magnet.position, magnet.rotation) @ axes.T
     return flat.min(axis=0), flat.max(axis=0)

@@ -26,6 +26,7 @@ from scipy.integrate import lebedev_rule
 from scipy.special import roots_jacobi
 
 from trapscape.physics.probe.models import ProbeModel
+from trapscape.scene.units import MU0
 
 DEFAULT_DEGREE = 7
 LEBEDEV_ORDERS = (3, 5, 7, 9, 11, 13, 15, 17, 19, 21, 23, 25, 27, 29, 31)
@@ -238,8 +239,6 @@ class MultipoleProbe(ProbeModel):
 
     def magnetic_energy_and_force(self, points):
         """Exact magnetic U (N,) in J and F (N, 3) in N of the linear sphere at (N, 3) m."""
-        from trapscape.scene.units import MU0
-
         h, dh = self._coefficients(points)
         scale = -0.5 * MU0 * self.radius**3
         U = scale * (np.abs(h) ** 2) @ self.weights

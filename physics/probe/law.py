@@ -15,6 +15,7 @@ from typing import ClassVar
 
 import numpy as np
 
+from trapscape.physics.probe.finite import AveragedProbe
 from trapscape.physics.probe.registry import law_class
 
 
@@ -177,8 +178,6 @@ class ProbeLaw(ABC):
         trapscape.physics.probe.models.ProbeModel or None
             This default: the volume average (physics.probe.finite.AveragedProbe).
         """
-        from trapscape.physics.probe.finite import AveragedProbe
-
         return AveragedProbe(field_model, self)
 
     # -- what the trap search and the views say about it ----------------------------------------

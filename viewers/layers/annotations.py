@@ -107,8 +107,6 @@ class Legend:
 
     def draw(self, plotter, left: float, top: float, width: float, font_size: int) -> None:
         """left, top, width in pixels of the panel (display coordinates, y up)."""
-        from trapscape.viewers.layers import style
-
         if not self.entries:
             return
         row = font_size * 2.6

@@ -11,7 +11,9 @@ from functools import cached_property
 
 import numpy as np
 
+from trapscape.physics.analysis.run import Analysis
 from trapscape.physics.analysis.views import field_samples, headline_of, trap_markers
+from trapscape.viewers.layers.magnets import world_meshes
 
 AXIS_NAMES = ("x", "y", "z")
 
@@ -50,8 +52,6 @@ class ViewContext:
     def of(cls, analysis, traps: bool = True, **options) -> "ViewContext":
         """The context of a view of `analysis` (an Analysis, or a Scene to analyse); with
         traps, the analysis finds them first (once: it keeps the report)."""
-        from trapscape.physics.analysis.run import Analysis
-
         if not isinstance(analysis, Analysis):
             analysis = Analysis(analysis)
         return cls(analysis, trap_report=analysis.traps() if traps else None, **options)
@@ -93,8 +93,6 @@ class ViewContext:
 
     @cached_property
     def magnet_bounds(self) -> np.ndarray:
-        from trapscape.viewers.layers.magnets import world_meshes
-
         meshes = world_meshes(self)
         if not meshes:
             return self.box_bounds

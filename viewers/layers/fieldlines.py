@@ -4,6 +4,8 @@ from __future__ import annotations
 import numpy as np
 
 from trapscape.viewers.layers import style
+from trapscape.viewers.layers.cutaway import active, kept_side
+from trapscape.viewers.layers.magnets import world_meshes
 
 SEEDS_PER_PART = 10
 MAX_SEEDS = 240
@@ -12,7 +14,6 @@ MAX_SEEDS = 240
 def seeds(ctx):
     import pyvista as pv
 
-    from trapscape.viewers.layers.magnets import world_meshes
 
     meshes = world_meshes(ctx)
     per_part = max(2, min(SEEDS_PER_PART, MAX_SEEDS // max(len(meshes), 1)))
@@ -68,8 +69,6 @@ def meshes(ctx) -> dict:
 
 
 def draw(plotter, ctx, legend, colour_scale) -> None:
-    from trapscape.viewers.layers.cutaway import active, kept_side
-
     traced = lines(ctx)
     if traced is None:
         ctx.note("fieldlines: no north face to seed field lines from.")

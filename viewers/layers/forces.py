@@ -8,6 +8,7 @@ import numpy as np
 from trapscape.physics.analysis.views import allowed_force, probe_energy_and_force
 from trapscape.scene.shapes.frames import perpendicular_pair
 from trapscape.viewers.layers import style
+from trapscape.viewers.layers.guide import line_through_box, plane_in_box
 from trapscape.viewers.layers.traps_data import describe_force
 
 LATTICE_FREE = 9  # points on the longest side of the box
@@ -20,16 +21,12 @@ def lattice(ctx) -> np.ndarray:
     lower, upper = ctx.box_bounds
     constraint = ctx.scene.constraint
     if constraint.kind == "line":
-        from trapscape.viewers.layers.guide import line_through_box
-
         chord = line_through_box(ctx, ctx.to_units(constraint.point), constraint.direction)
         if chord is None:
             return np.zeros((0, 3))
         t = (np.arange(LATTICE_LINE) + 0.5) / LATTICE_LINE
         return chord[0] + t[:, None] * (chord[1] - chord[0])
     if constraint.kind == "plane":
-        from trapscape.viewers.layers.guide import plane_in_box
-
         polygon = plane_in_box(ctx, ctx.to_units(constraint.point), constraint.direction)
         if polygon is None:
             return np.zeros((0, 3))

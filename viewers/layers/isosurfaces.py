@@ -5,7 +5,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.scene.errors import SceneError
 from trapscape.scene.units import MU0
+from trapscape.viewers.layers.cutaway import active, towards_camera
 
 NICE = (1.0, 2.0, 5.0)
 QUANTILES = (0.8, 0.93, 0.985)  # of |B| over the free part of the box: wide, middle, close shells
@@ -42,8 +44,6 @@ def auto_levels_T(ctx) -> list:
 
 def parse_levels(text: str) -> list:
     """'20,50mT,0.1T,1000J/m3' -> |B| levels in T (a bare number is mT)."""
-    from trapscape.scene.errors import SceneError
-
     levels = []
     for item in (t.strip() for t in text.split(",") if t.strip()):
         lowered = item.lower().replace(" ", "")
@@ -92,8 +92,6 @@ def meshes(ctx) -> dict:
 
 
 def draw(plotter, ctx, legend, colour_scale) -> None:
-    from trapscape.viewers.layers.cutaway import active, towards_camera
-
     levels = getattr(ctx, "iso_levels_T", None) or auto_levels_T(ctx)
     shells = surfaces(ctx, levels)
     if not shells:

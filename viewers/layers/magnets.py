@@ -7,6 +7,7 @@ import numpy as np
 from trapscape.scene.measures import body_magnetization, radial_sign
 from trapscape.scene.shapes import shape_of
 from trapscape.viewers.layers import style
+from trapscape.viewers.layers.cutaway import cut_part, kept_side
 
 DRAWING_SEGMENTS = 64  # facets of a drawn full turn (cylinders, rings, arcs) and sphere rings
 POLARITY_TOLERANCE = 0.5  # a face is a pole face when its normal is within 60 degrees of M
@@ -155,8 +156,6 @@ def meshes(ctx) -> dict:
 
 def draw(plotter, ctx, legend, hidden=()) -> None:
     """hidden: indices of parts cut away for the section (drawn as faint outlines)."""
-    from trapscape.viewers.layers.cutaway import cut_part
-
     any_radial = False
     for index, (magnet, mesh) in enumerate(zip(ctx.scene.magnets, world_meshes(ctx))):
         if index in hidden:
@@ -177,8 +176,6 @@ def draw(plotter, ctx, legend, hidden=()) -> None:
 
 
 def _in_kept_half(ctx, glyph) -> bool:
-    from trapscape.viewers.layers.cutaway import kept_side
-
     return bool(np.all(kept_side(ctx, np.asarray(glyph.points)) >= 0))
 
 

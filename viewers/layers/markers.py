@@ -7,6 +7,8 @@ import numpy as np
 
 from trapscape.scene.shapes.frames import frame_along
 from trapscape.viewers.layers import style
+from trapscape.viewers.layers.annotations import text_width
+from trapscape.viewers.layers.screen import world_to_pixels
 from trapscape.viewers.layers.traps_data import describe_force, describe_position
 
 FULL_LABELS = 4  # with more equilibria than this, markers carry their number and class only
@@ -159,9 +161,6 @@ def draw(plotter, ctx, legend, overlay=None) -> None:
 def draw_labels(plotter, ctx, world_per_pixel: float, right_edge_px: float) -> None:
     """After the camera is set: labels to the right of their markers, or to the left where the
     label would run past the content's right edge (into the legend)."""
-    from trapscape.viewers.layers.screen import world_to_pixels
-    from trapscape.viewers.layers.annotations import text_width
-
     pending = getattr(ctx, "pending_labels", [])
     if not pending:
         return

@@ -9,6 +9,7 @@ import numpy as np
 
 from trapscape.viewers.layers import style
 from trapscape.viewers.layers.context import Section
+from trapscape.viewers.layers.cutaway import towards_camera
 
 PREFERENCE = (1, 0, 2)  # y, then x, then z: the front view first
 SEPARATION = 11  # cells between neighbouring 2D field lines (of about 220 on the long side)
@@ -150,8 +151,6 @@ def meshes(ctx) -> dict:
 
 
 def draw(plotter, ctx, legend, colour_scale) -> None:
-    from trapscape.viewers.layers.cutaway import towards_camera
-
     surface = field_map(ctx)
     if surface is None:
         ctx.note("section: the section plane lies wholly inside magnets or behind a plate.")

@@ -9,6 +9,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from trapscape.physics.probe.finite import MultipoleProbe
 from trapscape.physics.probe.law import ProbeLaw
 from trapscape.physics.probe.susceptibility import effective_susceptibility
 from trapscape.scene.units import MU0
@@ -84,8 +85,6 @@ class InducedLaw(ProbeLaw):
 
     def finite_model(self, field_model, positions=None):
         """The exact linear sphere (physics.probe.finite.MultipoleProbe)."""
-        from trapscape.physics.probe.finite import MultipoleProbe
-
         return MultipoleProbe(field_model, self)
 
 

@@ -10,6 +10,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from trapscape.physics.probe.finite import AveragedProbe, MultipoleProbe
 from trapscape.physics.probe.kinds.induced import InducedLaw, grad_half_B2
 from trapscape.physics.probe.registry import register
 from trapscape.scene.units import MU0
@@ -139,8 +140,6 @@ class SoftLaw(InducedLaw):
         -------
         trapscape.physics.probe.finite.MultipoleProbe or AveragedProbe
         """
-        from trapscape.physics.probe.finite import AveragedProbe, MultipoleProbe
-
         exact = MultipoleProbe(field_model, self)
         if self.saturation is None or positions is None or len(positions) == 0:
             return exact

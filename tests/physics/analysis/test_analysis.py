@@ -13,11 +13,11 @@ from trapscape.scene.errors import SceneError
 
 
 def test_traps_are_found_once_and_shared(monkeypatch):
-    import trapscape.physics.traps.search as search
+    import trapscape.physics.analysis.run as run
 
     calls = []
-    real = search.find_traps
-    monkeypatch.setattr(search, "find_traps", lambda *a, **k: calls.append(1) or real(*a, **k))
+    real = run.find_traps
+    monkeypatch.setattr(run, "find_traps", lambda *a, **k: calls.append(1) or real(*a, **k))
     analysis = load_analysis(SAMPLES / "bead_chip.toml")
     first = analysis.traps()
     assert analysis.traps() is first and analysis.traps_result() == analysis.traps_result()
