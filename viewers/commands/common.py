@@ -8,7 +8,6 @@ import sys
 import threading
 from pathlib import Path
 
-from trapscape.physics.analysis.results import json_ready
 from trapscape.scene.errors import SceneError
 
 
@@ -76,6 +75,8 @@ def replaced_atomically(path, newline=None):
 
 def write_json(path: str, payload: dict) -> None:
     """The payload as JSON, written to a temporary file beside `path` and moved into place."""
+    from trapscape.physics.analysis.results import json_ready  # lazy: the parser starts fast
+
     text = json.dumps(json_ready(payload), indent=2, allow_nan=False) + "\n"
     with replaced_atomically(path) as stream:
         stream.write(text)

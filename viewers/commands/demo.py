@@ -6,7 +6,6 @@ from __future__ import annotations
 import warnings
 from pathlib import Path
 
-from trapscape.physics.analysis.views import probe_words
 from trapscape.scene.errors import SceneError
 
 DEMO_SAMPLE = "level_gauge.toml"
@@ -96,6 +95,8 @@ def headline_sentence(ctx) -> str:
     from trapscape.viewers.layers.traps_data import describe_force, describe_position
 
     scene = ctx.scene
+    from trapscape.physics.analysis.views import probe_words
+
     probe = probe_words(scene).subject
     headline = ctx.headline
     if headline is None:

@@ -6,8 +6,6 @@ import re
 
 import numpy as np
 
-from trapscape.physics.analysis.results import HOLD_CAUTIONS as CAUTIONS
-from trapscape.physics.analysis.results import HOLD_NOTES as NOTES
 from trapscape.scene.errors import SceneError
 from trapscape.viewers.commands.common import add_scene_arguments, analysis_from_args, progress, write_json
 
@@ -85,9 +83,11 @@ def _print_table(scene, rows, plate, args, onset):
     else:
         print(f"saturation: the plate is expected to saturate below a gap of about {onset:.3g} "
               f"{unit}; there the real pull is lower than shown.")
-    for note in NOTES:
+    from trapscape.physics.analysis.results import HOLD_CAUTIONS, HOLD_NOTES
+
+    for note in HOLD_NOTES:
         print(f"note: {note}")
-    for caution in CAUTIONS:
+    for caution in HOLD_CAUTIONS:
         print(f"caution: {caution}")
 
 

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import importlib
 
-from trapscape.physics.analysis.views import probe_words
 from trapscape.scene.errors import SceneError
 from trapscape.scene.names import did_you_mean, listing
 
@@ -27,6 +26,8 @@ def default_layers(scene) -> tuple:
     """What a customer reads at a glance; for a free diamagnetic probe under gravity the hover
     sheet is where it floats, so it is part of the default picture too."""
     chosen = set(BASE_DEFAULTS)
+    from trapscape.physics.analysis.views import probe_words  # lazy: the parser starts fast
+
     constraint = scene.constraint
     gravity = float((scene.gravity**2).sum()) > 0
     if probe_words(scene).hovers and constraint.kind == "free" and gravity:
