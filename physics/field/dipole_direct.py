@@ -20,7 +20,35 @@ _INV_4PI = 1.0 / (4.0 * math.pi)
 
 
 def direct_dipole_H(targets, positions, moments, gradient=False):
-    """H (N, 3) by the direct sum, and with gradient=True also dH_i/dx_j (N, 3, 3)."""
+    """H of point dipoles at the targets by the direct sum, and optionally its gradient.
+
+    Parameters
+    ----------
+    targets : array_like, shape (N, 3)
+        Evaluation points, m.
+    positions : array_like, shape (K, 3)
+        Dipole positions, m.
+    moments : array_like, shape (K, 3)
+        Dipole moments, A m^2.
+    gradient : bool
+        Also return dH_i/dx_j.
+
+    Returns
+    -------
+    H : numpy.ndarray, shape (N, 3)
+        A/m; a source closer than COINCIDENT_M to a target is skipped for that target.
+    G : numpy.ndarray, shape (N, 3, 3)
+        Only with gradient=True: G[n, i, j] = dH_i/dx_j, A/m^2.
+
+    Raises
+    ------
+    ValueError
+        An argument that is not of shape (N, 3) (as_points).
+
+    References
+    ----------
+    J. D. Jackson, Classical Electrodynamics, 3rd ed., eq. 5.56; the gradient derived here.
+    """
     targets, positions, moments = as_points(targets), as_points(positions), as_points(moments)
     source_columns = tuple(np.ascontiguousarray(c) for c in (*positions.T, *moments.T))
     if gradient:
@@ -30,6 +58,23 @@ def direct_dipole_H(targets, positions, moments, gradient=False):
 
 
 def as_points(a) -> np.ndarray:
+    """An array of points or vectors as a C-contiguous float64 array of shape (N, 3).
+
+    Parameters
+    ----------
+    a : array_like, shape (N, 3)
+        Points or vectors, any unit (kept as it is).
+
+    Returns
+    -------
+    numpy.ndarray, shape (N, 3)
+        float64, C-contiguous (``a`` itself when it already is).
+
+    Raises
+    ------
+    ValueError
+        When ``a`` is not two-dimensional with three columns.
+    """
     a = np.ascontiguousarray(a, dtype=np.float64)
     if a.ndim != 2 or a.shape[1] != 3:
         raise ValueError(f"expected an array of shape (N, 3), got {a.shape}")
@@ -37,7 +82,18 @@ def as_points(a) -> np.ndarray:
 
 
 def symmetric_from_six(G6: np.ndarray) -> np.ndarray:
-    """(N, 6) ordered xx, yy, zz, xy, xz, yz -> (N, 3, 3)."""
+    """The full symmetric 3 x 3 tensors from their six independent components.
+
+    Parameters
+    ----------
+    G6 : numpy.ndarray, shape (N, 6)
+        Components ordered xx, yy, zz, xy, xz, yz; any unit (A/m^2 for dH/dx).
+
+    Returns
+    -------
+    numpy.ndarray, shape (N, 3, 3)
+        The symmetric tensors, same unit.
+    """
     index = np.array([[0, 3, 4], [3, 1, 5], [4, 5, 2]])
     return G6[:, index]
 

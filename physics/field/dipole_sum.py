@@ -32,11 +32,41 @@ FMM_COSTS = {  # eps: (per source, per target for H, per target for H and dH/dx)
 
 
 def dipole_H(targets, positions, moments, gradient=False, method="auto", eps=1e-6):
-    """H (N, 3) of the dipoles at the targets, and with gradient=True also (N, 3, 3) = dH_i/dx_j.
+    """H of point dipoles at the targets, and optionally its gradient, by the cheaper method.
 
-    method: "direct" (numba, exact to rounding), "fmm" (fmm3dpy to tolerance eps, relative to the
-    field scale of the whole set; see physics/fmm.py for what that means at weak-field targets),
-    or "auto" (whichever the cost model above says is cheaper).
+    Parameters
+    ----------
+    targets : array_like, shape (N, 3)
+        Evaluation points, m.
+    positions : array_like, shape (K, 3)
+        Dipole positions, m.
+    moments : array_like, shape (K, 3)
+        Dipole moments, A m^2.
+    gradient : bool
+        Also return dH_i/dx_j.
+    method : {"auto", "direct", "fmm"}
+        "direct" (numba, exact to rounding), "fmm" (fmm3dpy to tolerance eps, relative to the
+        field scale of the whole set; see physics/field/fmm.py for what that means at weak-field
+        targets), or "auto" (whichever the cost model above says is cheaper).
+    eps : float
+        The FMM's requested relative precision (dimensionless).
+
+    Returns
+    -------
+    H : numpy.ndarray, shape (N, 3)
+        A/m.
+    G : numpy.ndarray, shape (N, 3, 3)
+        Only with gradient=True: G[n, i, j] = dH_i/dx_j, A/m^2.
+
+    Raises
+    ------
+    ValueError
+        An unknown method, or an argument that is not of shape (N, 3).
+
+    References
+    ----------
+    J. D. Jackson, Classical Electrodynamics, 3rd ed., eq. 5.56 (the direct sum);
+    L. Greengard and V. Rokhlin, J. Comput. Phys. 73, 325 (1987) (the FMM).
     """
     targets, positions, moments = as_points(targets), as_points(positions), as_points(moments)
     if method == "auto":
@@ -49,21 +79,75 @@ def dipole_H(targets, positions, moments, gradient=False, method="auto", eps=1e-
 
 
 def choose_method(n_targets: int, n_sources: int, gradient: bool = False, eps: float = 1e-6) -> str:
-    """'direct' or 'fmm', whichever the measured cost model says finishes first on the command
-    line's setting (both cores). Deliberately the same in the engine's in-process mode, so a
-    batch worker gets the very numbers the command line gives."""
+    """'direct' or 'fmm', whichever the measured cost model says finishes first.
+
+    The estimate is for the command line's setting (both cores). Deliberately the same in the
+    engine's in-process mode, so a batch worker gets the very numbers the command line gives.
+
+    Parameters
+    ----------
+    n_targets : int
+        Number of targets N.
+    n_sources : int
+        Number of dipoles K.
+    gradient : bool
+        Whether dH/dx is wanted too.
+    eps : float
+        The FMM's requested relative precision (dimensionless).
+
+    Returns
+    -------
+    str
+        "direct" or "fmm".
+    """
     return "direct" if direct_cost_s(n_targets, n_sources, gradient) <= fmm_cost_s(
         n_targets, n_sources, gradient, eps) else "fmm"
 
 
 def direct_cost_s(n_targets: int, n_sources: int, gradient: bool = False) -> float:
+    """Estimated seconds of the direct numba sum on both cores (DIRECT_S_PER_PAIR per pair).
+
+    Parameters
+    ----------
+    n_targets : int
+        Number of targets N.
+    n_sources : int
+        Number of dipoles K.
+    gradient : bool
+        Whether dH/dx is computed too (DIRECT_GRADIENT_S_PER_PAIR per pair).
+
+    Returns
+    -------
+    float
+        Seconds.
+    """
     per_pair = DIRECT_GRADIENT_S_PER_PAIR if gradient else DIRECT_S_PER_PAIR
     return float(n_targets) * float(n_sources) * per_pair
 
 
 def fmm_cost_s(n_targets: int, n_sources: int, gradient: bool = False, eps: float = 1e-6,
                processes: int = 2) -> float:
-    """Wall seconds of physics.field.fmm.fmm_dipole_H: FMM_COSTS interpolated in log(eps), log(cost)."""
+    """Wall seconds of fmm.fmm_dipole_H: FMM_COSTS interpolated in log(eps), log(cost).
+
+    Parameters
+    ----------
+    n_targets : int
+        Number of targets N.
+    n_sources : int
+        Number of dipoles K.
+    gradient : bool
+        Whether dH/dx is computed too.
+    eps : float
+        The FMM's requested relative precision (dimensionless).
+    processes : int
+        Processes the targets may be shared out over (fmm.split_count decides how many are used).
+
+    Returns
+    -------
+    float
+        Seconds: FMM_OVERHEAD_S, plus the per-source cost, plus the per-target cost divided by the
+        number of shares.
+    """
     levels = sorted(FMM_COSTS)
     x = np.log10(levels)
     column = 2 if gradient else 1
@@ -75,8 +159,36 @@ def fmm_cost_s(n_targets: int, n_sources: int, gradient: bool = False, eps: floa
 
 
 def dipole_H_numpy(targets, positions, moments, chunk_pairs: int = 250_000):
-    """Plain numpy broadcast sum, the reference the benchmark compares to (chunked over targets
-    so that at most chunk_pairs target-source pairs are held in memory at once)."""
+    """H of point dipoles by a plain numpy broadcast sum, the reference the benchmark compares to.
+
+    The sum is chunked over targets so that at most chunk_pairs target-source pairs are held in
+    memory at once.
+
+    Parameters
+    ----------
+    targets : array_like, shape (N, 3)
+        Evaluation points, m.
+    positions : array_like, shape (K, 3)
+        Dipole positions, m.
+    moments : array_like, shape (K, 3)
+        Dipole moments, A m^2.
+    chunk_pairs : int
+        Largest number of target-source pairs held at once.
+
+    Returns
+    -------
+    numpy.ndarray, shape (N, 3)
+        H, A/m; a source closer than COINCIDENT_M to a target is skipped for that target.
+
+    Raises
+    ------
+    ValueError
+        An argument that is not of shape (N, 3).
+
+    References
+    ----------
+    J. D. Jackson, Classical Electrodynamics, 3rd ed., eq. 5.56.
+    """
     targets, positions, moments = as_points(targets), as_points(positions), as_points(moments)
     H = np.zeros_like(targets)
     step = max(1, chunk_pairs // max(1, len(positions)))

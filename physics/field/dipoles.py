@@ -32,20 +32,58 @@ def discretise(inside, lower, upper, cell_size, magnetization, volume, subsample
                boundary_centroids=True):
     """Dipoles for the solid inside(points) -> bool within the bounding box [lower, upper].
 
-    cell_size: the largest allowed edge; the box is tiled exactly, so each axis gets
-    ceil(extent / cell_size) cells of equal length (cells may be slightly smaller than asked).
-    magnetization: a (3,) vector in A/m, or a callable points (K, 3) -> (K, 3) (e.g. radial rings),
-    evaluated at the dipole positions. volume: the solid's exact volume, m^3.
-    sdf: optional signed distance (negative inside, |sdf| never more than the true distance, and
-    close to it near the surface); with it only cells within half a cell diagonal of the surface
-    are sub-sampled, and each sub-cell counts by its distance to the surface (_sub_cell_shares);
-    without it the cells whose 26 neighbours disagree with them about the centre test are
-    sub-sampled with inside() (features thinner than a cell can then be missed).
-    boundary_centroids: put a cut cell's dipole at the centroid of its inside sub-samples rather
-    than at the cell centre (4 to 5 times smaller errors one to two cells from a curved surface,
-    measured on a sphere); whole cells keep their centres, so the lattice is otherwise regular.
-    Returns positions (K, 3), moments (K, 3) = M(position) * weight, and weights (K,) = the
-    volume each dipole stands for (adding up to `volume`).
+    Body frame throughout. Cut cells are weighted by the fraction of their volume inside and (with
+    boundary_centroids) carry their dipole at the centroid of their inside part; the weights are
+    rescaled to add up to ``volume``.
+
+    Parameters
+    ----------
+    inside : callable
+        Body points (P, 3) in m -> (P,) bool, True inside the solid.
+    lower, upper : array_like, shape (3,)
+        The bounding box, m.
+    cell_size : float
+        The largest allowed cell edge, m. The box is tiled exactly, so each axis gets
+        ceil(extent / cell_size) cells of equal length (cells may be slightly smaller than asked).
+    magnetization : array_like, shape (3,), or callable
+        M in A/m (any direction), or a callable points (K, 3) in m -> (K, 3) in A/m (e.g. radial
+        rings), evaluated at the dipole positions.
+    volume : float
+        The solid's exact volume, m^3.
+    subsamples : int
+        Sub-samples per axis of a cell near the surface (subsamples^3 per cell).
+    sdf : callable, optional
+        Signed distance, body points (P, 3) in m -> (P,) in m: negative inside, |sdf| never more
+        than the true distance, and close to it near the surface. With it only cells within half a
+        cell diagonal of the surface are sub-sampled, and each sub-cell counts by its distance to
+        the surface (_sub_cell_shares); without it the cells whose 26 neighbours disagree with them
+        about the centre test are sub-sampled with inside() (features thinner than a cell can then
+        be missed).
+    boundary_centroids : bool
+        Put a cut cell's dipole at the centroid of its inside sub-samples rather than at the cell
+        centre (4 to 5 times smaller errors one to two cells from a curved surface, measured on a
+        sphere); whole cells keep their centres, so the lattice is otherwise regular.
+
+    Returns
+    -------
+    positions : numpy.ndarray, shape (K, 3)
+        Dipole positions, m.
+    moments : numpy.ndarray, shape (K, 3)
+        M(position) * weight, A m^2.
+    weights : numpy.ndarray, shape (K,)
+        The volume each dipole stands for, m^3 (adding up to ``volume``).
+
+    Raises
+    ------
+    ValueError
+        A box with upper <= lower on an axis, a non-positive cell size or volume, fewer than one
+        sub-sample, more than MAX_CELLS cells, no cell inside the solid, or a magnetisation of the
+        wrong shape.
+
+    References
+    ----------
+    J. D. Jackson, Classical Electrodynamics, 3rd ed., eq. 5.98 (the midpoint rule of its volume
+    integral); the cut-cell weights and centroids derived here.
     """
     lower, upper = np.asarray(lower, dtype=float), np.asarray(upper, dtype=float)
     _check_arguments(lower, upper, cell_size, volume, subsamples)
@@ -68,13 +106,31 @@ def discretise(inside, lower, upper, cell_size, magnetization, volume, subsample
 
 
 def cell_size_for(accuracy: float, smallest_dimension: float) -> float:
-    """The cell edge at which a dipole set alone meets `accuracy` (relative to the local field)
-    at every point at least REFERENCE_DISTANCE * smallest_dimension from its surface.
+    """The cell edge at which a dipole set alone meets ``accuracy`` away from the surface.
 
-    Rule (from the measured ERROR_AT_CELLS): h = 0.1 D / n(accuracy), where n(accuracy) is the
-    distance in cells at which the error falls to `accuracy`: D / 42 for 1e-3, D / 16 for 1e-2.
-    Where the exact form replaces the dipoles closer than cells_for_accuracy(accuracy) cells, the
-    far error is met whatever h is, and h can be chosen for speed instead.
+    That is: relative to the local field, at every point at least REFERENCE_DISTANCE *
+    smallest_dimension from the surface. Rule (from the measured ERROR_AT_CELLS): h = 0.1 D /
+    n(accuracy), where n(accuracy) is the distance in cells at which the error falls to
+    ``accuracy``: D / 42 for 1e-3, D / 16 for 1e-2. Where the exact form replaces the dipoles
+    closer than cells_for_accuracy(accuracy) cells, the far error is met whatever h is, and h can
+    be chosen for speed instead.
+
+    Parameters
+    ----------
+    accuracy : float
+        Relative error allowed (dimensionless), > 0.
+    smallest_dimension : float
+        The part's smallest dimension D, m, > 0.
+
+    Returns
+    -------
+    float
+        Cell edge h, m.
+
+    Raises
+    ------
+    ValueError
+        When accuracy or smallest_dimension is not positive.
     """
     if not (accuracy > 0 and smallest_dimension > 0):
         raise ValueError("cell_size_for needs a positive accuracy and a positive dimension")
@@ -82,8 +138,21 @@ def cell_size_for(accuracy: float, smallest_dimension: float) -> float:
 
 
 def cells_for_accuracy(accuracy: float) -> float:
-    """Distance from the surface, in cells, beyond which a dipole set's error is below `accuracy`
-    (log-log interpolation of ERROR_AT_CELLS, extrapolated along its last segment)."""
+    """Distance from the surface, in cells, beyond which a dipole set's error is below accuracy.
+
+    Log-log interpolation of the measured ERROR_AT_CELLS, extrapolated along its last segment, and
+    held at its first row for an accuracy coarser than that row.
+
+    Parameters
+    ----------
+    accuracy : float
+        Relative error (dimensionless), > 0.
+
+    Returns
+    -------
+    float
+        Distance in cells (dimensionless).
+    """
     cells = np.log([c for c, _ in ERROR_AT_CELLS])
     errors = np.log([e for _, e in ERROR_AT_CELLS])
     target = math.log(accuracy)

@@ -27,7 +27,27 @@ _HALF_PI = 0.5 * math.pi
 
 @njit(cache=True, nogil=True)
 def cel(kc, p, a, b):
-    """Bulirsch's cel(kc, p, a, b) for kc != 0 (any sign of p)."""
+    """Bulirsch's generalised complete elliptic integral cel(kc, p, a, b).
+
+    Parameters
+    ----------
+    kc : float
+        Complementary modulus, nonzero (its sign is ignored).
+    p : float
+        Any sign (p < 0 takes the Cauchy principal value branch of the algorithm).
+    a, b : float
+        The weights of cos^2 t and sin^2 t in the numerator.
+
+    Returns
+    -------
+    float
+        The integral (dimensionless when a and b are).
+
+    References
+    ----------
+    R. Bulirsch, Numer. Math. 13, 305 (1969) (the algorithm cel), in the form printed by
+    N. Derby and S. Olbert, Am. J. Phys. 78, 229 (2010), appendix.
+    """
     k = abs(kc)
     em = 1.0
     if p > 0.0:
@@ -66,7 +86,26 @@ def cel(kc, p, a, b):
 
 @njit(cache=True, nogil=True)
 def cel_basis(kc, p):
-    """(cel(kc, p, 1, 0), cel(kc, p, 0, 1)) for kc != 0 and p > 0, from one shared iteration."""
+    """(cel(kc, p, 1, 0), cel(kc, p, 0, 1)) for kc != 0 and p > 0, from one shared iteration.
+
+    Parameters
+    ----------
+    kc : float
+        Complementary modulus, nonzero.
+    p : float
+        p > 0.
+
+    Returns
+    -------
+    tuple of two floats
+        cel(kc, p, 1, 0) and cel(kc, p, 0, 1); cel(kc, p, a, b) is their combination with
+        weights a and b.
+
+    References
+    ----------
+    R. Bulirsch, Numer. Math. 13, 305 (1969); N. Derby and S. Olbert, Am. J. Phys. 78, 229
+    (2010), appendix; the two-column form derived here (cel is linear in a and b).
+    """
     k = abs(kc)
     em = 1.0
     pp = math.sqrt(p)
@@ -107,7 +146,22 @@ def cel_basis(kc, p):
 def cel_basis_pair(kc, p):
     """cel_basis(kc, 1) and cel_basis(kc, p) together (p > 0), sharing the AGM sequence of kc.
 
-    Returns (cel(kc,1,1,0), cel(kc,1,0,1), cel(kc,p,1,0), cel(kc,p,0,1)).
+    Parameters
+    ----------
+    kc : float
+        Complementary modulus, nonzero.
+    p : float
+        p > 0.
+
+    Returns
+    -------
+    tuple of four floats
+        (cel(kc,1,1,0), cel(kc,1,0,1), cel(kc,p,1,0), cel(kc,p,0,1)).
+
+    References
+    ----------
+    R. Bulirsch, Numer. Math. 13, 305 (1969); N. Derby and S. Olbert, Am. J. Phys. 78, 229
+    (2010), appendix.
     """
     k = abs(kc)
     em = 1.0

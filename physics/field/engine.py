@@ -37,6 +37,12 @@ def use_in_process(enabled: bool = True) -> None:
 
     A pool worker calls it once, e.g. as ``ProcessPoolExecutor(initializer=use_in_process)``;
     physics.analysis.batch does it at the start of every job.
+
+    Parameters
+    ----------
+    enabled : bool
+        True: numba and BLAS get one thread and the FMM starts no processes; False: numba gets
+        NUMBA_NUM_THREADS threads and the BLAS limit set by an earlier call is lifted.
     """
     global _in_process, _blas_limit
     _in_process = bool(enabled)

@@ -19,8 +19,22 @@ CHECKS_PER_SOURCE = 4
 
 
 def fibonacci_sphere(count: int, radius: float, turn: float = 0.0) -> np.ndarray:
-    """(count, 3) nearly uniform points on a sphere (golden-angle spiral), turned by `turn` rad
-    about z so that two sets of the same size do not coincide."""
+    """Nearly uniform points on a sphere about the origin (golden-angle spiral).
+
+    Parameters
+    ----------
+    count : int
+        Number of points.
+    radius : float
+        Sphere radius, m.
+    turn : float
+        Rotation about z, rad, so that two sets of the same size do not coincide.
+
+    Returns
+    -------
+    numpy.ndarray, shape (count, 3)
+        Points, m.
+    """
     i = np.arange(count) + 0.5
     polar = np.arccos(1.0 - 2.0 * i / count)
     azimuth = np.pi * (1.0 + 5.0**0.5) * i + turn
@@ -40,9 +54,38 @@ def _unit_responses(checks, sources) -> np.ndarray:
 
 
 def fit_equivalent_dipoles(exact_H, centre, circumradius, count=SOURCE_COUNT):
-    """Dipoles (positions (K, 3), moments (K, 3)) reproducing exact_H(points) outside the sphere
-    of CHECK_RADIUS * circumradius about centre, and the largest relative error found on a
-    second set of points of that sphere."""
+    """Dipoles reproducing exact_H outside a sphere about ``centre``, and the error found.
+
+    The dipoles sit on a sphere of SOURCE_RADIUS * circumradius and are fitted by least squares
+    to exact_H on the check sphere of CHECK_RADIUS * circumradius; the error is measured on a
+    second, turned set of points of that sphere.
+
+    Parameters
+    ----------
+    exact_H : callable
+        Points (P, 3) in m -> H (P, 3) in A/m, the exact field (in the frame of ``centre``).
+    centre : array_like, shape (3,)
+        Centre of the spheres, m.
+    circumradius : float
+        The part's circumradius about ``centre``, m.
+    count : int
+        Number of equivalent dipoles K.
+
+    Returns
+    -------
+    positions : numpy.ndarray, shape (K, 3)
+        m.
+    moments : numpy.ndarray, shape (K, 3)
+        A m^2.
+    error : float
+        Largest |H_dipoles - H| on the second set over the largest |H| there (dimensionless);
+        by the maximum principle it bounds the error everywhere outside the check sphere.
+
+    References
+    ----------
+    G. Fairweather and A. Karageorghis, Adv. Comput. Math. 9, 69 (1998) (method of fundamental
+    solutions); J. D. Jackson, Classical Electrodynamics, 3rd ed., eq. 5.56 (the dipole field).
+    """
     sources = centre + fibonacci_sphere(count, SOURCE_RADIUS * circumradius)
     checks = centre + fibonacci_sphere(CHECKS_PER_SOURCE * count, CHECK_RADIUS * circumradius)
     solution = np.linalg.lstsq(_unit_responses(checks, sources), exact_H(checks).ravel(),

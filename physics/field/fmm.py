@@ -42,10 +42,43 @@ _executor_workers = 0
 
 
 def fmm_dipole_H(targets, positions, moments, gradient=False, eps=1e-6, processes=2):
-    """H (N, 3) at the targets of the point dipoles, and with gradient=True also dH_i/dx_j (N, 3, 3).
+    """H of the point dipoles at the targets by the FMM, and optionally dH_i/dx_j.
 
-    eps is fmm3dpy's requested relative precision (relative to the field scale of the whole set,
-    so weak-field targets carry a larger relative error).
+    Targets within about 2e-12 m of a dipole are redone by the direct sum, which skips sources
+    closer than COINCIDENT_M. The first call runs fmm_self_test.
+
+    Parameters
+    ----------
+    targets : array_like, shape (N, 3)
+        Evaluation points, m.
+    positions : array_like, shape (K, 3)
+        Dipole positions, m.
+    moments : array_like, shape (K, 3)
+        Dipole moments, A m^2.
+    gradient : bool
+        Also return dH_i/dx_j.
+    eps : float
+        fmm3dpy's requested relative precision (relative to the field scale of the whole set, so
+        weak-field targets carry a larger relative error; see the module docstring).
+    processes : int
+        Largest number of shares of the targets (split_count); they run in forked processes, or
+        one after another here in the engine's in-process mode or a daemonic process.
+
+    Returns
+    -------
+    H : numpy.ndarray, shape (N, 3)
+        A/m.
+    G : numpy.ndarray, shape (N, 3, 3)
+        Only with gradient=True: G[n, i, j] = dH_i/dx_j, A/m^2.
+
+    Raises
+    ------
+    RuntimeError
+        From fmm_self_test, when fmm3dpy's conventions differ from the direct sum's.
+
+    References
+    ----------
+    L. Greengard and V. Rokhlin, J. Comput. Phys. 73, 325 (1987), through fmm3dpy.
     """
     targets = np.ascontiguousarray(targets, dtype=np.float64).reshape(-1, 3)
     positions = np.ascontiguousarray(positions, dtype=np.float64).reshape(-1, 3)
@@ -110,7 +143,20 @@ def _ensure_self_test() -> None:
 
 
 def split_count(n_targets: int, processes: int) -> int:
-    """How many processes share n_targets: each gets at least MIN_TARGETS_FOR_SPLIT."""
+    """How many processes share n_targets: each gets at least MIN_TARGETS_FOR_SPLIT.
+
+    Parameters
+    ----------
+    n_targets : int
+        Number of targets.
+    processes : int
+        Largest number of processes.
+
+    Returns
+    -------
+    int
+        Between 1 and ``processes``.
+    """
     return max(1, min(int(processes), n_targets // MIN_TARGETS_FOR_SPLIT))
 
 

@@ -24,6 +24,24 @@ class FieldModel:
 
     @classmethod
     def from_scene(cls, scene, accuracy: float = 1e-3) -> "FieldModel":
+        """The model of a scene: every magnet's sources (parts.part_sources) and their images.
+
+        Parameters
+        ----------
+        scene : trapscape.scene.model.Scene
+            The loaded scene, SI units.
+        accuracy : float
+            Relative accuracy (dimensionless) the dipole sets aim for (parts.default_cell_size).
+
+        Returns
+        -------
+        FieldModel
+
+        Raises
+        ------
+        trapscape.scene.errors.SceneError
+            When a magnet's dipole set cannot be built (parts.part_sources).
+        """
         sources = []
         for index, magnet in enumerate(scene.magnets):
             sources.extend(part_sources(magnet, index, accuracy))
@@ -36,7 +54,26 @@ class FieldModel:
     # -- H of the charges -------------------------------------------------------------------
 
     def applied_H(self, points, exclude=(), gradient=False, progress=None):
-        """H (and dH/dx) of every source whose part index is not in `exclude`."""
+        """H (and dH/dx) of every source whose part index is not in ``exclude``.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            World points, m.
+        exclude : iterable of int
+            Indices of the magnets whose sources (and images) are left out.
+        gradient : bool
+            Also return dH_i/dx_j.
+        progress : callable, optional
+            Called as progress(done, total) after each batch of CHUNK points.
+
+        Returns
+        -------
+        H : numpy.ndarray, shape (N, 3)
+            A/m.
+        G : numpy.ndarray, shape (N, 3, 3)
+            Only with gradient=True: G[n, i, j] = dH_i/dx_j, A/m^2.
+        """
         points = np.ascontiguousarray(points, dtype=float).reshape(-1, 3)
         H = np.zeros_like(points)
         G = np.zeros((len(points), 3, 3)) if gradient else None
@@ -84,20 +121,60 @@ class FieldModel:
             _accumulate(H, G, result, gradient, far)
 
     def acting_on(self, index: int, images_only: bool = False) -> "FieldModel":
-        """The model of the sources that act on part `index`: all but the part's own charges
-        (its images in the plates stay: they pull it to the plate); with images_only, the plate
-        images alone (what acts on the rigid assembly as a whole). Used by physics/forces.py."""
+        """The model of the sources that act on part ``index``.
+
+        All but the part's own charges (its images in the plates stay: they pull it to the plate);
+        with images_only, the plate images alone (what acts on the rigid assembly as a whole). Used
+        by physics/holding/forces.py.
+
+        Parameters
+        ----------
+        index : int
+            The magnet's index in the scene.
+        images_only : bool
+            Keep only the plate images.
+
+        Returns
+        -------
+        FieldModel
+            Sharing this model's scene and source objects.
+        """
         keep = [s for s in self.sources
                 if s.is_image or (not images_only and s.part != index)]
         return FieldModel(self.scene, keep)
 
     def H(self, points, progress=None):
+        """H of every source at world points (applied_H with nothing excluded).
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            World points, m.
+        progress : callable, optional
+            Called as progress(done, total) after each batch of CHUNK points.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N, 3)
+            A/m.
+        """
         return self.applied_H(points, progress=progress)
 
     # -- B ----------------------------------------------------------------------------------
 
     def magnetization(self, points) -> np.ndarray:
-        """M at world points: the part's magnetisation inside it, zero outside."""
+        """M at world points: the part's magnetisation inside it, zero outside.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            World points, m.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N, 3)
+            A/m, world frame; inside overlapping parts, the first part's (inside_magnet).
+        """
         points = np.asarray(points, dtype=float).reshape(-1, 3)
         M = np.zeros_like(points)
         owner = self.inside_magnet(points)
@@ -108,12 +185,43 @@ class FieldModel:
         return M
 
     def B(self, points, progress=None):
+        """B = mu0 (H + M) at world points: inside a magnet B includes its magnetisation.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            World points, m.
+        progress : callable, optional
+            Called as progress(done, total) after each batch of CHUNK points.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N, 3)
+            T.
+        """
         points = np.asarray(points, dtype=float).reshape(-1, 3)
         return MU0 * (self.applied_H(points, progress=progress) + self.magnetization(points))
 
     def B_and_gradient(self, points, progress=None):
-        """B (N, 3) in T and dB_i/dx_j (N, 3, 3) in T/m (M is uniform inside a part, so the
-        gradient is mu0 dH/dx there too; radially magnetised parts excepted inside)."""
+        """B and dB_i/dx_j at world points.
+
+        M is uniform inside a part, so the gradient is mu0 dH/dx there too (radially magnetised
+        parts excepted inside: their dM/dx is not included).
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            World points, m.
+        progress : callable, optional
+            Called as progress(done, total) after each batch of CHUNK points.
+
+        Returns
+        -------
+        B : numpy.ndarray, shape (N, 3)
+            T.
+        G : numpy.ndarray, shape (N, 3, 3)
+            G[n, i, j] = dB_i/dx_j, T/m.
+        """
         points = np.asarray(points, dtype=float).reshape(-1, 3)
         H, G = self.applied_H(points, gradient=True, progress=progress)
         return MU0 * (H + self.magnetization(points)), MU0 * G
@@ -121,15 +229,36 @@ class FieldModel:
     # -- geometry ---------------------------------------------------------------------------
 
     def part_distances(self, points) -> np.ndarray:
-        """(N, n_magnets) signed distance to each magnet's surface (negative inside), m."""
+        """Signed distance from world points to each magnet's surface (negative inside).
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            World points, m.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N, n_magnets)
+            m; shape (N, 0) when the scene has no magnet.
+        """
         points = np.asarray(points, dtype=float).reshape(-1, 3)
         if not self.magnets:
             return np.full((len(points), 0), np.inf)
         return np.stack([part_sdf(m, points) for m in self.magnets], axis=1)
 
     def inside_magnet(self, points) -> np.ndarray:
-        """Index of the magnet containing each point, -1 where none does (the first one where
-        parts overlap)."""
+        """Index of the magnet containing each point, -1 where none does.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            World points, m.
+
+        Returns
+        -------
+        numpy.ndarray of int, shape (N,)
+            Where parts overlap, the first one in the scene's order.
+        """
         points = np.asarray(points, dtype=float).reshape(-1, 3)
         owner = np.full(len(points), -1)
         for index in reversed(range(len(self.magnets))):
@@ -137,19 +266,51 @@ class FieldModel:
         return owner
 
     def plate_distances(self, points) -> np.ndarray:
-        """(N, n_plates) signed distance to each plate's face (negative behind it), m."""
+        """Signed distance from world points to each plate's face (negative behind it).
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            World points, m.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N, n_plates)
+            m; shape (N, 0) when the scene has no plate.
+        """
         points = np.asarray(points, dtype=float).reshape(-1, 3)
         if not self.plates:
             return np.full((len(points), 0), np.inf)
         return np.stack([(points - p.point) @ p.normal for p in self.plates], axis=1)
 
     def in_model(self, points) -> np.ndarray:
-        """False behind a steel plate's face, where the mirror model says nothing."""
+        """False behind a steel plate's face, where the mirror model says nothing.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            World points, m.
+
+        Returns
+        -------
+        numpy.ndarray of bool, shape (N,)
+        """
         distances = self.plate_distances(points)
         return np.all(distances >= 0.0, axis=1) if distances.shape[1] else np.ones(len(distances), bool)
 
     def clearance(self, points) -> np.ndarray:
-        """Distance to the nearest magnet surface or plate face; negative inside or behind."""
+        """Distance to the nearest magnet surface or plate face; negative inside or behind.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            World points, m.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N,)
+            m; inf when the scene has neither magnets nor plates.
+        """
         both = np.concatenate([self.part_distances(points), self.plate_distances(points)], axis=1)
         return both.min(axis=1) if both.shape[1] else np.full(len(both), np.inf)
 

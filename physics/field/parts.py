@@ -28,29 +28,90 @@ RADIAL_CELLS_PER_WALL = 8  # radial parts have no closed form here: a dipole set
 
 
 def body_bounds(magnet) -> tuple[np.ndarray, np.ndarray]:
-    """Body-frame bounding box (lower, upper) in m."""
+    """Body-frame bounding box of a part.
+
+    Parameters
+    ----------
+    magnet : trapscape.scene.model.Magnet
+        The part, SI units.
+
+    Returns
+    -------
+    lower, upper : numpy.ndarray, shape (3,)
+        m.
+    """
     return shape_of(magnet).bounds(magnet)
 
 
 def body_mesh(magnet):
-    """(vertices (V, 3) m, faces (F, 3)) of the part's tessellation in its body frame: exact for
-    meshes, boxes and prisms, area-preserving for round parts (scene.shapes.sector)."""
+    """The part's tessellation in its body frame.
+
+    Exact for meshes, boxes and prisms, area-preserving for round parts (scene.shapes.sector).
+
+    Parameters
+    ----------
+    magnet : trapscape.scene.model.Magnet
+        The part, SI units.
+
+    Returns
+    -------
+    vertices : numpy.ndarray, shape (V, 3)
+        m.
+    faces : numpy.ndarray of int, shape (F, 3)
+        Vertex indices, counter-clockwise seen from outside.
+    """
     return shape_of(magnet).tessellation(magnet)
 
 
 def bounding_diagonal(magnet) -> float:
-    """Diagonal of the body-frame bounding box, m: the part's size for scales and far-field tests."""
+    """Diagonal of the body-frame bounding box: the part's size for scales and far-field tests.
+
+    Parameters
+    ----------
+    magnet : trapscape.scene.model.Magnet
+        The part, SI units.
+
+    Returns
+    -------
+    float
+        m.
+    """
     lower, upper = body_bounds(magnet)
     return float(np.linalg.norm(upper - lower))
 
 
 def part_sdf(magnet, points) -> np.ndarray:
-    """(N,) signed distance (m) from world points to the part, negative inside."""
+    """Signed distance from world points to the part, negative inside.
+
+    Parameters
+    ----------
+    magnet : trapscape.scene.model.Magnet
+        The part, SI units.
+    points : array_like, shape (N, 3)
+        World points, m.
+
+    Returns
+    -------
+    numpy.ndarray, shape (N,)
+        m.
+    """
     return shape_of(magnet).sdf(magnet, to_body(points, magnet.position, magnet.rotation))
 
 
 def part_contains(magnet, points) -> np.ndarray:
-    """(N,) bool: which world points lie inside the part (bounding box first, then its test)."""
+    """Which world points lie inside the part (bounding box first, then the shape's test).
+
+    Parameters
+    ----------
+    magnet : trapscape.scene.model.Magnet
+        The part, SI units.
+    points : array_like, shape (N, 3)
+        World points, m.
+
+    Returns
+    -------
+    numpy.ndarray of bool, shape (N,)
+    """
     body = to_body(points, magnet.position, magnet.rotation)
     lower, upper = body_bounds(magnet)
     candidates = np.flatnonzero(np.all((body >= lower) & (body <= upper), axis=1))
@@ -61,7 +122,20 @@ def part_contains(magnet, points) -> np.ndarray:
 
 
 def part_magnetization(magnet, points) -> np.ndarray:
-    """World-frame M (A/m) of the part at world points assumed inside it."""
+    """World-frame M of the part at world points assumed inside it.
+
+    Parameters
+    ----------
+    magnet : trapscape.scene.model.Magnet
+        The part, SI units.
+    points : array_like, shape (N, 3)
+        World points inside the part, m.
+
+    Returns
+    -------
+    numpy.ndarray, shape (N, 3)
+        A/m.
+    """
     body = to_body(points, magnet.position, magnet.rotation)
     return body_magnetization(magnet, body) @ magnet.rotation.T
 
@@ -86,9 +160,25 @@ def _exact_source(magnet, index) -> Source:
 
 
 def default_cell_size(magnet, accuracy: float) -> float:
-    """The cells that meet `accuracy` at 10% of the smallest dimension
-    (physics.field.dipoles.cell_size_for), but radial parts are capped at wall / 8 to keep the set to
-    a size a laptop builds in seconds (their accuracy then holds from about half a wall)."""
+    """The lattice cell edge of a part's dipole set.
+
+    The part's own cell_size when given; else the cells that meet ``accuracy`` at 10% of the
+    smallest dimension (physics.field.dipoles.cell_size_for), but radial parts are capped at
+    wall / 8 to keep the set to a size a laptop builds in seconds (their accuracy then holds from
+    about half a wall).
+
+    Parameters
+    ----------
+    magnet : trapscape.scene.model.Magnet
+        The part, SI units.
+    accuracy : float
+        Relative accuracy (dimensionless).
+
+    Returns
+    -------
+    float
+        m.
+    """
     if magnet.cell_size:
         return float(magnet.cell_size)
 
@@ -160,7 +250,31 @@ def _inside_tests(magnet):
 
 
 def part_sources(magnet, index, accuracy=1e-3) -> list[Source]:
-    """The sources that make up one magnet: exact where a closed form exists, else dipoles."""
+    """The sources that make up one magnet: exact where a closed form exists, else dipoles.
+
+    Radial parts and method = "dipoles" give a lattice dipole set; method = "exact", shapes that
+    fit no far field and meshes of fewer than EXACT_TRIANGLE_LIMIT triangles the exact closed
+    form; larger meshes the exact form near them and equivalent dipoles beyond.
+
+    Parameters
+    ----------
+    magnet : trapscape.scene.model.Magnet
+        The part, SI units.
+    index : int
+        The magnet's index in the scene (Source.part).
+    accuracy : float
+        Relative accuracy (dimensionless) of a dipole set (default_cell_size).
+
+    Returns
+    -------
+    list of Source
+        One source, placed in the world frame.
+
+    Raises
+    ------
+    trapscape.scene.errors.SceneError
+        When the dipole set cannot be built (e.g. a cell size so small the lattice would not fit).
+    """
     if magnet.radial is not None or magnet.method == "dipoles":
         return [_dipole_source(magnet, index, accuracy)]
     if magnet.method == "exact" or not shape_of(magnet).fit_far_field:

@@ -56,7 +56,26 @@ _TABLES_CACHE: dict = {}
 
 
 def mesh_tables(vertices: np.ndarray, faces: np.ndarray) -> MeshTables:
-    """Prepare (and remember) the tables of a closed, outward-oriented triangle mesh."""
+    """Prepare (and remember) the tables of a closed, outward-oriented triangle mesh.
+
+    Parameters
+    ----------
+    vertices : array_like, shape (V, 3)
+        m.
+    faces : array_like of int, shape (F, 3)
+        Vertex indices, counter-clockwise seen from outside (a closed, oriented mesh).
+
+    Returns
+    -------
+    MeshTables
+        Scaled by the largest bounding-box side; cached on the arrays' bytes (up to 65 meshes).
+
+    Raises
+    ------
+    ValueError
+        A mesh with no triangles or no extent, face indices outside the vertex list, or a mesh
+        that is not closed or not consistently oriented (mesh_tables).
+    """
     vertices = np.ascontiguousarray(vertices, dtype=float).reshape(-1, 3)
     faces = np.ascontiguousarray(faces, dtype=np.int64).reshape(-1, 3)
     key = (vertices.tobytes(), faces.tobytes())
@@ -346,17 +365,104 @@ def _run_field(points, vertices, faces, magnetization, want_h, want_g):
 
 
 def polyhedron_H(points: np.ndarray, vertices: np.ndarray, faces: np.ndarray, magnetization) -> np.ndarray:
-    """H (N, 3) in A/m of a uniformly magnetised closed mesh (vertices (V, 3) in m, faces (F, 3)
-    counter-clockwise seen from outside). Inside the solid B = mu0 (H + M)."""
+    """H of a uniformly magnetised closed mesh. Inside the solid B = mu0 (H + M).
+
+    Parameters
+    ----------
+    points : array_like, shape (N, 3)
+        Body-frame points, m.
+    vertices : array_like, shape (V, 3)
+        m.
+    faces : array_like of int, shape (F, 3)
+        Vertex indices, counter-clockwise seen from outside (a closed, oriented mesh).
+    magnetization : array_like, shape (3,)
+        Uniform M in the body frame, A/m.
+
+    Returns
+    -------
+    numpy.ndarray, shape (N, 3)
+        A/m.
+
+    Raises
+    ------
+    ValueError
+        A mesh with no triangles or no extent, face indices outside the vertex list, or a mesh
+        that is not closed or not consistently oriented (mesh_tables).
+
+    References
+    ----------
+    D. Guptasarma and B. Singh, Geophysics 64, 70 (1999); the solid angle:
+    A. Van Oosterom and J. Strackee, IEEE Trans. Biomed. Eng. 30, 125 (1983).
+    """
     return _run_field(points, vertices, faces, magnetization, True, False)[0]
 
 
 def polyhedron_H_gradient(points: np.ndarray, vertices: np.ndarray, faces: np.ndarray, magnetization) -> np.ndarray:
-    """dH_i/dx_j (N, 3, 3) in A/m^2; trace-free and symmetric off the surface."""
+    """dH_i/dx_j of a uniformly magnetised closed mesh; trace-free and symmetric off the surface.
+
+    Parameters
+    ----------
+    points : array_like, shape (N, 3)
+        Body-frame points, m.
+    vertices : array_like, shape (V, 3)
+        m.
+    faces : array_like of int, shape (F, 3)
+        Vertex indices, counter-clockwise seen from outside (a closed, oriented mesh).
+    magnetization : array_like, shape (3,)
+        Uniform M in the body frame, A/m.
+
+    Returns
+    -------
+    numpy.ndarray, shape (N, 3, 3)
+        G[n, i, j] = dH_i/dx_j, A/m^2.
+
+    Raises
+    ------
+    ValueError
+        A mesh with no triangles or no extent, face indices outside the vertex list, or a mesh
+        that is not closed or not consistently oriented (mesh_tables).
+
+    References
+    ----------
+    D. Guptasarma and B. Singh, Geophysics 64, 70 (1999); the solid angle:
+    A. Van Oosterom and J. Strackee, IEEE Trans. Biomed. Eng. 30, 125 (1983);
+    the gradient derived here.
+    """
     return _run_field(points, vertices, faces, magnetization, False, True)[1]
 
 
 def polyhedron_H_and_gradient(points: np.ndarray, vertices: np.ndarray, faces: np.ndarray,
                               magnetization) -> tuple[np.ndarray, np.ndarray]:
-    """H (N, 3) and dH_i/dx_j (N, 3, 3) in one pass."""
+    """H and dH_i/dx_j of a uniformly magnetised closed mesh in one pass.
+
+    Parameters
+    ----------
+    points : array_like, shape (N, 3)
+        Body-frame points, m.
+    vertices : array_like, shape (V, 3)
+        m.
+    faces : array_like of int, shape (F, 3)
+        Vertex indices, counter-clockwise seen from outside (a closed, oriented mesh).
+    magnetization : array_like, shape (3,)
+        Uniform M in the body frame, A/m.
+
+    Returns
+    -------
+    H : numpy.ndarray, shape (N, 3)
+        A/m.
+    G : numpy.ndarray, shape (N, 3, 3)
+        G[n, i, j] = dH_i/dx_j, A/m^2.
+
+    Raises
+    ------
+    ValueError
+        A mesh with no triangles or no extent, face indices outside the vertex list, or a mesh
+        that is not closed or not consistently oriented (mesh_tables).
+
+    References
+    ----------
+    D. Guptasarma and B. Singh, Geophysics 64, 70 (1999); the solid angle:
+    A. Van Oosterom and J. Strackee, IEEE Trans. Biomed. Eng. 30, 125 (1983);
+    the gradient derived here.
+    """
     return _run_field(points, vertices, faces, magnetization, True, True)

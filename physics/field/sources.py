@@ -30,7 +30,20 @@ FAR_FIELD_SIZES = 50.0
 
 
 def closed_form(kind: str, gradient: bool = False):
-    """The body-frame H function of a shape, or with gradient=True the one returning (H, dH/dx)."""
+    """The body-frame H function of a shape, or with gradient=True the one returning (H, dH/dx).
+
+    Parameters
+    ----------
+    kind : str
+        A key of CLOSED_FORMS.
+    gradient : bool
+        Return the function giving (H (N, 3) in A/m, dH_i/dx_j (N, 3, 3) in A/m^2).
+
+    Returns
+    -------
+    callable
+        f(points (N, 3) m, *params, magnetization (3,) A/m), as in DEVELOPERS.md, Closed forms.
+    """
     module_name, stem = CLOSED_FORMS[kind]
     module = importlib.import_module(module_name)
     if not gradient:
@@ -69,24 +82,92 @@ class Source:
     near_radius: float = 0.0
 
     def to_body(self, points: np.ndarray) -> np.ndarray:
+        """World points in this source's body frame, x_b = R^T (x - c).
+
+        Parameters
+        ----------
+        points : numpy.ndarray, shape (N, 3)
+            World points, m.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N, 3)
+            Body-frame points, m.
+        """
         return (points - self.center) @ self.matrix
 
     def is_far(self, points: np.ndarray) -> np.ndarray:
+        """Which points lie beyond FAR_FIELD_SIZES part sizes from the centre (dipole used there).
+
+        Parameters
+        ----------
+        points : numpy.ndarray, shape (N, 3)
+            World points, m.
+
+        Returns
+        -------
+        numpy.ndarray of bool, shape (N,)
+        """
         distance = np.linalg.norm(points - self.center, axis=1)
         return distance > FAR_FIELD_SIZES * self.size
 
     def in_near_zone(self, points: np.ndarray) -> np.ndarray:
+        """Which points lie within near_radius of near_centre, where ``near`` is evaluated exactly.
+
+        Parameters
+        ----------
+        points : numpy.ndarray, shape (N, 3)
+            World points, m.
+
+        Returns
+        -------
+        numpy.ndarray of bool, shape (N,)
+        """
         return np.linalg.norm(points - self.near_centre, axis=1) < self.near_radius
 
     def closed_form_H(self, points: np.ndarray, gradient: bool):
-        """H (and dH/dx) of a closed-form source at world points, dipole far away."""
+        """H (and dH/dx) of a closed-form source at world points, its point dipole far away.
+
+        Parameters
+        ----------
+        points : numpy.ndarray, shape (N, 3)
+            World points, m.
+        gradient : bool
+            Also compute dH_i/dx_j.
+
+        Returns
+        -------
+        H : numpy.ndarray, shape (N, 3)
+            A/m.
+        G : numpy.ndarray, shape (N, 3, 3), or None
+            dH_i/dx_j in A/m^2; None without gradient.
+        """
         H = np.zeros_like(points)
         G = np.zeros((len(points), 3, 3)) if gradient else None
         self.add_closed_form_H(points, gradient, H, G)
         return H, G
 
     def add_closed_form_H(self, points, gradient, H, G) -> None:
-        """Add this source's H (and dH/dx) at world points into H (N, 3) and G (N, 3, 3)."""
+        """Add this source's H (and dH/dx) at world points into H and G, in place.
+
+        Points beyond FAR_FIELD_SIZES part sizes take the point dipole of the part's moment; the
+        others the body-frame closed form, rotated back (H = R H_b, dH/dx = R (dH_b/dx_b) R^T).
+
+        Parameters
+        ----------
+        points : numpy.ndarray, shape (N, 3)
+            World points, m.
+        gradient : bool
+            Also add dH_i/dx_j into G.
+        H : numpy.ndarray, shape (N, 3)
+            Accumulator, A/m.
+        G : numpy.ndarray, shape (N, 3, 3), or None
+            Accumulator, A/m^2 (used only with gradient).
+
+        References
+        ----------
+        J. D. Jackson, Classical Electrodynamics, 3rd ed., eq. 5.56 (the far-field dipole).
+        """
         far = self.is_far(points)
         if far.any():
             H_far, G_far = point_dipole(points[far], self.center, self.moment, gradient)
@@ -109,7 +190,31 @@ class Source:
 
 
 def point_dipole(points, center, moment, gradient=False):
-    """Field of a point dipole (Jackson, Classical Electrodynamics, eq. 5.56) and its gradient."""
+    """Field of a point dipole and, optionally, its gradient.
+
+    Parameters
+    ----------
+    points : numpy.ndarray, shape (N, 3)
+        World points, m.
+    center : array_like, shape (3,)
+        The dipole's position, m.
+    moment : array_like, shape (3,)
+        Its moment, A m^2.
+    gradient : bool
+        Also compute dH_i/dx_j.
+
+    Returns
+    -------
+    H : numpy.ndarray, shape (N, 3)
+        A/m.
+    G : numpy.ndarray, shape (N, 3, 3), or None
+        dH_i/dx_j in A/m^2; None without gradient.
+
+    References
+    ----------
+    J. D. Jackson, Classical Electrodynamics, 3rd ed., eq. 5.56 (evaluated as a sphere of
+    vanishing size, which is exactly a point dipole outside).
+    """
     # A sphere of vanishing size is exactly a point dipole outside; reuse its tested formula.
     tiny = 1e-12
     volume = np.pi * tiny**3 / 6.0
@@ -120,8 +225,27 @@ def point_dipole(points, center, moment, gradient=False):
 
 
 def mirrored(source: Source, point: np.ndarray, normal: np.ndarray, name_suffix: str) -> Source:
-    """The image of a source in a perfectly permeable plane (textbook image method): geometry
-    reflected, normal component of the magnetisation kept, tangential components reversed."""
+    """The image of a source in a perfectly permeable plane (textbook image method).
+
+    Geometry reflected, normal component of the magnetisation kept, tangential components
+    reversed (world M' = -P M with P the reflection).
+
+    Parameters
+    ----------
+    source : Source
+        The source to mirror (its dipole set and near zone are mirrored too).
+    point : numpy.ndarray, shape (3,)
+        A point of the plate's face, m.
+    normal : numpy.ndarray, shape (3,)
+        The face's unit normal.
+    name_suffix : str
+        Appended to the source's name.
+
+    Returns
+    -------
+    Source
+        With is_image True and a reflection (det -1) as its matrix.
+    """
     P = np.eye(3) - 2.0 * np.outer(normal, normal)
 
     def reflect(x):

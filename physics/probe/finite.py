@@ -67,7 +67,17 @@ def ball_rule(degree: int = DEFAULT_DEGREE):
 
 
 def rule_description(degree: int = DEFAULT_DEGREE) -> str:
-    """One line saying which ball rule of `degree` is used (for reports)."""
+    """One line saying which ball rule of ``degree`` is used (for reports).
+
+    Parameters
+    ----------
+    degree : int
+        Degree of the ball rule (ball_rule).
+
+    Returns
+    -------
+    str
+    """
     points, _ = ball_rule(degree)
     n_radial = max(1, math.ceil((degree + 1) / 2))
     return (f"volume average by a degree-{degree} rule over the sphere: {n_radial} Gauss-Jacobi "
@@ -101,7 +111,25 @@ class AveragedProbe(ProbeModel):
         self.offsets = unit * (law.diameter / 2.0)
 
     def magnetic_energy_and_force(self, points):
-        """Volume-averaged magnetic U (N,) in J and F (N, 3) in N at centres (N, 3) in m."""
+        """Volume-averaged magnetic energy and force at probe centres (ProbeLaw.volume_averaged).
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m.
+
+        Returns
+        -------
+        U : numpy.ndarray, shape (N,)
+            J.
+        F : numpy.ndarray, shape (N, 3)
+            N.
+
+        References
+        ----------
+        Local approximation M(x) = chi_eff H0(x) (Landau & Lifshitz, Electrodynamics of Continuous
+        Media, section 32); the quadrature of ball_rule.
+        """
         points = np.asarray(points, float).reshape(-1, 3)
         n, q = len(points), len(self.weights)
         samples = (points[:, None, :] + self.offsets[None, :, :]).reshape(-1, 3)
@@ -139,8 +167,9 @@ SAMPLE_DEPTH = 1e-6  # relative depth below the probe's surface where the field 
 
 
 def multipole_susceptibility(chi: float, degree: int) -> float:
-    """chi_l = (2l+1) chi / (l (2 + chi) + 1): the weight of the l-th multipole of the applied
-    field in the energy of a linear sphere.
+    """chi_l = (2l+1) chi / (l (2 + chi) + 1), the l-th multipole's weight in the energy.
+
+    The weight of the l-th multipole of the applied field in the energy of a linear sphere.
 
     Parameters
     ----------
@@ -238,7 +267,27 @@ class MultipoleProbe(ProbeModel):
         return h, dh
 
     def magnetic_energy_and_force(self, points):
-        """Exact magnetic U (N,) in J and F (N, 3) in N of the linear sphere at (N, 3) m."""
+        """Exact magnetic energy and force of the linear sphere at probe centres.
+
+        U = -(mu0/2) a^3 sum_l chi_l / l sum_m |h_lm|^2 up to max_degree; F = -grad U from the
+        gradient of the coefficients h_lm.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m; the ball must hold no source (clearance >= d/2).
+
+        Returns
+        -------
+        U : numpy.ndarray, shape (N,)
+            J.
+        F : numpy.ndarray, shape (N, 3)
+            N.
+
+        References
+        ----------
+        J. D. Jackson, Classical Electrodynamics, 3rd ed., 5.11 (l = 1); higher l derived here.
+        """
         h, dh = self._coefficients(points)
         scale = -0.5 * MU0 * self.radius**3
         U = scale * (np.abs(h) ** 2) @ self.weights

@@ -95,7 +95,20 @@ class ProbeLaw(ABC):
 
     @staticmethod
     def sphere_values(probe, gravity) -> dict:
-        """The fields every law has, from a probe: diameter, volume, mass, density, gravity."""
+        """The fields every law has, from a probe: diameter, volume, mass, density, gravity.
+
+        Parameters
+        ----------
+        probe : trapscape.scene.model.Probe
+            The validated probe, SI units.
+        gravity : array_like, shape (3,)
+            Gravitational acceleration, m/s^2.
+
+        Returns
+        -------
+        dict
+            diameter (m), volume (m^3), mass (kg), density (kg/m^3), gravity ((3,) m/s^2).
+        """
         return dict(diameter=float(probe.diameter), volume=probe.volume, mass=probe.mass,
                     density=float(probe.density), gravity=np.asarray(gravity, float))
 

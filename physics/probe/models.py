@@ -51,7 +51,25 @@ class ProbeModel:
         return MU0 * H, MU0 * G
 
     def magnetic_energy_and_force(self, points):
-        """Magnetic U (N,) in J and F (N, 3) in N at probe centres (N, 3) in m."""
+        """Magnetic energy and force at probe centres; each subclass samples the field its own way.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m.
+
+        Returns
+        -------
+        U : numpy.ndarray, shape (N,)
+            J.
+        F : numpy.ndarray, shape (N, 3)
+            N.
+
+        Raises
+        ------
+        NotImplementedError
+            Always, here: a subclass gives it.
+        """
         raise NotImplementedError(f"{type(self).__name__} does not sample the field")
 
     def energy_and_force(self, points):
@@ -74,16 +92,50 @@ class ProbeModel:
         return U + self.law.gravity_energy(points), F + self.law.gravity_force()
 
     def energy(self, points) -> np.ndarray:
-        """(N,) J at (N, 3) m, gravity included."""
+        """Total energy, gravity included.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N,)
+            J.
+        """
         return self.energy_and_force(points)[0]
 
     def force(self, points) -> np.ndarray:
-        """(N, 3) N at (N, 3) m, gravity included."""
+        """Total force, gravity included.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N, 3)
+            N.
+        """
         return self.energy_and_force(points)[1]
 
     def hessian_steps(self, points) -> np.ndarray:
-        """Finite-difference steps (N,) in m: 1e-4 of min(d, clearance), so that x +- h never
-        straddles a magnet's surface (the centre is at clearance >= d/2 > h)."""
+        """Finite-difference steps: 1e-4 of min(d, clearance) (clearance held above 1e-6 d).
+
+        So that x +- h never straddles a magnet's surface (the centre is at clearance >= d/2 > h).
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N,)
+            m.
+        """
         points = np.asarray(points, float).reshape(-1, 3)
         d = self.law.diameter
         clearance = self.field_model.clearance(points)
@@ -91,8 +143,9 @@ class ProbeModel:
         return HESSIAN_STEP_FRACTION * scale
 
     def hessian(self, points, directions=None, steps=None) -> np.ndarray:
-        """Hessian of U projected on the directions, K_ab = -e_a . dF/de_b, by central
-        differences of the exact force, symmetrised.
+        """Hessian of U projected on the directions, K_ab = -e_a . dF/de_b.
+
+        By central differences of the exact force, symmetrised.
 
         Parameters
         ----------
@@ -132,10 +185,34 @@ class PointProbe(ProbeModel):
     description = "point probe (field at the centre)"
 
     def magnetic_energy_and_force(self, points):
-        """Magnetic U (N,) in J and F (N, 3) in N from the field at the centres (N, 3) in m."""
+        """Magnetic energy and force from the field at the centres (the law at a point).
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m.
+
+        Returns
+        -------
+        U : numpy.ndarray, shape (N,)
+            J.
+        F : numpy.ndarray, shape (N, 3)
+            N.
+        """
         B, G = self.applied_field(points)
         return self.law.magnetic_energy(B), self.law.magnetic_force(B, G)
 
     def B(self, points) -> np.ndarray:
-        """The applied B (N, 3) in T at (N, 3) m."""
+        """The applied B, the magnets' mu0 H, at points.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            m.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N, 3)
+            T.
+        """
         return self.applied_field(points)[0]

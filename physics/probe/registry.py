@@ -45,7 +45,13 @@ def register(law: type) -> type:
 
 
 def unregister(kind: str) -> None:
-    """Remove a kind (a test's toy kind); unknown names are ignored."""
+    """Remove a kind (a test's toy kind); unknown names are ignored.
+
+    Parameters
+    ----------
+    kind : str
+        The kind's name.
+    """
     _LAWS.pop(kind, None)
 
 

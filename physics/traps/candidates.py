@@ -10,17 +10,26 @@ from scipy import ndimage
 def corner_slices(k: int) -> list:
     """Slices picking each of the 2^k corners of every cell of a k-axis grid.
 
+    Parameters
+    ----------
+    k : int
+        Number of grid axes (1 line, 2 plane, 3 free).
+
     Returns
     -------
     list of 2^k tuples of k slices
+        Applied to an array over the grid's samples, each gives the array over the cells' one
+        corner (one sample fewer along every axis).
     """
     corners = np.indices((2,) * k).reshape(k, -1).T
     return [tuple(slice(c, None if c else -1) for c in corner) for corner in corners]
 
 
 def sign_change_cells(grid) -> np.ndarray:
-    """Centres of the cells whose corners are all admissible and where every projected force
-    component takes both signs (or zero) among the corners.
+    """Centres of the cells where every projected force component changes sign.
+
+    Only cells whose corners are all admissible count; a component changes sign when it takes
+    both signs (or zero) among the corners.
 
     Parameters
     ----------

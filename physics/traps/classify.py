@@ -82,8 +82,7 @@ def classify(eigenvalues, marginal_ratio: float = MARGINAL_RATIO) -> str:
 
 
 def frequencies(stiffness, mass: float) -> tuple:
-    """Small-oscillation frequencies f = sqrt(k / m_p) / (2 pi) (harmonic oscillator; e.g.
-    Landau & Lifshitz, Mechanics, section 23).
+    """Small-oscillation frequencies f = sqrt(k / m_p) / (2 pi) of a harmonic oscillator.
 
     Parameters
     ----------
@@ -96,6 +95,10 @@ def frequencies(stiffness, mass: float) -> tuple:
     -------
     tuple of float or None
         Hz; None where k <= 0 or undefined.
+
+    References
+    ----------
+    Harmonic oscillator; e.g. Landau & Lifshitz, Mechanics, section 23.
     """
     return tuple(float(np.sqrt(k / mass) / (2.0 * np.pi)) if (k is not None and k > 0) else None
                  for k in stiffness)

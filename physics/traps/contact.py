@@ -12,7 +12,21 @@ DESCENT_ITERATIONS = 300
 
 
 def in_box(points, low, high, tolerance) -> np.ndarray:
-    """Points (N, 3) inside the box [low, high] (3,) widened by tolerance, all in m; (N,) bool."""
+    """Which points lie inside the box [low, high] widened by tolerance.
+
+    Parameters
+    ----------
+    points : numpy.ndarray, shape (N, 3)
+        m.
+    low, high : array_like, shape (3,)
+        The box's corners, m.
+    tolerance : float
+        Widening on every side, m.
+
+    Returns
+    -------
+    numpy.ndarray of bool, shape (N,)
+    """
     return np.all((points >= low - tolerance) & (points <= high + tolerance), axis=1)
 
 
@@ -50,14 +64,38 @@ class ProbeGeometry:
         self.part_boxes = [bounding_box(m) for m in scene.magnets]
 
     def clearance(self, points) -> np.ndarray:
-        """Distance (N,) in m from points (N, 3) to the nearest magnet surface or plate face
-        (negative inside a magnet or behind a plate)."""
+        """Distance to the nearest magnet surface or plate face; negative inside or behind.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N,)
+            m.
+        """
         return self.field_model.clearance(np.asarray(points, float).reshape(-1, 3))
 
     def admissible(self, points, tolerance=1e-9) -> np.ndarray:
-        """Inside the box, in front of every plate and at least d/2 from every part. A part's
-        signed distance is only computed near its bounding box (exact distances are costly
-        for meshes)."""
+        """Inside the box, in front of every plate and at least d/2 from every part.
+
+        A part's signed distance is only computed near its bounding box (exact distances are costly
+        for meshes).
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m.
+        tolerance : float
+            Relative slack (dimensionless): the box is widened by tolerance * spacing and d/2 is
+            relaxed to d/2 (1 - tolerance).
+
+        Returns
+        -------
+        numpy.ndarray of bool, shape (N,)
+        """
         points = np.asarray(points, float).reshape(-1, 3)
         limit = self.radius * (1.0 - tolerance)
         ok = in_box(points, self.low, self.high, tolerance * self.spacing)
@@ -71,15 +109,37 @@ class ProbeGeometry:
         return ok
 
     def surface_name(self, points) -> list:
-        """Name of the nearest magnet or plate to each point (N, 3); list of N str."""
+        """Name of the nearest magnet or plate to each point (by signed distance).
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m.
+
+        Returns
+        -------
+        list of N str
+        """
         points = np.asarray(points, float).reshape(-1, 3)
         both = np.concatenate([self.field_model.part_distances(points),
                                self.field_model.plate_distances(points)], axis=1)
         return [self.names[i] for i in np.argmin(both, axis=1)]
 
     def normal(self, points) -> np.ndarray:
-        """Unit gradient of the clearance at points (N, 3), by central differences of step
-        1e-6 d/2: the outward surface normal, (N, 3)."""
+        """Unit gradient of the clearance at points: the outward surface normal.
+
+        By central differences of step 1e-6 d/2.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N, 3)
+            Unit vectors (zero where the gradient vanishes).
+        """
         points = np.asarray(points, float).reshape(-1, 3)
         h = 1e-6 * self.radius
         offsets = np.concatenate([np.eye(3), -np.eye(3)]) * h
@@ -89,9 +149,26 @@ class ProbeGeometry:
         return gradient / np.maximum(np.linalg.norm(gradient, axis=1, keepdims=True), 1e-300)
 
     def clearance_hessian(self, points, tangents) -> np.ndarray:
-        """Second derivatives of the clearance along tangents (N, m, 3) at points (N, 3), by
-        central differences of step 1e-3 d/2 (Abramowitz & Stegun 25.3.23 and 25.3.26):
-        (N, m, m) in 1/m."""
+        """Second derivatives of the clearance along tangents, by central differences.
+
+        Step 1e-3 d/2 along each tangent (the diagonal terms over twice that).
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m.
+        tangents : numpy.ndarray, shape (N, m, 3)
+            Unit tangent directions at each point.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N, m, m)
+            1/m.
+
+        References
+        ----------
+        M. Abramowitz and I. A. Stegun, Handbook of Mathematical Functions, 25.3.23 and 25.3.26.
+        """
         points = np.asarray(points, float).reshape(-1, 3)
         n, m = tangents.shape[0], tangents.shape[1]
         h = 1e-3 * self.radius
@@ -111,8 +188,22 @@ class ProbeGeometry:
         return result
 
     def project_to_surface(self, points, basis, iterations=6) -> np.ndarray:
-        """Points (N, 3) moved along the allowed directions basis (k, 3) onto clearance = d/2 by
-        Newton steps on the clearance; (N, 3) in m."""
+        """Points moved along the allowed directions onto clearance = d/2 by Newton steps.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m.
+        basis : numpy.ndarray, shape (k, 3)
+            Orthonormal rows of the allowed directions.
+        iterations : int
+            Number of Newton steps on the clearance.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N, 3)
+            m.
+        """
         x = np.asarray(points, float).reshape(-1, 3).copy()
         projector = basis.T @ basis
         for _ in range(iterations):
@@ -125,9 +216,9 @@ class ProbeGeometry:
 
 
 def pseudo_solve(K, g):
-    """K^+ g per point, ignoring eigenvalues below 1e-10 of the largest (marginal directions):
-    the pseudo-inverse by the eigen-decomposition (Golub & Van Loan, Matrix Computations, 4th ed.,
-    section 5.5).
+    """K^+ g per point, ignoring eigenvalues below 1e-10 of the largest (marginal directions).
+
+    The pseudo-inverse by the eigen-decomposition.
 
     Parameters
     ----------
@@ -140,6 +231,10 @@ def pseudo_solve(K, g):
     -------
     ndarray, shape (N, k)
         m.
+
+    References
+    ----------
+    Golub & Van Loan, Matrix Computations, 4th ed., section 5.5.
     """
     values, vectors = np.linalg.eigh(K)
     top = np.max(np.abs(values), axis=1, keepdims=True)
@@ -148,8 +243,9 @@ def pseudo_solve(K, g):
 
 
 def line_contacts(grid, geometry, starts) -> np.ndarray:
-    """On a line: bisect (60 halvings) for clearance = d/2 between each boundary sample and its
-    blocked neighbour.
+    """On a line: the contact points where clearance = d/2, by bisection.
+
+    Bisects (60 halvings) between each boundary sample and its blocked neighbour.
 
     Parameters
     ----------
@@ -211,8 +307,9 @@ def tangent_basis(normals, basis):
 
 
 def surface_descent(model, geometry, starts, basis, iterations=DESCENT_ITERATIONS):
-    """Steepest descent of U along the contact surface, re-projected after each step, step
-    doubled on success and quartered on failure.
+    """Steepest descent of U along the contact surface.
+
+    Re-projected after each step, step doubled on success and quartered on failure.
 
     Parameters
     ----------
@@ -253,10 +350,11 @@ def surface_descent(model, geometry, starts, basis, iterations=DESCENT_ITERATION
 
 
 def surface_newton(model, geometry, points, basis, iterations=8):
-    """Newton's method for a contact equilibrium along the surface: the tangential force and
-    the surface-restricted Hessian K_t of contact_state, steps limited to half a grid step and
-    re-projected onto the surface. Used to polish a descent and to re-solve with the finite
-    size, where each evaluation is costly.
+    """Newton's method for a contact equilibrium along the surface.
+
+    It uses the tangential force and the surface-restricted Hessian K_t of contact_state, steps
+    limited to half a grid step and re-projected onto the surface. Used to polish a descent and
+    to re-solve with the finite size, where each evaluation is costly.
 
     Parameters
     ----------
@@ -294,7 +392,8 @@ def surface_newton(model, geometry, points, basis, iterations=8):
 
 
 def contact_state(model, geometry, points, basis):
-    """Normal, normal force, tangents and the surface-restricted Hessian
+    """Normal, normal force, tangents and the surface-restricted Hessian at contact points.
+
     K_t = T (Hess U - N Hess c) T^T (Lagrange multiplier N = -dU/dc; derived here).
 
     Parameters
@@ -316,6 +415,10 @@ def contact_state(model, geometry, points, basis):
         N/m.
     F : ndarray, shape (N, 3)
         Total force on the probe, N.
+
+    References
+    ----------
+    Derived here (K_t with the Lagrange multiplier N = -dU/dc).
     """
     normals = geometry.normal(points)
     F = model.force(points)

@@ -67,8 +67,9 @@ class Flood:
 
 def flood_from(grid: FloodGrid, start: int, bottom: float, exit_cells=None,
                magnets_are_exits: bool = True) -> Flood:
-    """Minimax flood on the grid from cell `start` (see the module's docstring; Barnes et al.,
-    Computers & Geosciences 62, 117 (2014)).
+    """Minimax flood on the grid from cell ``start``.
+
+    See the module's docstring.
 
     Parameters
     ----------
@@ -85,6 +86,10 @@ def flood_from(grid: FloodGrid, start: int, bottom: float, exit_cells=None,
     Returns
     -------
     Flood
+
+    References
+    ----------
+    Barnes et al., Computers & Geosciences 62, 117 (2014).
     """
     energy = np.ascontiguousarray(grid.energy, dtype=np.float64)
     state = np.ascontiguousarray(grid.state, dtype=np.int8)

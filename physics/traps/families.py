@@ -60,13 +60,25 @@ def drop_repeats(equilibria, distance: float) -> list:
 
 
 def is_field_zero(eq) -> bool:
-    """A magnet probe's equilibrium at B = 0, whose stiffnesses are undefined (None)."""
+    """A magnet probe's equilibrium at B = 0, whose stiffnesses are undefined (None).
+
+    Parameters
+    ----------
+    eq : Equilibrium
+        An equilibrium of the report (physics.traps.report).
+
+    Returns
+    -------
+    bool
+    """
     return bool(eq.stiffness_N_per_m) and eq.stiffness_N_per_m[0] is None
 
 
 def merge_families(equilibria, spacing: float) -> list:
-    """Marginal equilibria (and field zeros) of one kind within 2.5 grid steps of each other
-    and of energies equal to 1e-6 relative become one entry with family_size.
+    """Marginal equilibria (and field zeros) close in place and energy become one entry.
+
+    Those of one kind within 2.5 grid steps of each other and of energies equal to 1e-6
+    relative become one entry with family_size.
 
     Parameters
     ----------

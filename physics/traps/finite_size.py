@@ -131,8 +131,9 @@ def _shifted(new, old):
 
 
 def resolve_free(problem, finite, equilibria, starts, notes=None) -> list:
-    """Free equilibria re-solved by Newton's method with the finite model; one that does not
-    converge keeps its point-model entry with a note.
+    """Free equilibria re-solved by Newton's method with the finite model.
+
+    One that does not converge keeps its point-model entry with a note.
 
     Parameters
     ----------
@@ -216,9 +217,10 @@ def resolve_contacts(problem, finite, equilibria) -> tuple:
 
 
 def with_finite_size(problem, grid, equilibria) -> tuple:
-    """The point model's equilibria with their finite-size corrections, re-solved with the
-    finite model when the largest correction exceeds the threshold (or problem.finite_probe
-    forces it).
+    """The point model's equilibria with their finite-size corrections.
+
+    They are re-solved with the finite model when the largest correction exceeds the threshold
+    (or problem.finite_probe forces it).
 
     Parameters
     ----------

@@ -13,9 +13,10 @@ from trapscape.scene.units import MU0
 
 
 def newton(model, problem, starts) -> tuple:
-    """Newton's method on the projected force with a trust radius of one grid step (shrunk by
-    4 when a step leaves the admissible region), from each start (Nocedal & Wright, Numerical
-    Optimization, 2nd ed., chapter 4). Points stay admissible.
+    """Newton's method on the projected force with a trust radius of one grid step.
+
+    The radius shrinks by 4 when a step leaves the admissible region; one run from each start.
+    Points stay admissible.
 
     Parameters
     ----------
@@ -32,6 +33,10 @@ def newton(model, problem, starts) -> tuple:
         m.
     converged : ndarray of bool, shape (M,)
         The last step was below 1e-10 of the grid step.
+
+    References
+    ----------
+    Nocedal & Wright, Numerical Optimization, 2nd ed., chapter 4.
     """
     basis, geometry = problem.basis, problem.geometry
     x = np.asarray(starts, float).reshape(-1, 3).copy()
@@ -62,8 +67,9 @@ def newton(model, problem, starts) -> tuple:
 
 
 def field_zeros(problem, starts) -> tuple:
-    """Gauss-Newton on B(x) = 0 along the allowed directions, steps limited to one grid step
-    (Nocedal & Wright, Numerical Optimization, 2nd ed., section 10.3).
+    """Gauss-Newton on B(x) = 0 along the allowed directions.
+
+    Steps limited to one grid step.
 
     Parameters
     ----------
@@ -77,6 +83,10 @@ def field_zeros(problem, starts) -> tuple:
         m.
     is_zero : ndarray of bool, shape (M,)
         |B| at most field_zero_ratio of the local field scale s(x) there.
+
+    References
+    ----------
+    Nocedal & Wright, Numerical Optimization, 2nd ed., section 10.3.
     """
     model, basis, geometry = problem.point_model, problem.basis, problem.geometry
     x = np.asarray(starts, float).reshape(-1, 3).copy()
@@ -119,8 +129,10 @@ def local_field_scale(field_model, points) -> np.ndarray:
 
 
 def free_equilibria(problem, grid) -> list:
-    """The point model's equilibria away from every surface, refined from the grid's sign-change
-    cells (and its field zeros for a magnet probe free to turn), classified.
+    """The point model's equilibria away from every surface, refined and classified.
+
+    Refined from the grid's sign-change cells (and its field zeros for a magnet probe free to
+    turn).
 
     Parameters
     ----------

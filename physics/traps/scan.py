@@ -115,21 +115,32 @@ def grid_layout(box, constraint, where: str = "the scene") -> GridLayout:
 
 
 def scan_grid_geometry(scene) -> tuple:
-    """The scene's grid layout as a tuple (kind, origin, axes (k, 3), shape, points (N, 3) in m,
-    inside_box (N,), line start in m), for callers that unpack it (benchmarks/trap_speed.py).
+    """The scene's grid layout as a tuple, for callers that unpack it (benchmarks/trap_speed.py).
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene
+        Supplies the search box, the constraint and the file name.
+
+    Returns
+    -------
+    tuple
+        (kind, origin (3,) m, axes (k, 3), shape, points (N, 3) m, inside_box (N,) bool,
+        line start m), the fields of GridLayout.
 
     Raises
     ------
-    ValueError
-        As grid_layout.
+    SearchSetupError
+        A ValueError, as grid_layout: the constraint's line or plane does not cross the box.
     """
     g = grid_layout(scene.search_box, scene.constraint, scene.path or "the scene")
     return g.kind, g.origin, g.axes, g.shape, g.points, g.inside_box, g.line_start_m
 
 
 def line_in_box(point, direction, low, high) -> tuple:
-    """[t_low, t_high] of point + t direction inside the box [low, high] (the slab method: Kay &
-    Kajiya, Computer Graphics 20(4), 269 (1986)); t_low > t_high when the line misses the box.
+    """[t_low, t_high] of point + t direction inside the box [low, high].
+
+    By the slab method; t_low > t_high when the line misses the box.
 
     Parameters
     ----------
@@ -140,6 +151,10 @@ def line_in_box(point, direction, low, high) -> tuple:
     -------
     (float, float)
         m.
+
+    References
+    ----------
+    Kay & Kajiya, Computer Graphics 20(4), 269 (1986) (the slab method).
     """
     t_low, t_high = -np.inf, np.inf
     for axis in range(3):
@@ -154,10 +169,11 @@ def line_in_box(point, direction, low, high) -> tuple:
 
 
 def scan(problem, progress=None) -> ScanGrid:
-    """The point-model energy on the problem's grid. Line and plane grids also get the exact
-    force; the 3D grid gets the force from central differences of U along the grid axes
-    (one-sided next to a magnet), which is enough to find candidates and saves the gradient's
-    cost at every node.
+    """The point-model energy on the problem's grid.
+
+    Line and plane grids also get the exact force; the 3D grid gets the force from central
+    differences of U along the grid axes (one-sided next to a magnet), which is enough to find
+    candidates and saves the gradient's cost at every node.
 
     Parameters
     ----------
@@ -195,8 +211,9 @@ def scan(problem, progress=None) -> ScanGrid:
 
 
 def grid_force(U, admissible, shape, axes, spacing) -> np.ndarray:
-    """-grad U from differences along the grid axes: central where both neighbours are
-    admissible, one-sided where one is, zero where none is.
+    """-grad U from differences along the grid axes.
+
+    Central where both neighbours are admissible, one-sided where one is, zero where none is.
 
     Parameters
     ----------

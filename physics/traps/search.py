@@ -39,8 +39,9 @@ __all__ = [
 
 
 def find_traps(field_model, scene, progress=None, finite_probe: bool | None = None) -> TrapReport:
-    """Every equilibrium of the scene's probe in its search box, classified, with escape
-    figures for the wells (see the module's docstring).
+    """Every equilibrium of the scene's probe in its search box, classified.
+
+    With escape figures for the wells (see the module's docstring).
 
     Parameters
     ----------

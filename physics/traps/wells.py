@@ -30,7 +30,18 @@ class Passes:
     reach: float
 
     def snap(self, position) -> np.ndarray:
-        """The nearest pass within reach of position (3,), else position itself; m."""
+        """The nearest pass within reach of position, else position itself.
+
+        Parameters
+        ----------
+        position : numpy.ndarray, shape (3,)
+            m.
+
+        Returns
+        -------
+        numpy.ndarray, shape (3,)
+            m.
+        """
         if len(self.positions) == 0:
             return position
         distance, j = cKDTree(self.positions).query(position)
@@ -79,8 +90,10 @@ def flood_state(grid) -> np.ndarray:
 
 
 def has_well(eq, marginal_ratio: float) -> bool:
-    """Stable, or marginal with no direction falling by more than marginal_ratio of the largest
-    stiffness: the probe stays there, so it has a well to escape from.
+    """Whether the probe stays at an equilibrium, so that it has a well to escape from.
+
+    Stable, or marginal with no direction falling by more than marginal_ratio of the largest
+    stiffness.
 
     Parameters
     ----------

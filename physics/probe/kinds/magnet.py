@@ -42,6 +42,19 @@ class MagnetLaw(ProbeLaw):
 
     @classmethod
     def from_probe(cls, probe, gravity) -> "MagnetLaw":
+        """The law of a magnet probe: moment Br V / mu0 and the unit orientation if one is fixed.
+
+        Parameters
+        ----------
+        probe : trapscape.scene.model.Probe
+            The validated probe, SI units.
+        gravity : array_like, shape (3,)
+            Gravitational acceleration, m/s^2.
+
+        Returns
+        -------
+        MagnetLaw
+        """
         values = cls.sphere_values(probe, gravity)
         orientation = None
         if probe.orientation is not None:
@@ -74,8 +87,9 @@ class MagnetLaw(ProbeLaw):
         return -self.moment * (B @ self.orientation)
 
     def magnetic_force(self, B, G) -> np.ndarray:
-        """m G^T B / |B| (free; 0 where B = 0) or m G^T n (fixed) (derived here: grad |B| =
-        G^T B / |B|).
+        """m G^T B / |B| (free; 0 where B = 0) or m G^T n (fixed).
+
+        Derived here: grad |B| = G^T B / |B|.
 
         Parameters
         ----------
@@ -99,8 +113,9 @@ class MagnetLaw(ProbeLaw):
         return self.moment * unit_GtB
 
     def volume_averaged(self, B, G, weights):
-        """U = -m . <B> for a rigid uniformly magnetised sphere (Jackson 5.72 over the volume):
-        the field is averaged first, then the law applied.
+        """U = -m . <B> for a rigid uniformly magnetised sphere (Jackson 5.72 over the volume).
+
+        The field is averaged first, then the law applied.
 
         Parameters
         ----------
@@ -117,6 +132,10 @@ class MagnetLaw(ProbeLaw):
             (N,) J.
         F : numpy.ndarray
             (N, 3) N.
+
+        References
+        ----------
+        J. D. Jackson, Classical Electrodynamics, 3rd ed., 5.72 (U = -m . B), over the volume.
         """
         B = np.asarray(B, float)
         n, q = B.shape[:2]
@@ -125,5 +144,17 @@ class MagnetLaw(ProbeLaw):
         return self.magnetic_energy(B_mean), self.magnetic_force(B_mean, G_mean)
 
     def finite_model(self, field_model, positions=None):
-        """None: the mean of B over the sphere is its centre value, so the point model is exact."""
+        """None: the mean of B over the sphere is its centre value, so the point model is exact.
+
+        Parameters
+        ----------
+        field_model : trapscape.physics.field.model.FieldModel
+            The magnets' field.
+        positions : array_like, shape (N, 3), optional
+            Equilibria of the point model, m. Not used here.
+
+        Returns
+        -------
+        None
+        """
         return None

@@ -40,6 +40,19 @@ class SoftLaw(InducedLaw):
 
     @classmethod
     def from_probe(cls, probe, gravity) -> "SoftLaw":
+        """The law of a soft probe: the induced values and the saturation polarisation Js.
+
+        Parameters
+        ----------
+        probe : trapscape.scene.model.Probe
+            The validated probe, SI units.
+        gravity : array_like, shape (3,)
+            Gravitational acceleration, m/s^2.
+
+        Returns
+        -------
+        SoftLaw
+        """
         return cls(**cls.sphere_values(probe, gravity), **cls.induced_values(probe),
                    saturation=probe.saturation)
 
@@ -67,6 +80,11 @@ class SoftLaw(InducedLaw):
         -------
         numpy.ndarray
             (N, 3) magnetisation, A/m.
+
+        References
+        ----------
+        DESIGN.md, Physics definitions (soft); J. D. Jackson, Classical Electrodynamics, 3rd ed.,
+        5.11 (chi_eff).
         """
         H = np.asarray(H, float).reshape(-1, 3)
         M = self.chi_eff * H
@@ -89,6 +107,11 @@ class SoftLaw(InducedLaw):
         -------
         numpy.ndarray
             (N,) J.
+
+        References
+        ----------
+        DESIGN.md, Physics definitions (soft); J. D. Jackson, Classical Electrodynamics, 3rd ed.,
+        5.11 (chi_eff).
         """
         U = self.linear_energy(B)
         if self.saturation is not None:
@@ -101,8 +124,9 @@ class SoftLaw(InducedLaw):
         return U
 
     def magnetic_force(self, B, G) -> np.ndarray:
-        """-grad U: V chi_eff / mu0 G^T B below the knee, V Js / mu0 G^T B / |B| above it
-        (derived here: grad |B| = G^T B / |B|).
+        """-grad U: V chi_eff / mu0 G^T B below the knee, V Js / mu0 G^T B / |B| above it.
+
+        Derived here: grad |B| = G^T B / |B|.
 
         Parameters
         ----------
@@ -127,8 +151,10 @@ class SoftLaw(InducedLaw):
         return F
 
     def finite_model(self, field_model, positions=None):
-        """The exact linear sphere, or the volume average when the field on the surface of a
-        probe at any of the positions is past the knee (the exact sphere is linear only).
+        """The exact linear sphere, or the volume average when the field passes the knee.
+
+        The volume average is chosen when the field on the surface of a probe at any of the
+        positions is past the knee (the exact sphere is linear only).
 
         Parameters
         ----------

@@ -17,8 +17,7 @@ from trapscape.scene.units import MU0
 
 
 def levitation_threshold(density: float, chi_eff: float, g: float = 9.81) -> float:
-    """|d(B^2/2)/dz| = mu0 rho g / |chi_eff| that a diamagnet needs to float (Berry & Geim,
-    Eur. J. Phys. 18, 307 (1997); Simon & Geim, J. Appl. Phys. 87, 6200 (2000)).
+    """|d(B^2/2)/dz| = mu0 rho g / |chi_eff| that a diamagnet needs to float.
 
     Parameters
     ----------
@@ -33,6 +32,10 @@ def levitation_threshold(density: float, chi_eff: float, g: float = 9.81) -> flo
     -------
     float
         T^2/m.
+
+    References
+    ----------
+    Berry & Geim, Eur. J. Phys. 18, 307 (1997); Simon & Geim, J. Appl. Phys. 87, 6200 (2000).
     """
     return MU0 * density * g / abs(chi_eff)
 
