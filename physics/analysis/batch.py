@@ -10,6 +10,8 @@ the same JSON. (The command line's default engine agrees to rounding: see engine
 """
 from __future__ import annotations
 
+import concurrent.futures
+import multiprocessing
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -134,6 +136,27 @@ def run_batch(jobs, executor=None) -> list:
             return [run_job(job) for job in jobs]
     futures = [executor.submit(run_job_in_worker, job) for job in jobs]
     return [future.result() for future in futures]
+
+
+def process_pool(workers: int = 2) -> concurrent.futures.ProcessPoolExecutor:
+    """A pool of fresh worker processes for `run_batch`, each in the engine's in-process mode.
+
+    Workers come from a fork server, not forked from this process: numba's default threading
+    layer (GNU OpenMP, the fastest here for the many small kernel calls of a trap search) aborts
+    a child forked from a process that has already run a parallel kernel.
+
+    Parameters
+    ----------
+    workers : int
+        Worker processes (one per core is right: each worker runs on one thread).
+
+    Returns
+    -------
+    concurrent.futures.ProcessPoolExecutor
+    """
+    return concurrent.futures.ProcessPoolExecutor(
+        max_workers=workers, mp_context=multiprocessing.get_context("forkserver"),
+        initializer=engine.use_in_process)
 
 
 def _field_payload(analysis, points_m) -> dict:

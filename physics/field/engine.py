@@ -9,8 +9,9 @@ code whatever the thread count), the FMM's shares and the direct/FMM choice do n
 mode; OpenBLAS does: its results change in the last bits with its thread count (so do the
 command line's, between machines of different core counts), so an in-process run matches
 another in-process run exactly and a default run to rounding (1e-11 relative in a trap's
-stiffness, measured 2026-12-02 on samples/level_gauge.toml). (Pool workers forked from a process
-that has run a kernel work because physics.field picks numba's fork-safe threading layer.)
+stiffness, measured 2026-12-02 on samples/level_gauge.toml). numba's default threading layer
+(GNU OpenMP) cannot run a parallel kernel in a child forked after the parent ran one: start pool
+workers from a fork server (physics.analysis.batch.process_pool) or spawn them.
 """
 from __future__ import annotations
 

@@ -7,7 +7,7 @@ import time
 import pytest
 
 from repo_paths import SAMPLES
-from trapscape.physics.analysis.batch import Job, run_batch
+from trapscape.physics.analysis.batch import Job, process_pool, run_batch
 
 # eight variants of the level gauge: the tube moved out and the bead resized
 VARIANTS = [("gap=2.5",), ("gap=3",), ("gap=3.5",), ("gap=4",),
@@ -21,7 +21,7 @@ def level_gauge_jobs():
 def test_eight_trap_searches_on_two_worker_processes_equal_eight_sequential_runs():
     jobs = level_gauge_jobs()
     started = time.perf_counter()
-    with concurrent.futures.ProcessPoolExecutor(max_workers=2) as pool:
+    with process_pool(2) as pool:
         batched = run_batch(jobs, executor=pool)
     in_pool = time.perf_counter() - started
     started = time.perf_counter()

@@ -32,7 +32,9 @@ def fmm_in_worker(_):
 
 def test_fmm_inside_a_daemonic_pool_worker_in_in_process_mode():
     assert fmm.split_count(N_TARGETS, 2) == 2
-    with multiprocessing.get_context("fork").Pool(2, initializer=engine.use_in_process) as pool:
+    # forkserver: a child forked from this process (which has run OpenMP kernels) would hang
+    context = multiprocessing.get_context("forkserver")
+    with context.Pool(2, initializer=engine.use_in_process) as pool:
         H, G, daemonic, threads, blas = pool.map(fmm_in_worker, [0])[0]
     assert daemonic and threads == 1 and set(blas) <= {1}
     targets, positions, moments = dipoles_and_targets()
