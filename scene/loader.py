@@ -53,15 +53,15 @@ from trapscape.scene.model import (
     SteelPlate,
     frozen_array,
 )
-from trapscape.scene.overlaps import overlapping_pairs
+from trapscape.scene.overlaps import line_inside_parts, overlapping_pairs
 from trapscape.scene.parts import read_magnets
 from trapscape.scene.probe_reading import read_probe
 from trapscape.scene.reading import Context
 from trapscape.scene.tomlfile import parse_toml
 from trapscape.scene.units import unit_scale
 
-TOP_KEYS = ("version", "title", "units", "gravity", "params", "materials", "magnet",
-            "steel_plate", "probe", "search_box")
+TOP_KEYS = ("version", "title", "units", "gravity", "allow_overlap", "params", "materials",
+            "magnet", "steel_plate", "probe", "search_box")
 TOP_ELSEWHERE = {
     "constraint": "the constraint goes under the probe: write [probe.constraint]",
     "magnets": "write [[magnet]] (singular, double brackets) once per magnet",
@@ -133,8 +133,9 @@ def _build(raw: bytes, base_dir: Path, shown: str, path_text: str, overrides: di
     plates = _plates(ctx, document, magnets)
     probe, constraint = _probe(ctx, document.get("probe"), grades)
     box = _search_box(ctx, document.get("search_box", {}), magnets, plates)
-    _warn_overlaps(shown, magnets, scale, units)
+    _check_overlaps(shown, magnets, scale, units, _allow_overlap(document, shown))
     _warn_constraint_outside(shown, constraint, box, probe)
+    _warn_line_through_magnets(shown, constraint, box, magnets, scale, units)
     return Scene(
         title=reading.text(document, "title", shown, default=Path(shown).stem),
         units=units, unit_scale=scale,
@@ -338,16 +339,53 @@ def _bytes(count: float) -> str:
     return f"{count:.3g} bytes"
 
 
-def _warn_overlaps(shown, magnets, scale, units) -> None:
+def _allow_overlap(document, shown) -> bool:
+    value = document.get("allow_overlap", False)
+    if not isinstance(value, bool):
+        raise SceneError(f"{shown}, allow_overlap: write true or false (without quotes), not "
+                         f"{value!r}.")
+    return value
+
+
+def _check_overlaps(shown, magnets, scale, units, allowed) -> None:
+    """Overlapping magnets are an error (solid parts cannot share space; the field would count
+    the shared volume twice) unless the scene says allow_overlap = true: then a warning."""
     pairs = overlapping_pairs(magnets)
+    if pairs and not allowed:
+        i, j, depth = pairs[0]
+        more = f" ({len(pairs) - 1} more pairs overlap too)" if len(pairs) > 1 else ""
+        raise SceneError(
+            f"{shown}: magnets '{magnets[i].name}' and '{magnets[j].name}' overlap by about "
+            f"{depth / scale:.2g} {units}{more}; move them apart, or write allow_overlap = true "
+            f"at the top of the scene to compute it anyway (the shared volume counts twice).")
     for i, j, depth in pairs[:10]:
         warnings.warn(SceneWarning(
             f"{shown}: magnets '{magnets[i].name}' and '{magnets[j].name}' overlap by about "
-            f"{depth / scale:.2g} {units}; move them apart (solid parts cannot share space)."),
-            stacklevel=3)
+            f"{depth / scale:.2g} {units} (allowed by allow_overlap; the shared volume counts "
+            f"twice)."), stacklevel=3)
     if len(pairs) > 10:
         warnings.warn(SceneWarning(f"{shown}: {len(pairs) - 10} more pairs of magnets overlap; "
                                    f"check the positions and pattern steps."), stacklevel=3)
+
+
+def _warn_line_through_magnets(shown, constraint, box, magnets, scale, units) -> None:
+    if constraint.kind != "line":
+        return
+    span = _line_span_in_box(constraint.point, constraint.direction, box)
+    if span is None:
+        return
+    for index, first, last in line_inside_parts(constraint.point, constraint.direction, span,
+                                                magnets):
+        ends = [(constraint.point + t * constraint.direction) / scale for t in (first, last)]
+        warnings.warn(SceneWarning(
+            f"{shown}, [probe.constraint]: the guide line runs through magnet "
+            f"'{magnets[index].name}' from {_triple(ends[0])} to {_triple(ends[1])} {units}; "
+            f"the probe cannot pass there, so check the line's point and direction."),
+            stacklevel=3)
+
+
+def _triple(values) -> str:
+    return "(" + ", ".join(f"{v:.4g}" for v in np.asarray(values, float) + 0.0) + ")"
 
 
 def _warn_constraint_outside(shown, constraint, box, probe) -> None:
@@ -369,15 +407,20 @@ def _warn_constraint_outside(shown, constraint, box, probe) -> None:
 
 
 def _line_crosses_box(point, direction, box) -> bool:
-    """Slab test (Kay & Kajiya, SIGGRAPH 1986) for the infinite line point + t direction."""
+    return _line_span_in_box(point, direction, box) is not None
+
+
+def _line_span_in_box(point, direction, box):
+    """(t_low, t_high) of the infinite line point + t direction inside the box, or None: the
+    slab test (Kay & Kajiya, SIGGRAPH 1986)."""
     t_low, t_high = -np.inf, np.inf
     for axis in range(3):
         if abs(direction[axis]) < 1e-15:
             if not box.min[axis] <= point[axis] <= box.max[axis]:
-                return False
+                return None
             continue
         t1 = (box.min[axis] - point[axis]) / direction[axis]
         t2 = (box.max[axis] - point[axis]) / direction[axis]
         t_low, t_high = max(t_low, min(t1, t2)), min(t_high, max(t1, t2))
-    return t_low <= t_high
+    return (t_low, t_high) if t_low <= t_high else None
 

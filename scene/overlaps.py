@@ -131,6 +131,26 @@ def overlap_depth(first, second, boxes) -> float:
     return deepest if deepest > 2.0 * tolerance else 0.0
 
 
+def line_inside_parts(point, direction, t_range, magnets, samples=4001) -> list:
+    """[(index, t_first, t_last)] for each part the line point + t direction (t in t_range, m)
+    runs through: the first and last samples inside it, on a grid of `samples` points."""
+    t = np.linspace(t_range[0], t_range[1], samples)
+    points = np.asarray(point, float) + t[:, None] * np.asarray(direction, float)
+    found = []
+    for index, magnet in enumerate(magnets):
+        low, high = bounding_box(magnet)
+        near = np.all((points >= low) & (points <= high), axis=1)
+        if not near.any():
+            continue
+        tolerance = 1e-6 * smallest_dimension(magnet)
+        inside = np.zeros(len(t), dtype=bool)
+        inside[near] = depth_inside(magnet, points[near]) > tolerance
+        if inside.any():
+            hits = t[inside]
+            found.append((index, float(hits[0]), float(hits[-1])))
+    return found
+
+
 def overlapping_pairs(magnets) -> list:
     """[(i, j, depth_m)] for every pair of parts that share volume."""
     if len(magnets) < 2:

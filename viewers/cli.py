@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import re
 import sys
 
 from trapscape.scene.errors import SceneError
@@ -22,6 +23,11 @@ COMMANDS = {
 
 
 class _Parser(argparse.ArgumentParser):
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **kwargs)
+        # "-3,0,0.7" or "-.5" is a value, not an option (no option of ours starts with a digit)
+        self._negative_number_matcher = re.compile(r"^-\.?\d")
+
     def error(self, message):  # argparse's own usage errors are bad input too: exit 2
         self.print_usage(sys.stderr)
         command = self.prog.removeprefix("trapscape").strip()
@@ -40,7 +46,9 @@ def build_parser() -> argparse.ArgumentParser:
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     for name, help_text in COMMANDS.items():
         module = importlib.import_module(f"trapscape.viewers.commands.{name}")
-        command_parser = sub.add_parser(name, help=help_text, description=help_text)
+        command_parser = sub.add_parser(
+            name, help=help_text, description=help_text, epilog="examples:\n" + module.EXAMPLES,
+            formatter_class=argparse.RawDescriptionHelpFormatter)
         module.add_arguments(command_parser)
         command_parser.set_defaults(run=module.run)
     return parser

@@ -15,9 +15,10 @@ HOLD_NOTES = (
     "Slip = friction x pull is the usual estimate (common practice).",
     "Peel torque: pull x distance from the centre of pull to the nearest footprint edge, at the "
     "onset of tipping.",
-    "Several plates: each magnet has one image in each plate (first order); the gap and the pull "
-    "refer to the plate named here.",
 )
+SEVERAL_PLATES_NOTE = (
+    "Several plates: each magnet has one image in each plate (first order); the gap and the pull "
+    "refer to the plate named here.")
 HOLD_CAUTIONS = (
     "Magnets snap onto steel: keep fingers and skin out of the gap (pinching).",
     "Sintered magnets are brittle and chip or shatter when they strike steel or each other; "
@@ -262,5 +263,6 @@ def hold_json(scene, hold) -> dict:
                   "saturation_warning": r.saturation_warning, "peel_torque_N_m": r.peel_torque,
                   "plate_flux_density_T": r.plate_flux_density} for r in hold.rows],
         "saturation_onset_gap": onset,
-        "notes": list(HOLD_NOTES), "cautions": list(HOLD_CAUTIONS),
+        "notes": list(HOLD_NOTES) + ([SEVERAL_PLATES_NOTE] if len(scene.plates) > 1 else []),
+        "cautions": list(HOLD_CAUTIONS),
     }

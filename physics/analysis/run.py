@@ -27,11 +27,36 @@ from trapscape.scene.units import MU0
 @dataclass(frozen=True)
 class FieldValues:
     """The field at points (SI): B (N, 3) in T, H (N, 3) in A/m (the magnets' applied field;
-    inside a magnet B = mu0 (H + M)), in_model (N,) False behind a steel plate's face."""
+    inside a magnet B = mu0 (H + M)), in_model (N,) False behind a steel plate's face,
+    inside_magnet (N,) the index of the magnet holding the point, -1 in air."""
 
     B: np.ndarray
     H: np.ndarray
     in_model: np.ndarray
+    inside_magnet: np.ndarray
+
+
+def without_rounding_noise(vectors, relative=1e-12, floor=1e-14) -> np.ndarray:
+    """Field vectors with the summation's rounding noise set to 0.
+
+    A component below `relative` of its own vector's length, or a vector shorter than `floor`
+    of the longest in the set, is the rounding left where fields cancel (float64 sums carry
+    about 1e-16 of the largest term), not a field.
+
+    Parameters
+    ----------
+    vectors : ndarray, shape (N, 3)
+    relative, floor : float
+
+    Returns
+    -------
+    ndarray, shape (N, 3)
+    """
+    vectors = np.asarray(vectors, float)
+    length = np.linalg.norm(vectors, axis=1, keepdims=True)
+    largest = float(length.max()) if len(length) else 0.0
+    noise = (np.abs(vectors) <= relative * length) | (length <= floor * largest)
+    return np.where(noise, 0.0, vectors) + 0.0
 
 
 def load_analysis(path, overrides=()) -> "Analysis":
@@ -151,9 +176,10 @@ class Analysis:
         FieldValues
         """
         points = np.asarray(points_m, dtype=np.float64).reshape(-1, 3)
-        H = self.model.applied_H(points, progress=progress)
-        B = MU0 * (H + self.model.magnetization(points))
-        return FieldValues(B=B, H=H, in_model=self.model.in_model(points))
+        H = without_rounding_noise(self.model.applied_H(points, progress=progress))
+        B = without_rounding_noise(MU0 * (H + self.model.magnetization(points)))
+        return FieldValues(B=B, H=H, in_model=self.model.in_model(points),
+                           inside_magnet=self.model.inside_magnet(points))
 
     # -- the JSON results (stamped and JSON-ready; see physics.analysis.results) -------------
 

@@ -216,20 +216,23 @@ def test_load_scene_reads_a_file_and_records_its_path(tmp_path):
     assert scene.path == str(path) and scene.title == "s" and len(scene.digest) == 64
 
 
-def test_touching_cubes_do_not_warn_but_overlapping_ones_do():
+def test_touching_cubes_pass_but_overlapping_ones_stop_unless_allowed():
     touching = scene_text('[[magnet]]\nshape = "box"\nsize = [5, 5, 5]\nremanence = 1\n'
                           'pattern = { kind = "linear", count = 2, step = [5, 0, 0] }')
     with warnings.catch_warnings():
         warnings.simplefilter("error", SceneWarning)
         load_scene_text(touching)
+    overlapping = touching.replace("step = [5", "step = [4")
+    with pytest.raises(SceneError, match=r"'box-1-1' and 'box-1-2' overlap by about 1 mm"):
+        load_scene_text(overlapping)
     with pytest.warns(SceneWarning, match=r"'box-1-1' and 'box-1-2' overlap by about 1 mm"):
-        load_scene_text(touching.replace("step = [5", "step = [4"))
+        load_scene_text("allow_overlap = true\n" + overlapping)
 
 
 def test_spheres_overlap_depth_is_twice_radius_minus_distance():
     text = scene_text('[[magnet]]\nshape = "sphere"\nsize = 10\nremanence = 1\n'
                       '[[magnet]]\nshape = "sphere"\nsize = 10\nposition = [7, 0, 0]\n'
-                      'remanence = 1')
+                      'remanence = 1', head="allow_overlap = true")
     with pytest.warns(SceneWarning) as caught:
         load_scene_text(text)
     # 2 r - d = 10 - 7 = 3 mm (derived in scene/overlaps.py); the lattice step is 3/20 mm

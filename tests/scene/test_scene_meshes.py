@@ -109,8 +109,8 @@ def test_each_mesh_problem_has_its_own_sentence(tmp_path, name, make, fragment):
 
 def test_overlapping_meshes_warn_with_the_depth(tmp_path):
     trimesh.creation.box(extents=[10, 10, 10]).export(tmp_path / "cube.stl")
-    text = ('units = "mm"\n[[magnet]]\nname = "a"\nshape = "mesh"\nfile = "cube.stl"\n'
-            'remanence = 1\n[[magnet]]\nname = "b"\nshape = "mesh"\nfile = "cube.stl"\n'
+    text = ('units = "mm"\nallow_overlap = true\n[[magnet]]\nname = "a"\nshape = "mesh"\n'
+            'file = "cube.stl"\nremanence = 1\n[[magnet]]\nname = "b"\nshape = "mesh"\nfile = "cube.stl"\n'
             'position = [8, 0, 0]\nremanence = 1\n[[magnet]]\nname = "c"\nshape = "sphere"\n'
             'size = 4\nposition = [-6, 0, 0]\nremanence = 1\n')
     with pytest.warns(SceneWarning) as caught:

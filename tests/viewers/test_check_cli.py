@@ -82,14 +82,19 @@ BAD = {
     "set malformed": (BASE, ["--set", "gap"], "write NAME=VALUE", None),
     "magnet behind plate": (BASE + "[[steel_plate]]\npoint = [0, 0, 0]\nnormal = [0, 0, 1]\nthickness = 5\n", [], "reaches 0.5 mm behind the plate's face", None),
     "missing scene file": (None, [], "scene file", None),
+    "overlap": (BASE + '[[magnet]]\nname = "other"\nshape = "box"\nsize = [10, 10, 5]\n'
+                'position = [8, 0, "gap"]\ngrade = "N42"\n', [],
+                "magnets 'block' and 'other' overlap by about 2 mm; move them apart, or write "
+                "allow_overlap = true", None),
     "mesh missing": (MESH.format("nothing.stl"), [], "mesh file nothing.stl not found", None),
     "mesh unreadable": (MESH.format("junk.stl"), [], "cannot read junk.stl as STL", lambda p: p.write_bytes(b"not a mesh " * 20)),
     "mesh not closed": (MESH.format("open.stl"), [], "open.stl is not closed", _open_box),
     "mesh zero volume": (MESH.format("flat.stl"), [], "flat.stl encloses zero volume", _flat),
 }
 GOOD = {  # exit 0 with a one-line warning on stderr
-    "overlap warning": (BASE + '[[magnet]]\nname = "other"\nshape = "box"\nsize = [10, 10, 5]\n'
-                        'position = [8, 0, "gap"]\ngrade = "N42"\n', [],
+    "overlap allowed": ("allow_overlap = true\n" + BASE + '[[magnet]]\nname = "other"\n'
+                        'shape = "box"\nsize = [10, 10, 5]\nposition = [8, 0, "gap"]\n'
+                        'grade = "N42"\n', [],
                         "warning: scene.toml: magnets 'block' and 'other' overlap by about 2 mm",
                         None),
     "inside-out mesh repaired": (MESH.format("inverted.stl"), [],

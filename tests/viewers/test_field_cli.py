@@ -70,8 +70,10 @@ def test_line_and_plane_with_plots(scene, tmp_path):
     (None, ["--points", "missing.csv", "--out", "o.csv"], "cannot read the points file"),
     (None, ["--line", "0,0", "0,0,1", "5", "--out", "o.csv"], "three numbers"),
     (None, ["--line", "0,0,0", "0,0,1", "1", "--out", "o.csv"], "at least 2"),
-    (None, ["--plane", "w=3", "--out", "o.csv"], "AXIS=VALUE"),
-    (None, ["--plane", "z=0"], "--out OUT.csv"),
+    (None, ["--section", "w=3", "-o", "o.csv"], "write an axis x, y or z"),
+    (None, ["--section", "z", "-o", "o.csv"], "field needs the plane's level"),
+    (None, ["--section", "z=nan", "-o", "o.csv"], "is not a finite number"),
+    (None, ["--section", "z=0"], "-o OUT.csv"),
     (None, ["--points", "in.csv", "--line", "0,0,0", "1,1,1", "3"], "not allowed with"),
 ])
 def test_bad_input_gets_one_sentence_and_exit_2(scene, tmp_path, content, args, message):

@@ -48,9 +48,9 @@ def _commands(tmp):
     plate = str(SAMPLES / "holding_plate.toml")
     return {
         "check": ["check", sample],
-        "traps": ["traps", sample, "--json", str(tmp / "traps.json")],
-        "field": ["field", sample, "--plane", "z=0", "--resolution", "24",
-                  "--out", str(tmp / "plane.csv")],
+        "traps": ["traps", sample, "-o", str(tmp / "traps.json")],
+        "field": ["field", sample, "--section", "z=0", "--resolution", "24",
+                  "-o", str(tmp / "plane.csv"), "--plot", str(tmp / "plane.png")],
         "hold": ["hold", plate, "--gap", "0..2@3"],
         "render": ["render", sample, "-o", str(tmp / "view.png"), "--size", "320x240",
                    "--resolution", "24"],

@@ -12,18 +12,33 @@ import warnings
 import numpy as np
 
 from trapscape.scene.errors import SceneWarning
-from trapscape.viewers.commands.common import add_scene_arguments, analysis_from_args, write_json
+from trapscape.viewers.commands.common import (
+    add_output_argument,
+    add_scene_arguments,
+    analysis_from_args,
+    check_output_path,
+    write_json,
+)
 
 AXIS_NAMES = {(1, 0, 0): "+x", (-1, 0, 0): "-x", (0, 1, 0): "+y", (0, -1, 0): "-y",
               (0, 0, 1): "+z", (0, 0, -1): "-z"}
 
 
+EXAMPLES = """\
+  trapscape check samples/level_gauge.toml
+  trapscape check samples/level_gauge.toml --set gap=4 -o check.json
+"""
+
+
 def add_arguments(parser) -> None:
     add_scene_arguments(parser)
-    parser.add_argument("--json", metavar="FILE", help="also write the parts and totals as JSON")
+    add_output_argument(parser, "FILE.json", "also write the parts and totals as JSON",
+                        former="--json")
 
 
 def run(args) -> int:
+    if args.output:
+        check_output_path(args.output, (".json",))
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", SceneWarning)
         analysis = analysis_from_args(args)
@@ -34,8 +49,8 @@ def run(args) -> int:
             warnings.showwarning(warning.message, warning.category, warning.filename,
                                  warning.lineno)
     result = analysis.check_result()
-    if args.json:  # first, so the file is there even if the table's reader goes away
-        write_json(args.json, result)
+    if args.output:  # first, so the file is there even if the table's reader goes away
+        write_json(args.output, result)
     print(format_table(analysis.scene, result))
     return 0
 

@@ -1,6 +1,7 @@
 """Options and helpers shared by the sub-commands."""
 from __future__ import annotations
 
+import argparse
 import contextlib
 import json
 import os
@@ -10,14 +11,78 @@ from pathlib import Path
 
 from trapscape.scene.errors import SceneError
 
+AXES = {"x": 0, "y": 1, "z": 2}
+FIGURE_SUFFIXES = (".png", ".pdf", ".svg")
+
 
 def add_scene_arguments(parser) -> None:
+    """SCENE, --set and --quiet: what every command that reads a scene takes."""
     parser.add_argument("scene", metavar="SCENE", help="scene file (TOML)")
+    add_run_options(parser)
+
+
+def add_run_options(parser) -> None:
     parser.add_argument(
         "--set", action="append", default=[], metavar="NAME=VALUE",
         help="override a [params] value, e.g. --set gap=4 (repeatable)",
     )
     parser.add_argument("--quiet", action="store_true", help="no progress output")
+
+
+def add_output_argument(parser, metavar, help, required=False, former=None) -> None:
+    """-o/--output, the one name of every command's main output; `former` is an earlier name
+    of the same option, still read but no longer shown."""
+    parser.add_argument("-o", "--output", dest="output", metavar=metavar, required=required,
+                        help=help)
+    if former:
+        parser.add_argument(former, dest="output", metavar=metavar, help=argparse.SUPPRESS)
+
+
+def add_section_argument(parser, help) -> None:
+    parser.add_argument("--section", metavar="AXIS[=VALUE]", help=help)
+
+
+def parse_section(text):
+    """'y' -> (1, None); 'z=2.5' -> (2, 2.5); None -> (None, None)."""
+    if not text:
+        return None, None
+    name, _, value = text.partition("=")
+    axis = AXES.get(name.strip().lower())
+    if axis is None:
+        raise SceneError(f"--section {text!r}: write an axis x, y or z, optionally =VALUE "
+                         "in the scene's unit, e.g. --section z=2.5.")
+    if not value.strip():
+        return axis, None
+    return axis, finite_number(value, f"--section {text!r}")
+
+
+def finite_number(text, where) -> float:
+    """float(text), or a SceneError naming `where` for text that is no finite number."""
+    try:
+        value = float(text)
+    except ValueError:
+        raise SceneError(f"{where}: {text.strip()!r} is not a number.") from None
+    if value != value or value in (float("inf"), float("-inf")):
+        raise SceneError(f"{where}: {text.strip()!r} is not a finite number.")
+    return value
+
+
+def check_output_path(path, suffixes=None, option="-o") -> None:
+    """A SceneError before any work when `path` cannot be written: a wrong suffix, a folder,
+    a missing folder or one we may not write in."""
+    target = Path(path)
+    if suffixes and target.suffix.lower() not in suffixes:
+        raise SceneError(f"{option} {path}: write a {' or '.join(suffixes)} file, e.g. "
+                         f"{option} result{suffixes[0]}.")
+    if target.is_dir():
+        raise SceneError(f"{option} {path}: that is a folder; give a file name inside it.")
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise SceneError(f"{option} {path}: the folder {folder} does not exist; make it first "
+                         "or choose another path.")
+    if not os.access(folder, os.W_OK | os.X_OK):
+        raise SceneError(f"{option} {path}: the folder {folder} is not writable; choose "
+                         "another path.")
 
 
 def analysis_from_args(args):
@@ -65,6 +130,22 @@ def replaced_atomically(path, newline=None):
         try:
             with open(temporary, "w", encoding="utf-8", newline=newline) as stream:
                 yield stream
+            os.replace(temporary, target)
+        except BaseException:
+            temporary.unlink(missing_ok=True)
+            raise
+    except OSError as error:
+        raise SceneError(f"cannot write {path}: {error.strerror}; choose a writable path.") from None
+
+
+def save_figure(figure, path) -> None:
+    """A matplotlib figure saved to a temporary file beside `path` and moved into place."""
+    target = Path(path)
+    temporary = target.with_name(f".{target.name}.{os.getpid()}.tmp")
+    try:
+        try:
+            figure.savefig(temporary, format=target.suffix.lstrip(".").lower() or "png",
+                           bbox_inches="tight")
             os.replace(temporary, target)
         except BaseException:
             temporary.unlink(missing_ok=True)

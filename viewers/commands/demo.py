@@ -10,6 +10,11 @@ from trapscape.scene.errors import SceneError
 
 DEMO_SAMPLE = "level_gauge.toml"
 DEFAULT_DIR = "trapscape-demo"
+EXAMPLES = """\
+  trapscape demo
+  trapscape demo -o demo-out --sample bead_chip.toml
+  trapscape demo --set gap=4 --quiet
+"""
 
 
 def samples_dir() -> Path:
@@ -25,17 +30,21 @@ def samples_dir() -> Path:
 
 
 def add_arguments(parser) -> None:
-    parser.add_argument("-o", "--out", default=DEFAULT_DIR, metavar="DIR",
-                        help=f"where the files go (default ./{DEFAULT_DIR}/)")
+    from trapscape.viewers.commands.common import add_output_argument, add_run_options
+
+    add_output_argument(parser, "DIR", f"where the files go (default ./{DEFAULT_DIR}/)",
+                        former="--out")
+    parser.set_defaults(output=DEFAULT_DIR)
     parser.add_argument("--sample", default=DEMO_SAMPLE, metavar="NAME",
                         help=f"a file of samples/ to run on (default {DEMO_SAMPLE})")
-    parser.add_argument("--size", default="1600x1200", metavar="WxH", help="picture size")
-    parser.add_argument("--quiet", action="store_true", help="no progress output")
+    parser.add_argument("--size", default="1600x1200", metavar="WxH",
+                        help="picture size in pixels (default 1600x1200)")
+    add_run_options(parser)
 
 
 def run(args) -> int:
     from trapscape.physics.analysis.run import Analysis
-    from trapscape.scene.loader import load_scene
+    from trapscape.scene.loader import load_scene, parse_overrides
     from trapscape.viewers.commands.common import progress
     from trapscape.viewers.commands.render import parse_size
     from trapscape.viewers.layers.context import ViewContext
@@ -44,7 +53,7 @@ def run(args) -> int:
     if not sample.is_file():
         names = ", ".join(sorted(p.name for p in samples_dir().glob("*.toml")))
         raise SceneError(f"demo: no sample {args.sample!r}; choose one of {names}.")
-    out = Path(args.out)
+    out = Path(args.output)
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as error:
@@ -52,7 +61,7 @@ def run(args) -> int:
     size = parse_size(args.size)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        analysis = Analysis(load_scene(str(sample)))
+        analysis = Analysis(load_scene(str(sample), parse_overrides(args.set)))
     print(f"sample: {sample}")
     written = [("check", write_json_file(analysis.check_result(), out / "check.json"))]
     with progress(args, desc="scan") as update:

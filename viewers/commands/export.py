@@ -4,14 +4,29 @@ HTML file with the interactive 3D view."""
 from __future__ import annotations
 
 from trapscape.scene.errors import SceneError
-from trapscape.viewers.commands.common import add_scene_arguments, analysis_from_args
-from trapscape.viewers.commands.render import (add_view_arguments, print_notes, render_options,
-                                     view_context)
+from trapscape.viewers.commands.common import (
+    add_output_argument,
+    add_scene_arguments,
+    analysis_from_args,
+    check_output_path,
+)
+from trapscape.viewers.commands.render import (
+    add_view_arguments,
+    print_notes,
+    render_options,
+    view_context,
+)
+
+EXAMPLES = """\
+  trapscape export samples/level_gauge.toml -o field.vti --spacing 0.5
+  trapscape export samples/level_gauge.toml -o zones.stl --layers +isosurfaces
+  trapscape export samples/bead_chip.toml -o view.html
+"""
 
 
 def add_arguments(parser) -> None:
     add_scene_arguments(parser)
-    parser.add_argument("-o", "--out", required=True, metavar="OUT",
+    add_output_argument(parser, "OUT", required=True, former="--out",
                         help="OUT.vti (field grid), OUT.vtp or OUT.stl (geometry; STL: one file "
                              "per layer, OUT-<layer>.stl), OUT.html (interactive view)")
     add_view_arguments(parser)
@@ -23,7 +38,11 @@ def run(args) -> int:
     from trapscape.viewers.export import GEOMETRY_DEFAULTS, export, format_of
     from trapscape.viewers.layers import parse_layers
 
-    kind = format_of(args.out)
+    kind = format_of(args.output)
+    check_output_path(args.output)
+    if args.spacing is not None and not (args.spacing > 0 and args.spacing < float("inf")):
+        raise SceneError(f"--spacing {args.spacing!r}: the grid step is a positive finite length "
+                         "in the scene's unit.")
     analysis = analysis_from_args(args)
     scene = analysis.scene
     ctx = view_context(analysis, args, traps=kind != ".vti")  # a field grid marks no trap
@@ -33,7 +52,7 @@ def run(args) -> int:
         if args.layers and all(item.strip()[:1] in "+-" for item in args.layers.split(",")):
             layers = _relative_to(GEOMETRY_DEFAULTS, args.layers, scene)
     options = render_options(scene, args, size=(1200, 900))
-    written = export(ctx, args.out, layers=layers, options=options, spacing=args.spacing,
+    written = export(ctx, args.output, layers=layers, options=options, spacing=args.spacing,
                      resolution=args.resolution)
     for path in written:
         print(f"wrote {path}")

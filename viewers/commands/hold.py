@@ -7,11 +7,24 @@ import re
 import numpy as np
 
 from trapscape.scene.errors import SceneError
-from trapscape.viewers.commands.common import add_scene_arguments, analysis_from_args, progress, write_json
+from trapscape.viewers.commands.common import (
+    FIGURE_SUFFIXES,
+    add_output_argument,
+    add_scene_arguments,
+    analysis_from_args,
+    check_output_path,
+    progress,
+    save_figure,
+    write_json,
+)
 
 _NUMBER = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"
 _GAPS = re.compile(rf"^\s*({_NUMBER})\s*\.\.\s*({_NUMBER})\s*@\s*(\d+)\s*$")
 MAX_GAPS = 1000
+EXAMPLES = """\
+  trapscape hold samples/holding_plate.toml --gap 0..5@11
+  trapscape hold samples/holding_plate.toml --gap 0..3@7 --friction 0.2 -o hold.json --plot pull.png
+"""
 
 
 def add_arguments(parser) -> None:
@@ -22,7 +35,7 @@ def add_arguments(parser) -> None:
     parser.add_argument("--plate", metavar="NAME", help="the steel plate (default: the nearest)")
     parser.add_argument("--friction", type=float, metavar="MU",
                         help="friction coefficient on the plate, for the slip force (e.g. 0.2)")
-    parser.add_argument("--json", metavar="FILE", help="write the rows as JSON")
+    add_output_argument(parser, "FILE.json", "also write the rows as JSON", former="--json")
     parser.add_argument("--plot", metavar="FILE.png", help="plot the pull against the gap")
 
 
@@ -31,10 +44,13 @@ def parse_gaps(text: str) -> np.ndarray:
     match = _GAPS.match(text or "")
     if match is None:
         try:
-            return np.array([float(text)])
+            value = float(text)
         except (TypeError, ValueError):
             raise SceneError(f"--gap {text!r}: write START..STOP@COUNT in the scene's unit, "
                              f"e.g. --gap 0..5@11.") from None
+        if not np.isfinite(value) or value < 0:
+            raise SceneError(f"--gap {text!r}: a gap is a finite number, 0 or more.")
+        return np.array([value])
     start, stop, count = float(match[1]), float(match[2]), int(match[3])
     if not 1 <= count <= MAX_GAPS:
         raise SceneError(f"--gap {text!r}: COUNT must be between 1 and {MAX_GAPS}.")
@@ -44,19 +60,24 @@ def parse_gaps(text: str) -> np.ndarray:
 
 
 def run(args) -> int:
+    gaps = parse_gaps(args.gap)
+    if args.output:
+        check_output_path(args.output, (".json",))
+    if args.plot:
+        check_output_path(args.plot, FIGURE_SUFFIXES, "--plot")
     analysis = analysis_from_args(args)
     scene = analysis.scene
-    gaps = parse_gaps(args.gap)
     with progress(args, unit="gap", desc="pull") as update:
         result = analysis.hold(gaps * scene.unit_scale, part=args.part, plate=args.plate,
                                friction=args.friction, progress=update)
     onset = result.saturation_onset_gap_m
     onset_file = None if onset is None else onset / scene.unit_scale
-    _print_table(scene, result.rows, result.plate, args, onset_file)
-    if args.json:
-        write_json(args.json, analysis.hold_result(gaps * scene.unit_scale, part=args.part,
-                                                   plate=args.plate, friction=args.friction))
-        print(f"wrote {args.json}")
+    payload = analysis.hold_result(gaps * scene.unit_scale, part=args.part, plate=args.plate,
+                                   friction=args.friction)
+    _print_table(scene, result.rows, result.plate, args, onset_file, payload)
+    if args.output:
+        write_json(args.output, payload)
+        print(f"wrote {args.output}")
     if args.plot:
         _plot(args.plot, scene, result.rows, result.plate, args)
         print(f"wrote the plot to {args.plot}")
@@ -67,7 +88,7 @@ def _format(value, width=11):
     return f"{'-':>{width}}" if value is None else f"{value:>{width}.4g}"
 
 
-def _print_table(scene, rows, plate, args, onset):
+def _print_table(scene, rows, plate, args, onset, payload):
     unit = scene.units
     what = f"part '{args.part}'" if args.part else "the whole assembly"
     print(f"pull of {what} on plate '{plate.name}' "
@@ -83,11 +104,9 @@ def _print_table(scene, rows, plate, args, onset):
     else:
         print(f"saturation: the plate is expected to saturate below a gap of about {onset:.3g} "
               f"{unit}; there the real pull is lower than shown.")
-    from trapscape.physics.analysis.results import HOLD_CAUTIONS, HOLD_NOTES
-
-    for note in HOLD_NOTES:
+    for note in payload["notes"]:
         print(f"note: {note}")
-    for caution in HOLD_CAUTIONS:
+    for caution in payload["cautions"]:
         print(f"caution: {caution}")
 
 
@@ -113,10 +132,6 @@ def _plot(path, scene, rows, plate, args):
     axes.grid(True, alpha=0.3)
     axes.legend(fontsize=8)
     figure.tight_layout()
-    try:
-        figure.savefig(path)
-    except OSError as error:
-        raise SceneError(f"cannot write {path}: {error.strerror}; choose a writable path.") from None
-    finally:
-        plt.close(figure)
+    save_figure(figure, path)
+    plt.close(figure)
 

@@ -5,10 +5,23 @@ from __future__ import annotations
 import sys
 
 from trapscape.scene.errors import SceneError
-from trapscape.viewers.commands.common import add_scene_arguments, analysis_from_args, show_progress
+from trapscape.viewers.commands.common import (
+    add_output_argument,
+    add_scene_arguments,
+    add_section_argument,
+    analysis_from_args,
+    check_output_path,
+    parse_section,
+    show_progress,
+)
 
-AXES = {"x": 0, "y": 1, "z": 2}
 DEFAULT_RESOLUTION = 64
+EXAMPLES = """\
+  trapscape render samples/level_gauge.toml -o view.png
+  trapscape render samples/bead_chip.toml -o front.png --camera front --section y=0
+  trapscape render samples/level_gauge.toml -o zones.png --layers +isosurfaces --iso 10,20mT
+  trapscape render samples/arc_rotor.toml -o polarity.png --view polarity
+"""
 
 
 def add_view_arguments(parser) -> None:
@@ -22,23 +35,22 @@ def add_view_arguments(parser) -> None:
              + ", ".join(LAYERS))
     parser.add_argument("--camera", default="iso", choices=("iso", "front", "side", "top", "fit"),
                         help="camera preset (default iso; fit frames the magnets and traps)")
-    parser.add_argument("--section", metavar="AXIS[=VALUE]",
-                        help="the section plane, e.g. y, z=2.5 (scene unit); default: through "
-                             "the headline trap, facing the camera")
+    add_section_argument(parser, "the section plane, e.g. y, z=2.5 (scene unit); default: "
+                                 "through the headline trap, facing the camera")
     parser.add_argument("--scale", choices=("log", "linear"), default="log",
                         help="colour scale of the field map (default log)")
     parser.add_argument("--iso", metavar="LEVELS",
                         help="isosurface levels, e.g. 20,50mT or 1000J/m3 (bare numbers: mT); "
                              "default: three levels across the field in the box")
     parser.add_argument("--resolution", type=int, default=None, metavar="N",
-                        help="field grid points on the longest side of the box (default 64 for "
+                        help="samples along the longest side of the box (default 64 for "
                              "pictures; a .vti export defaults to the search box's spacing)")
     parser.add_argument("--title", help="title over the picture (default: the scene's; '' for none)")
 
 
 def add_arguments(parser) -> None:
     add_scene_arguments(parser)
-    parser.add_argument("-o", "--out", metavar="OUT.png", help="where to write the picture")
+    add_output_argument(parser, "OUT.png", "where to write the picture", former="--out")
     parser.add_argument("--show", action="store_true", help="open an interactive window too")
     parser.add_argument("--view", choices=("scene", "polarity"), default="scene",
                         help="scene: the 3D view (default); polarity: a top view of the parts, "
@@ -61,22 +73,6 @@ def parse_size(text: str) -> tuple[int, int]:
         raise SceneError(f"--size {text!r}: each side must be 64 to 16384 pixels.")
     return size
 
-
-def parse_section(text):
-    """'y' -> (1, None); 'z=2.5' -> (2, 2.5); None -> (None, None)."""
-    if not text:
-        return None, None
-    name, _, value = text.partition("=")
-    axis = AXES.get(name.strip().lower())
-    if axis is None:
-        raise SceneError(f"--section {text!r}: write an axis x, y or z, optionally =VALUE "
-                         "in the scene's unit, e.g. --section z=2.5.")
-    if not value.strip():
-        return axis, None
-    try:
-        return axis, float(value)
-    except ValueError:
-        raise SceneError(f"--section {text!r}: {value!r} is not a number.") from None
 
 
 def view_context(analysis, args, traps: bool = True):
@@ -124,15 +120,11 @@ def print_notes(ctx) -> None:
 
 
 def run(args) -> int:
-    if not args.out and not args.show:
+    if not args.output and not args.show:
         raise SceneError("render: say where the picture goes with -o OUT.png (or open a window "
                          "with --show).")
-    if args.out and not args.out.lower().endswith(".png"):
-        raise SceneError(f"render: {args.out!r} is not a .png; write -o OUT.png.")
-    if args.out:
-        from trapscape.viewers.export import check_writable
-
-        check_writable(args.out)
+    if args.output:
+        check_output_path(args.output, (".png",))
     analysis = analysis_from_args(args)
     scene = analysis.scene
     size = parse_size(args.size)
@@ -140,17 +132,17 @@ def run(args) -> int:
     if args.view == "polarity":
         from trapscape.viewers.polarity import draw_polarity_map
 
-        if args.out:
-            draw_polarity_map(ctx, args.out, size=size, title=args.title,
+        if args.output:
+            draw_polarity_map(ctx, args.output, size=size, title=args.title,
                               transparent=args.transparent)
-            print(f"wrote the polarity map to {args.out}")
+            print(f"wrote the polarity map to {args.output}")
         return 0
     from trapscape.viewers.render import render_png, show_window
 
     options = render_options(scene, args, size, args.transparent, args.cutaway)
-    if args.out:
-        render_png(ctx, options, args.out)
-        print(f"wrote {args.out} ({size[0]}x{size[1]}; layers: {', '.join(options.layers)})")
+    if args.output:
+        render_png(ctx, options, args.output)
+        print(f"wrote {args.output} ({size[0]}x{size[1]}; layers: {', '.join(options.layers)})")
     if args.show:
         show_window(ctx, options)
     print_notes(ctx)

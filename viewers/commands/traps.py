@@ -4,22 +4,38 @@ from __future__ import annotations
 
 import numpy as np
 
-from trapscape.viewers.commands.common import add_scene_arguments, analysis_from_args, progress, write_json
+from trapscape.viewers.commands.common import (
+    add_output_argument,
+    add_scene_arguments,
+    analysis_from_args,
+    check_output_path,
+    progress,
+    write_json,
+)
+
+EXAMPLES = """\
+  trapscape traps samples/level_gauge.toml
+  trapscape traps samples/level_gauge.toml --set gap=4 -o traps.json
+  trapscape traps samples/graphite_stage.toml --quiet | less
+"""
 
 
 def add_arguments(parser) -> None:
     add_scene_arguments(parser)
-    parser.add_argument("--json", metavar="FILE", help="write the equilibria as JSON")
+    add_output_argument(parser, "FILE.json", "also write the equilibria as JSON",
+                        former="--json")
 
 
 def run(args) -> int:
+    if args.output:
+        check_output_path(args.output, (".json",))
     analysis = analysis_from_args(args)
     with progress(args, desc="scan") as update:
         report = analysis.traps(progress=update)
     print(format_table(report, analysis.scene))
-    if args.json:
-        write_json(args.json, analysis.traps_result())
-        print(f"wrote {args.json}")
+    if args.output:
+        write_json(args.output, analysis.traps_result())
+        print(f"wrote {args.output}")
     return 0
 
 
