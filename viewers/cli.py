@@ -8,6 +8,7 @@ import argparse
 import importlib
 import re
 import sys
+import threading
 
 from trapscape.scene.errors import SceneError
 
@@ -69,10 +70,19 @@ def _default_showwarning(*args):
     warnings._showwarnmsg_impl(warnings.WarningMessage(*args))
 
 
+def _stop_on_terminate(signum, frame):
+    """SIGTERM ends the run like Ctrl-C: through every `finally`, so no temporary file of an
+    unfinished output is left beside its target."""
+    raise KeyboardInterrupt
+
+
 def main(argv=None) -> int:
+    import signal
     import warnings
 
     warnings.showwarning = _one_line_warning
+    if threading.current_thread() is threading.main_thread():
+        signal.signal(signal.SIGTERM, _stop_on_terminate)
     try:
         parser = build_parser()
         args = parser.parse_args(argv)

@@ -16,6 +16,7 @@ import numpy as np
 from trapscape.physics.analysis.results import tool_version
 from trapscape.physics.analysis.views import probe_energy_and_force
 from trapscape.scene.errors import SceneError
+from trapscape.viewers.atomic import atomic_path
 from trapscape.viewers.layers import layer_module
 from trapscape.viewers.layers.annotations import title_lines
 from trapscape.viewers.layers.markers import table_rows
@@ -91,7 +92,8 @@ def export_vti(ctx, path: str, spacing=None, resolution=None) -> list:
     if note:
         ctx.note(note)
     grid = field_grid(ctx, step)
-    grid.save(path)
+    with atomic_path(path) as temporary:
+        grid.save(temporary)
     return [path]
 
 
@@ -130,7 +132,8 @@ def export_vtp(ctx, path: str, layers) -> list:
     merged.field_data["layer_names"] = np.array(layer_names)
     merged.field_data["object_names"] = np.array([name for _, name, _ in pieces])
     _stamp(ctx, merged)
-    merged.save(path)
+    with atomic_path(path) as temporary:
+        merged.save(temporary)
     return [path]
 
 
@@ -151,7 +154,8 @@ def export_stl(ctx, path: str, layers) -> list:
         merged = pv.merge(meshes, merge_points=False) if len(meshes) > 1 else meshes[0]
         merged = merged.extract_surface(algorithm=None).triangulate()
         merged.clear_data()
-        merged.save(str(out), binary=True)
+        with atomic_path(out) as temporary:
+            merged.save(temporary, binary=True)
         written.append(str(out))
     return written
 
@@ -167,15 +171,16 @@ def export_html(ctx, path: str, options) -> list:
                          "install them with pip install 'trapscape[html]'.") from None
     picture = build_picture(ctx, options, off_screen=True, overlay=False, annotations="html")
     plotter, legend = picture.plotter, picture.legend
-    try:
-        exporter = getattr(plotter, "trame", None)
-        if exporter is not None and hasattr(exporter, "export_html"):
-            exporter.export_html(path)
-        else:
-            plotter.export_html(path)
-    finally:
-        plotter.close()
-    _add_page_text(ctx, path, options, legend)
+    with atomic_path(path) as temporary:
+        try:
+            exporter = getattr(plotter, "trame", None)
+            if exporter is not None and hasattr(exporter, "export_html"):
+                exporter.export_html(temporary)
+            else:
+                plotter.export_html(temporary)
+        finally:
+            plotter.close()
+        _add_page_text(ctx, temporary, options, legend)
     return [path]
 
 

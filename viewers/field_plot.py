@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from trapscape.viewers.commands.common import save_figure
+from trapscape.viewers.atomic import save_figure
 
 DECADES_SHOWN = 3  # the colour scale spans three decades below the strongest field in air
 INSIDE_GREY = "#b8b8b8"

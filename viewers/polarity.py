@@ -8,6 +8,7 @@ import numpy as np
 
 from trapscape.scene.measures import radial_sign
 from trapscape.scene.shapes import shape_of
+from trapscape.viewers.atomic import save_figure
 from trapscape.viewers.layers import style
 from trapscape.viewers.layers.magnets import world_meshes
 
@@ -130,8 +131,10 @@ def draw_polarity_map(ctx, path: str, size=(1600, 1200), title: str | None = Non
     axes.set_title(f"{heading}\nPolarity map, seen from above (+z towards you)", fontsize=font * 1.2)
     _legend(axes, font)
     figure.tight_layout()
-    figure.savefig(path, dpi=dpi, transparent=transparent)
-    plt.close(figure)
+    try:
+        save_figure(figure, path, dpi=dpi, transparent=transparent, bbox_inches=None)
+    finally:
+        plt.close(figure)
     return path
 
 

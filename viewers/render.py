@@ -13,6 +13,7 @@ import numpy as np
 
 from trapscape.scene.errors import SceneError
 from trapscape.scene.names import did_you_mean, listing
+from trapscape.viewers.atomic import atomic_path
 from trapscape.viewers.layers import layer_module
 from trapscape.viewers.layers.annotations import (
     ColourScale,
@@ -337,7 +338,7 @@ def _draw_table(plotter, rows, left, top, font, floor) -> None:
     if fits <= 0:
         return
     shown = rows if len(rows) <= fits else rows[:fits - 1] + [
-        f"... {len(rows) - fits + 1} more: trapscape traps SCENE --json"]
+        f"... {len(rows) - fits + 1} more: trapscape traps SCENE -o FILE.json"]
     text = "\n".join(["Equilibria (firmest first)"] + shown)
     plotter.add_text(text, position=(int(left), int(top - line * (len(shown) + 1))),
                      font_size=font, color=TEXT)
@@ -347,8 +348,9 @@ def render_png(ctx, options: RenderOptions, path: str) -> str:
     picture = build_picture(ctx, options, off_screen=True)
     plotter = picture.plotter
     try:
-        plotter.screenshot(path, transparent_background=options.transparent,
-                           window_size=list(options.size))
+        with atomic_path(path) as temporary:
+            plotter.screenshot(temporary, transparent_background=options.transparent,
+                               window_size=list(options.size))
     finally:
         plotter.close()
     return path

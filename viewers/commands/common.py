@@ -6,10 +6,10 @@ import contextlib
 import json
 import os
 import sys
-import threading
 from pathlib import Path
 
 from trapscape.scene.errors import SceneError
+from trapscape.viewers.atomic import replaced_atomically
 
 AXES = {"x": 0, "y": 1, "z": 2}
 FIGURE_SUFFIXES = (".png", ".pdf", ".svg")
@@ -117,41 +117,6 @@ def progress(args, unit="pt", desc=None):
         yield update
     finally:
         bar.close()
-
-
-@contextlib.contextmanager
-def replaced_atomically(path, newline=None):
-    """A text stream on a temporary file beside `path`, moved onto `path` when the block ends
-    without error (readers never see half a file); SceneError if it cannot be written."""
-    target = Path(path)
-    # a name of our own (not mkstemp's, whose 0600 mode would outlive the move)
-    temporary = target.with_name(f".{target.name}.{os.getpid()}.{threading.get_ident()}.tmp")
-    try:
-        try:
-            with open(temporary, "w", encoding="utf-8", newline=newline) as stream:
-                yield stream
-            os.replace(temporary, target)
-        except BaseException:
-            temporary.unlink(missing_ok=True)
-            raise
-    except OSError as error:
-        raise SceneError(f"cannot write {path}: {error.strerror}; choose a writable path.") from None
-
-
-def save_figure(figure, path) -> None:
-    """A matplotlib figure saved to a temporary file beside `path` and moved into place."""
-    target = Path(path)
-    temporary = target.with_name(f".{target.name}.{os.getpid()}.tmp")
-    try:
-        try:
-            figure.savefig(temporary, format=target.suffix.lstrip(".").lower() or "png",
-                           bbox_inches="tight")
-            os.replace(temporary, target)
-        except BaseException:
-            temporary.unlink(missing_ok=True)
-            raise
-    except OSError as error:
-        raise SceneError(f"cannot write {path}: {error.strerror}; choose a writable path.") from None
 
 
 def write_json(path: str, payload: dict) -> None:

@@ -7,6 +7,7 @@ import csv
 import numpy as np
 
 from trapscape.scene.errors import SceneError
+from trapscape.viewers.atomic import replaced_atomically
 from trapscape.viewers.commands.common import (
     FIGURE_SUFFIXES,
     add_output_argument,
@@ -17,7 +18,6 @@ from trapscape.viewers.commands.common import (
     finite_number,
     parse_section,
     progress,
-    replaced_atomically,
 )
 
 DEFAULT_RESOLUTION = 201

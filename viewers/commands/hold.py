@@ -7,6 +7,7 @@ import re
 import numpy as np
 
 from trapscape.scene.errors import SceneError
+from trapscape.viewers.atomic import save_figure
 from trapscape.viewers.commands.common import (
     FIGURE_SUFFIXES,
     add_output_argument,
@@ -14,7 +15,6 @@ from trapscape.viewers.commands.common import (
     analysis_from_args,
     check_output_path,
     progress,
-    save_figure,
     write_json,
 )
 
