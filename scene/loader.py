@@ -42,6 +42,7 @@ import numpy as np
 from trapscape.scene import reading
 from trapscape.scene.errors import SceneError, SceneWarning
 from trapscape.scene.expressions import evaluate_params
+from trapscape.scene.files import MAX_MESH_BYTES, MAX_SCENE_BYTES, read_limited
 from trapscape.scene.grades import built_in_grades, load_materials
 from trapscape.scene.measures import extent_along, largest_dimension, scene_bounding_box
 from trapscape.scene.model import (
@@ -69,6 +70,7 @@ TOP_ELSEWHERE = {
     "steel_plates": "a steel plate is written [[steel_plate]]",
 }
 DEFAULT_GRAVITY = (0.0, 0.0, -9.81)  # m/s^2, standard gravity 9.80665 rounded as in DESIGN.md
+LARGEST_GRAVITY = 1e5  # m/s^2, about 10,000 g: beyond any assembly's service, even in a centrifuge
 DEFAULT_PROBE = Probe(kind="soft", diameter=1e-3, density=7850.0, susceptibility=1000.0)
 DEFAULT_RESOLUTION = 80
 PLATE_SATURATION = 2.0  # T, low-carbon steel, from memory
@@ -91,17 +93,8 @@ def parse_overrides(items) -> dict:
 def load_scene(path, overrides=None) -> Scene:
     """Read, validate and convert a scene file; lengths in metres."""
     path = Path(path)
-    shown = path.name
-    try:
-        raw = path.read_bytes()
-    except FileNotFoundError:
-        raise SceneError(f"scene file {path} not found; check the path.") from None
-    except IsADirectoryError:
-        raise SceneError(f"{path} is a folder, not a scene file; give the .toml file.") from None
-    except OSError as error:
-        raise SceneError(f"cannot read the scene file {path} ({error.strerror}); check its "
-                         f"permissions.") from None
-    return _build(raw, path.parent, shown, str(path), overrides or {})
+    raw = read_limited(path, MAX_SCENE_BYTES, "scene file", "give the scene's .toml file")
+    return _build(raw, path.parent, path.name, str(path), overrides or {})
 
 
 def load_scene_text(text, base_dir=".", name="scene.toml", overrides=None) -> Scene:
@@ -139,11 +132,19 @@ def _build(raw: bytes, base_dir: Path, shown: str, path_text: str, overrides: di
     return Scene(
         title=reading.text(document, "title", shown, default=Path(shown).stem),
         units=units, unit_scale=scale,
-        gravity=frozen_array(reading.vector(ctx, document, "gravity", shown,
-                                            default=DEFAULT_GRAVITY), (3,)),
+        gravity=frozen_array(_gravity(ctx, document, shown), (3,)),
         magnets=tuple(magnets), plates=tuple(plates), probe=probe, constraint=constraint,
         search_box=box, params=dict(params), path=path_text,
         digest=_digest(hashed, overrides))
+
+
+def _gravity(ctx, document, shown) -> np.ndarray:
+    gravity = reading.vector(ctx, document, "gravity", shown, default=DEFAULT_GRAVITY)
+    if np.abs(gravity).max() > LARGEST_GRAVITY:
+        raise SceneError(f"{shown}, gravity: {np.abs(gravity).max():.3g} m/s^2 is more than "
+                         f"{LARGEST_GRAVITY:g} m/s^2 (10,000 g); give it in m/s^2, e.g. "
+                         f"gravity = [0, 0, -9.81].")
+    return gravity
 
 
 def _check_version(document, shown):
@@ -155,10 +156,7 @@ def _check_version(document, shown):
 
 
 def _file_bytes(path: Path) -> bytes:
-    try:
-        return path.read_bytes()
-    except OSError as error:
-        raise SceneError(f"cannot read {path} ({error.strerror}); check its permissions.") from None
+    return read_limited(path, MAX_MESH_BYTES, "the mesh file", "check the path")
 
 
 def _digest(hashed: list, overrides: dict) -> str:
@@ -175,11 +173,9 @@ def _grades(document, base_dir: Path, shown: str, hashed: list) -> dict:
     if "materials" not in document:
         return table
     relative = reading.text(document, "materials", shown)
-    path = (base_dir / relative).resolve()
-    if not path.is_file():
-        raise SceneError(f"{shown}, materials: the materials file {relative} was not found "
-                         f"(looked for {path}); the path is relative to the scene file.")
-    raw = _file_bytes(path)
+    path = Path(os.path.abspath(base_dir / relative))
+    raw = read_limited(path, MAX_SCENE_BYTES, f"{shown}, materials: the materials file",
+                       "the path is relative to the scene file")
     hashed.append(raw)
     table.update(load_materials(path, raw, relative))
     return table

@@ -16,6 +16,7 @@ from pathlib import Path
 import numpy as np
 
 from trapscape.scene.errors import SceneError, SceneWarning
+from trapscape.scene.files import MAX_MESH_BYTES, regular_file
 from trapscape.scene.shapes.meshops import mesh_volume
 from trapscape.scene.units import METRES_PER_3MF_UNIT
 
@@ -33,9 +34,11 @@ def read_mesh(path: Path, shown: str, scale: float | None, where: str):
     if kind is None:
         raise SceneError(f"{where}: {shown} is not a mesh format trapscape reads; export the "
                          f"part as STL, OBJ, PLY or 3MF.")
-    if not path.is_file():
-        raise SceneError(f"{where}: mesh file {shown} not found (looked for {path}); check the "
-                         f"path, which is relative to the scene file.")
+    regular_file(path, f"{where}: mesh file", "check the path, which is relative to the scene "
+                 "file")
+    if path.stat().st_size > MAX_MESH_BYTES:
+        raise SceneError(f"{where}: {shown} is larger than {MAX_MESH_BYTES >> 20} MB; simplify "
+                         f"the mesh (a magnet needs far fewer triangles).")
     mesh, file_scale = _load(path, kind, shown, where)
     if scale is None:
         scale = file_scale
@@ -103,6 +106,8 @@ def _read_3mf(path: Path, shown: str, where: str):
             names = [n for n in package.namelist() if n.lower().endswith(".model")]
             if not names:
                 raise ValueError("no 3D model part in the package")
+            if package.getinfo(names[0]).file_size > MAX_MESH_BYTES:
+                raise ValueError(f"its model unpacks to more than {MAX_MESH_BYTES >> 20} MB")
             root = ElementTree.fromstring(package.read(names[0]))
         unit = root.get("unit", "millimeter")
         if unit not in METRES_PER_3MF_UNIT:

@@ -1,6 +1,7 @@
 """[[magnet]] tables -> placed, validated Magnet objects (patterns expanded), SI units."""
 from __future__ import annotations
 
+import os
 import warnings
 from pathlib import Path
 
@@ -153,7 +154,7 @@ def _dim_si(ctx, value, kind, where):
 def _mesh(ctx, entry, where, base_dir, mesh_files, meshes):
     relative = reading.text(entry, "file", where)
     units = entry.get("file_units")
-    path = (base_dir / relative).resolve()
+    path = Path(os.path.abspath(base_dir / relative))  # resolve() fails on a link loop
     if units is not None:
         scale = unit_scale(units, f"{where}, file_units")
     elif path.suffix.lower() == ".3mf":

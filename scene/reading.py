@@ -63,6 +63,12 @@ def scalar(ctx: Context, value, where: str) -> float:
     return number
 
 
+# Physical quantities read by key name, and the range no real part leaves.
+PLAUSIBLE = {
+    "density": (1e5, "kg/m^3", "the densest solid, osmium, is 22,590 kg/m^3"),
+}
+
+
 def number(ctx: Context, table: dict, key: str, where: str, default=REQUIRED,
            example: str = "", length: bool = False, positive: bool = False) -> float:
     """table[key] as a float (lengths converted to metres), or the default when it is absent."""
@@ -75,6 +81,10 @@ def number(ctx: Context, table: dict, key: str, where: str, default=REQUIRED,
         unit = f" {ctx.units}" if length else ""
         raise SceneError(f"{where}, {key}: must be positive, got {value:g}{unit}; give a size "
                          f"above zero.")
+    if key in PLAUSIBLE and abs(value) > PLAUSIBLE[key][0]:
+        highest, unit, why = PLAUSIBLE[key]
+        raise SceneError(f"{where}, {key}: {value:g} {unit} is above {highest:g} {unit} ({why}); "
+                         f"check the value.")
     return checked_length(ctx, value, f"{where}, {key}", is_size=positive) if length else value
 
 
@@ -161,6 +171,9 @@ def text(table: dict, key: str, where: str, default=REQUIRED) -> str:
     if not isinstance(value, str) or not value.strip():
         raise SceneError(f"{where}, {key}: must be non-empty text in quotes, got "
                          f"{type_word(value)}.")
+    if any(ord(c) < 32 and c != "\t" or 127 <= ord(c) < 160 for c in value):
+        raise SceneError(f"{where}, {key}: the text holds control characters (invisible bytes "
+                         f"that would garble a terminal); retype it as plain text.")
     return value.strip()
 
 

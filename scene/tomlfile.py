@@ -15,7 +15,7 @@ else:  # pragma: no cover - exercised on 3.10 only
 def parse_toml(raw: bytes, shown: str) -> dict:
     """The document as a dict, or a SceneError naming the line and how to fix it."""
     try:
-        text = raw.decode("utf-8")
+        text = raw.removeprefix(b"\xef\xbb\xbf").decode("utf-8")  # a byte-order mark is no text
     except UnicodeDecodeError as error:
         line = raw[: error.start].count(b"\n") + 1
         raise SceneError(f"{shown}, line {line}: the file is not UTF-8 text; save it as UTF-8 "

@@ -19,6 +19,7 @@ import math
 
 import numpy as np
 
+
 def extrude(d2: np.ndarray, z: np.ndarray, height: float) -> np.ndarray:
     """Exact signed distance of a 2-D region extruded over |z| <= height / 2.
 

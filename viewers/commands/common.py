@@ -14,6 +14,14 @@ from trapscape.viewers.atomic import replaced_atomically
 AXES = {"x": 0, "y": 1, "z": 2}
 FIGURE_SUFFIXES = (".png", ".pdf", ".svg")
 
+# What one run may ask of a 2-core, 24 GiB machine (README, Limits): each keeps a run's memory
+# under about 2 GB and its time to minutes. Checked before any work, with the option to lower.
+MAX_FIELD_POINTS = 4_000_000  # field: about 400 bytes a point in arrays, CSV text on top
+MAX_GRID_RESOLUTION = 160  # render: 160^3 = 4.1 million field points in the 3D grid
+MAX_IMAGE_SIDE = 8192  # pixels
+MAX_IMAGE_PIXELS = 40_000_000  # 160 MB of RGBA, twice over in the off-screen buffers
+MAX_POINTS_FILE_BYTES = 200 * 2**20  # a --points CSV of about 4 million rows
+
 
 def add_scene_arguments(parser) -> None:
     """SCENE, --set and --quiet: what every command that reads a scene takes."""

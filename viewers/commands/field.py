@@ -3,13 +3,17 @@ from __future__ import annotations
 
 import argparse
 import csv
+from pathlib import Path
 
 import numpy as np
 
 from trapscape.scene.errors import SceneError
+from trapscape.scene.reading import LARGEST_LENGTH
 from trapscape.viewers.atomic import replaced_atomically
 from trapscape.viewers.commands.common import (
     FIGURE_SUFFIXES,
+    MAX_FIELD_POINTS,
+    MAX_POINTS_FILE_BYTES,
     add_output_argument,
     add_scene_arguments,
     add_section_argument,
@@ -80,6 +84,14 @@ def run(args) -> int:
 
 
 def _sample_points(scene, args):
+    points, layout = _requested_points(scene, args)
+    if np.abs(points).max() > LARGEST_LENGTH:
+        raise SceneError(f"field: a point lies more than a kilometre from the origin; check the "
+                         f"coordinates (in {scene.units}, the scene's unit).")
+    return points, layout
+
+
+def _requested_points(scene, args):
     unit = scene.unit_scale
     if args.points:
         return _read_points(args.points) * unit, None
@@ -102,8 +114,9 @@ def _section_points(scene, text, resolution):
         raise SceneError(f"--section {text!r}: field needs the plane's level, e.g. "
                          f"--section {'xyz'[axis]}=0 (in the scene's unit).")
     resolution = DEFAULT_RESOLUTION if resolution is None else resolution
-    if resolution < 2:
-        raise SceneError("--resolution must be at least 2.")
+    if not 2 <= resolution <= int(MAX_FIELD_POINTS ** 0.5):
+        raise SceneError(f"--resolution must be 2 to {int(MAX_FIELD_POINTS ** 0.5)} for a "
+                         "section.")
     box = scene.search_box
     others = [a for a in range(3) if a != axis]
     extent = box.max[others] - box.min[others]
@@ -121,6 +134,11 @@ def _section_points(scene, text, resolution):
 
 def _read_points(path):
     try:
+        if not Path(path).is_file():
+            raise SceneError(f"the points file {path} is not a regular file; give a CSV file.")
+        if Path(path).stat().st_size > MAX_POINTS_FILE_BYTES:
+            raise SceneError(f"the points file {path} is over {MAX_POINTS_FILE_BYTES >> 20} MB "
+                             f"(about {MAX_FIELD_POINTS:,} points); split it into several runs.")
         with open(path, newline="", encoding="utf-8-sig") as handle:
             rows = list(csv.reader(handle))
     except OSError as error:
@@ -154,8 +172,9 @@ def _count(text):
         count = int(text)
     except ValueError:
         raise SceneError(f"--line: the point count {text!r} must be a whole number.") from None
-    if count < 2:
-        raise SceneError("--line: the point count must be at least 2.")
+    if not 2 <= count <= MAX_FIELD_POINTS:
+        raise SceneError(f"--line: the point count must be 2 to {MAX_FIELD_POINTS:,}; split a "
+                         "longer run into several lines.")
     return count
 
 

@@ -6,6 +6,9 @@ import sys
 
 from trapscape.scene.errors import SceneError
 from trapscape.viewers.commands.common import (
+    MAX_GRID_RESOLUTION,
+    MAX_IMAGE_PIXELS,
+    MAX_IMAGE_SIDE,
     add_output_argument,
     add_scene_arguments,
     add_section_argument,
@@ -69,8 +72,9 @@ def parse_size(text: str) -> tuple[int, int]:
         size = (int(width), int(height))
     except ValueError:
         raise SceneError(f"--size {text!r}: write WIDTHxHEIGHT in pixels, e.g. --size 1600x1200.") from None
-    if min(size) < 64 or max(size) > 16384:
-        raise SceneError(f"--size {text!r}: each side must be 64 to 16384 pixels.")
+    if min(size) < 64 or max(size) > MAX_IMAGE_SIDE or size[0] * size[1] > MAX_IMAGE_PIXELS:
+        raise SceneError(f"--size {text!r}: each side must be 64 to {MAX_IMAGE_SIDE} pixels and "
+                         f"the picture at most {MAX_IMAGE_PIXELS // 1_000_000} megapixels.")
     return size
 
 
@@ -81,8 +85,9 @@ def view_context(analysis, args, traps: bool = True):
     from trapscape.viewers.layers.context import ViewContext
 
     resolution = args.resolution or DEFAULT_RESOLUTION
-    if resolution < 8:
-        raise SceneError("--resolution must be at least 8.")
+    if not 8 <= resolution <= MAX_GRID_RESOLUTION:
+        raise SceneError(f"--resolution must be 8 to {MAX_GRID_RESOLUTION} for a 3D view "
+                         f"({MAX_GRID_RESOLUTION}^3 field points).")
     return ViewContext.of(analysis, traps=traps, grid_resolution=resolution,
                           progress=_progress(args) if show_progress(args) else None)
 

@@ -49,6 +49,9 @@ def parse_layers(spec: str | None, scene) -> tuple:
         sign, name = (item[0], item[1:].strip()) if item[0] in "+-" else ("+", item)
         names = _expand(name.lower(), scene)
         chosen = chosen | names if sign == "+" else chosen - names
+    if not chosen:
+        raise SceneError(f"--layers {spec!r} leaves nothing to draw; keep at least one layer, "
+                         "e.g. --layers magnets.")
     return tuple(name for name in LAYERS if name in chosen)
 
 

@@ -59,8 +59,9 @@ def parse_levels(text: str) -> list:
         except ValueError:
             raise SceneError(f"--iso {text!r}: {item!r} is not a level; write numbers in mT, "
                              "T or J/m3, e.g. --iso 20,50mT,1000J/m3.") from None
-    if any(level <= 0 for level in levels):
-        raise SceneError(f"--iso {text!r}: levels must be positive.")
+    if not levels or any(not 0 < level < float("inf") for level in levels):
+        raise SceneError(f"--iso {text!r}: levels must be positive finite numbers, e.g. "
+                         "--iso 20,50mT.")
     return sorted(levels)
 
 
