@@ -6,6 +6,7 @@ import contextlib
 import json
 import os
 import sys
+import time
 from pathlib import Path
 
 from trapscape.scene.errors import SceneError
@@ -100,16 +101,23 @@ def analysis_from_args(args):
     return load_analysis(args.scene, args.set)
 
 
+PROGRESS_LINE_SECONDS = 10.0  # off a terminal: one line this often, once a run is that long
+
+
 def show_progress(args) -> bool:
     return not getattr(args, "quiet", False) and sys.stderr.isatty()
 
 
 @contextlib.contextmanager
 def progress(args, unit="pt", desc=None):
-    """A progress callback ``update(done, total, stage=None)`` drawn on stderr at a terminal, or
-    None (with --quiet or when stderr is not a terminal). The bar is closed on the way out."""
-    if not show_progress(args):
+    """A progress callback ``update(done, total, stage=None)``: a bar on stderr at a terminal;
+    off a terminal (a log, a pipe) a plain line every PROGRESS_LINE_SECONDS; None with --quiet.
+    The bar is closed on the way out."""
+    if getattr(args, "quiet", False):
         yield None
+        return
+    if not sys.stderr.isatty():
+        yield _progress_lines(desc or "working")
         return
     from tqdm import tqdm
 
@@ -125,6 +133,24 @@ def progress(args, unit="pt", desc=None):
         yield update
     finally:
         bar.close()
+
+
+def _progress_lines(desc, clock=time.monotonic):
+    """update(done, total, stage=None) printing 'trapscape: scan 40% (12/30 pt), 20 s' to stderr
+    at most every PROGRESS_LINE_SECONDS."""
+    start = clock()
+    last = [start]
+
+    def update(done, total, stage=None):
+        now = clock()
+        if now - last[0] < PROGRESS_LINE_SECONDS:
+            return
+        last[0] = now
+        share = f"{100 * done / total:.0f}% ({done}/{total})" if total else f"{done}"
+        print(f"trapscape: {stage or desc} {share}, {now - start:.0f} s", file=sys.stderr,
+              flush=True)
+
+    return update
 
 
 def write_json(path: str, payload: dict) -> None:
