@@ -9,6 +9,7 @@
 """
 from __future__ import annotations
 
+import contextlib
 from pathlib import Path
 
 import numpy as np
@@ -171,7 +172,7 @@ def export_html(ctx, path: str, options) -> list:
                          "install them with pip install 'trapscape[html]'.") from None
     picture = build_picture(ctx, options, off_screen=True, overlay=False, annotations="html")
     plotter, legend = picture.plotter, picture.legend
-    with atomic_path(path) as temporary:
+    with atomic_path(path) as temporary, _without_wasm_download():
         try:
             exporter = getattr(plotter, "trame", None)
             if exporter is not None and hasattr(exporter, "export_html"):
@@ -182,6 +183,23 @@ def export_html(ctx, path: str, options) -> list:
             plotter.close()
         _add_page_text(ctx, temporary, options, legend)
     return [path]
+
+
+@contextlib.contextmanager
+def _without_wasm_download():
+    """The export's helper server skips trame's VTK WebAssembly module: our page is vtk.js
+    only, and that module would fetch its bundle from the network on first use."""
+    try:
+        from trame.widgets import vtklocal
+    except ImportError:
+        yield
+        return
+    initialize = vtklocal.initialize
+    vtklocal.initialize = lambda server: None
+    try:
+        yield
+    finally:
+        vtklocal.initialize = initialize
 
 
 def _add_page_text(ctx, path: str, options, legend) -> None:

@@ -9,8 +9,8 @@ import sys
 import time
 
 import pytest
-
 from repo_paths import SAMPLES
+
 from trapscape.scene.errors import SceneError
 from trapscape.viewers.atomic import atomic_path, replaced_atomically
 

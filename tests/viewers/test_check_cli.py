@@ -15,8 +15,8 @@ from pathlib import Path
 
 import pytest
 import trimesh
-
 from repo_paths import REPO  # noqa: E402
+
 BASE = """units = "mm"
 [params]
 gap = 2

@@ -12,12 +12,11 @@ from trapscape.viewers.render import prefer_egl
 prefer_egl()
 
 import pyvista as pv  # noqa: E402
+from repo_paths import SAMPLES  # noqa: E402
 
 from trapscape.scene.loader import load_scene  # noqa: E402
 from trapscape.viewers.export import export  # noqa: E402
 from trapscape.viewers.layers.context import ViewContext  # noqa: E402
-
-from repo_paths import SAMPLES  # noqa: E402
 
 
 @pytest.fixture(scope="module")

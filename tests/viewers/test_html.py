@@ -14,6 +14,7 @@ from trapscape.viewers.render import prefer_egl
 prefer_egl()
 
 from repo_paths import SAMPLES  # noqa: E402
+
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
 
 

@@ -2,7 +2,6 @@
 projects it, the legend is there, and the polarity map marks the north faces."""
 from __future__ import annotations
 
-
 import numpy as np
 import pytest
 
@@ -10,15 +9,19 @@ from trapscape.viewers.render import prefer_egl
 
 prefer_egl()
 
+from repo_paths import SAMPLES  # noqa: E402
+
 from trapscape.scene.errors import SceneError  # noqa: E402
 from trapscape.scene.loader import load_scene  # noqa: E402
-from trapscape.viewers.layers import default_layers, parse_layers  # noqa: E402
-from trapscape.viewers.layers import style  # noqa: E402
+from trapscape.viewers.layers import (  # noqa: E402
+    default_layers,
+    parse_layers,
+    style,  # noqa: E402
+)
 from trapscape.viewers.layers.context import ViewContext  # noqa: E402
 from trapscape.viewers.layers.screen import world_to_pixels  # noqa: E402
 from trapscape.viewers.render import RenderOptions, build_picture  # noqa: E402
 
-from repo_paths import SAMPLES  # noqa: E402
 SMALL = (400, 300)
 
 

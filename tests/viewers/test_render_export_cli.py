@@ -6,8 +6,8 @@ import struct
 
 import numpy as np
 import pytest
-
 from repo_paths import SAMPLES
+
 from trapscape.viewers.cli import main
 
 CHIP = str(SAMPLES / "bead_chip.toml")

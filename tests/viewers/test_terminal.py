@@ -11,8 +11,8 @@ import time
 from pathlib import Path
 
 import pytest
-
 from repo_paths import SAMPLES  # noqa: E402
+
 CLI = [sys.executable, "-m", "trapscape.viewers.cli"]
 
 
