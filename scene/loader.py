@@ -75,6 +75,7 @@ DEFAULT_PROBE = Probe(kind="soft", diameter=1e-3, density=7850.0, susceptibility
 DEFAULT_RESOLUTION = 80
 PLATE_SATURATION = 2.0  # T, low-carbon steel, from memory
 BYTES_PER_GRID_POINT = 400  # field, gradient, energies and their temporaries (rough estimate)
+MAX_GRID_POINTS = 8e6  # the scan's time: field and gradient at every point, minutes a million
 
 
 def parse_overrides(items) -> dict:
@@ -311,12 +312,17 @@ def _check_memory(ctx, extent, spacing, where) -> None:
     counts = np.maximum(np.floor(extent / spacing + 1e-9) + 1, 2)
     points = float(np.prod(counts))
     needed = points * BYTES_PER_GRID_POINT
-    budget = machine_memory() / 4
+    budget = min(machine_memory() / 4, MAX_GRID_POINTS * BYTES_PER_GRID_POINT)
     if needed <= budget:
         return
     # points scale as spacing^-3; 2 % more for the +1 end points, rounded up to two digits
     fitting = _round_up(spacing * (needed / budget) ** (1.0 / 3.0) * 1.02 / ctx.scale)
     shape = " x ".join(f"{c:.0f}" for c in counts)
+    if points > MAX_GRID_POINTS:
+        raise SceneError(
+            f"{where}: a grid of {shape} = {points:.3g} points is more than the "
+            f"{MAX_GRID_POINTS / 1e6:g} million a search can scan in reasonable time; use spacing = "
+            f"{fitting:g} ({ctx.units}) or coarser, or a smaller box.")
     raise SceneError(
         f"{where}: a grid of {shape} = {points:.3g} points would need about "
         f"{_bytes(needed)}, more than a quarter of this machine's {_bytes(budget * 4)} of "

@@ -77,7 +77,7 @@ BAD = {
     "unknown unit": (BASE.replace('"mm"', '"mmm"'), [], "unknown length unit 'mmm' (did you mean \"mm\"?)", None),
     "toml syntax": (BASE.replace("[[magnet]]", "[[magnet]"), [], "not valid TOML", None),
     "zero search box": (BASE + "[search_box]\nmin = [0, 0, 0]\nmax = [10, 0, 10]\n", [], "the box has zero size along y", None),
-    "grid too fine": (BASE + "[search_box]\nmargin = 100\nspacing = 0.01\n", [], "more than a quarter of this machine's", None),
+    "grid too fine": (BASE + "[search_box]\nmargin = 100\nspacing = 0.01\n", [], "a search can scan in reasonable time; use spacing = ", None),
     "set unknown parameter": (BASE, ["--set", "gp=3"], "the scene has no parameter 'gp' (did you mean \"gap\"?)", None),
     "set malformed": (BASE, ["--set", "gap"], "write NAME=VALUE", None),
     "magnet behind plate": (BASE + "[[steel_plate]]\npoint = [0, 0, 0]\nnormal = [0, 0, 1]\nthickness = 5\n", [], "reaches 0.5 mm behind the plate's face", None),
