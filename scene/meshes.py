@@ -17,9 +17,10 @@ import numpy as np
 
 from trapscape.scene.errors import SceneError, SceneWarning
 from trapscape.scene.files import MAX_MESH_BYTES, regular_file
-from trapscape.scene.shapes.meshops import mesh_volume
+from trapscape.scene.shapes.meshops import mesh_volume, winding_number
 from trapscape.scene.units import METRES_PER_3MF_UNIT
 
+WINDING_PAIR_BUDGET = 2e7  # point-triangle pairs for the enclosed-once test (about 1 s)
 FORMATS = {".stl": "stl", ".obj": "obj", ".ply": "ply", ".3mf": "3mf"}
 REPAIR_HINT = "repair it in CAD or a mesh tool (close the holes, export as a solid) and export again"
 MESH_ELEMENT = "mesh"  # the 3MF core specification's element holding vertices and triangles
@@ -65,11 +66,33 @@ def read_mesh(path: Path, shown: str, scale: float | None, where: str):
             f"{where}: {shown} is inside-out (its faces point inward); trimesh reversed every "
             f"face, which is safe for a closed mesh like this one - export it again with "
             f"outward normals to silence this warning."), stacklevel=2)
+    _check_enclosed_once(np.asarray(mesh.vertices, float), np.asarray(mesh.faces), shown, where)
+    if mesh.body_count > 1:
+        warnings.warn(SceneWarning(
+            f"{where}: {shown} holds {mesh.body_count} separate closed bodies; they are one part "
+            f"here (one name, one grade, one north). Export each magnet as its own file to give "
+            f"them their own."), stacklevel=2)
     vertices = np.asarray(mesh.vertices, float) * scale
     faces = np.array(mesh.faces, dtype=np.int64)
     vertices.setflags(write=False)
     faces.setflags(write=False)
     return vertices, faces
+
+
+def _check_enclosed_once(vertices, faces, shown: str, where: str) -> None:
+    """A SceneError when some volume is enclosed twice (winding number 2 on a lattice of the
+    bounding box): overlapping bodies or a surface that passes through itself, whose volume,
+    moment and mass would count the shared region twice. Overlaps thinner than the lattice
+    step (about 1/12 of the part, finer for small meshes) can pass."""
+    count = int(np.clip(WINDING_PAIR_BUDGET / len(faces), 64, 4096) ** (1.0 / 3.0))
+    low, high = vertices.min(axis=0), vertices.max(axis=0)
+    axes = [low[k] + (high[k] - low[k]) * (np.arange(count) + 0.5) / count for k in range(3)]
+    lattice = np.stack(np.meshgrid(*axes, indexing="ij"), axis=-1).reshape(-1, 3)
+    if np.abs(winding_number(lattice, vertices, faces)).max() > 1.5:
+        raise SceneError(f"{where}: {shown} encloses some of its volume twice (overlapping "
+                         f"bodies, or a surface that passes through itself), so its volume, "
+                         f"moment and mass would count that region twice; unite the bodies in "
+                         f"CAD (a boolean union) or export each magnet as its own file.")
 
 
 def _load(path: Path, kind: str, shown: str, where: str):

@@ -120,3 +120,23 @@ def test_overlapping_meshes_warn_with_the_depth(tmp_path):
     assert "'a' and 'b' overlap by about 2 mm" in messages[0]
     assert "'a' and 'c' overlap by about 1 mm" in messages[1]
     assert len(messages) == 2
+
+
+def _two_boxes(tmp_path, shift):
+    first = trimesh.creation.box(extents=[10, 10, 10])
+    second = trimesh.creation.box(extents=[10, 10, 10])
+    second.apply_translation([shift, 0, 0])
+    trimesh.util.concatenate([first, second]).export(tmp_path / "two.stl")
+    return 'units = "mm"\n[[magnet]]\nshape = "mesh"\nfile = "two.stl"\nremanence = 1\n'
+
+
+def test_a_mesh_that_encloses_volume_twice_is_refused(tmp_path):
+    # two 10 mm cubes overlapping by 6 mm: 1000 + 1000 mm^3 by the divergence theorem, 1400 solid
+    with pytest.raises(SceneError, match="encloses some of its volume twice"):
+        load_scene_text(_two_boxes(tmp_path, 4.0), base_dir=tmp_path)
+
+
+def test_separate_bodies_in_one_file_are_one_part_with_a_warning(tmp_path):
+    with pytest.warns(SceneWarning, match="holds 2 separate closed bodies"):
+        scene = load_scene_text(_two_boxes(tmp_path, 14.0), base_dir=tmp_path)
+    assert volume(scene.magnets[0]) == pytest.approx(2000e-9, rel=1e-9)  # 2 x 10^3 mm^3
