@@ -8,6 +8,7 @@ for a closed, consistently wound mesh), with a warning that says so.
 """
 from __future__ import annotations
 
+import os
 import warnings
 import xml.etree.ElementTree as ElementTree
 import zipfile
@@ -35,6 +36,9 @@ def read_mesh(path: Path, shown: str, scale: float | None, where: str):
     if kind is None:
         raise SceneError(f"{where}: {shown} is not a mesh format trapscape reads; export the "
                          f"part as STL, OBJ, PLY or 3MF.")
+    if not os.path.lexists(path):
+        raise SceneError(f"{where}: mesh file {shown} not found (looked for {path}); check the "
+                         f"path, which is relative to the scene file.")
     regular_file(path, f"{where}: mesh file", "check the path, which is relative to the scene "
                  "file")
     if path.stat().st_size > MAX_MESH_BYTES:

@@ -156,13 +156,26 @@ def overlapping_pairs(magnets) -> list:
     if len(magnets) < 2:
         return []
     boxes = [bounding_box(m) for m in magnets]
-    lows = np.array([b[0] for b in boxes])
-    highs = np.array([b[1] for b in boxes])
     found = []
-    for i in range(len(magnets) - 1):
-        touching = np.all((lows[i + 1:] < highs[i]) & (highs[i + 1:] > lows[i]), axis=1)
-        for j in np.nonzero(touching)[0] + i + 1:
-            depth = overlap_depth(magnets[i], magnets[j], (boxes[i], boxes[j]))
-            if depth > 0.0:
-                found.append((i, int(j), depth))
+    for i, j in sorted(_box_pairs(np.array([b[0] for b in boxes]), np.array([b[1] for b in boxes]))):
+        depth = overlap_depth(magnets[i], magnets[j], (boxes[i], boxes[j]))
+        if depth > 0.0:
+            found.append((i, j, depth))
     return found
+
+
+def _box_pairs(lows, highs) -> list:
+    """[(i, j)] with i < j for the boxes that share volume: sweep and prune along x (boxes
+    sorted by their low x; each meets only the boxes that start before it ends), so the cost
+    grows with the parts and the pairs found, not with parts squared."""
+    order = np.argsort(lows[:, 0], kind="stable")
+    starts = lows[order, 0]
+    pairs = []
+    for rank, i in enumerate(order):
+        end = np.searchsorted(starts, highs[i, 0], side="left")
+        others = order[rank + 1:end]
+        if len(others) == 0:
+            continue
+        meets = np.all((lows[others] < highs[i]) & (highs[others] > lows[i]), axis=1)
+        pairs.extend((min(i, j), max(i, j)) for j in others[meets].tolist())
+    return pairs
