@@ -21,7 +21,6 @@ from trapscape.physics.traps.scan import SearchSetupError
 from trapscape.physics.traps.search import find_traps
 from trapscape.scene.errors import SceneError
 from trapscape.scene.loader import load_scene, parse_overrides
-from trapscape.scene.units import MU0
 
 
 @dataclass(frozen=True)
@@ -151,8 +150,7 @@ class Analysis:
         FieldValues
         """
         points = np.asarray(points_m, dtype=np.float64).reshape(-1, 3)
-        H = self.model.applied_H(points, progress=progress)
-        B = MU0 * (H + self.model.magnetization(points))
+        H, B = self.model.H_and_B(points, progress=progress)
         return FieldValues(B=B, H=H, in_model=self.model.in_model(points))
 
     # -- the JSON results (stamped and JSON-ready; see physics.analysis.results) -------------
