@@ -54,6 +54,7 @@ from trapscape.scene.model import (
     SteelPlate,
     frozen_array,
 )
+from trapscape.scene.mesh_sizes import MODES
 from trapscape.scene.overlaps import line_inside_parts, overlapping_pairs
 from trapscape.scene.parts import read_magnets
 from trapscape.scene.probe_reading import read_probe
@@ -61,8 +62,8 @@ from trapscape.scene.reading import Context
 from trapscape.scene.tomlfile import parse_toml
 from trapscape.scene.units import unit_scale
 
-TOP_KEYS = ("version", "title", "units", "gravity", "allow_overlap", "params", "materials",
-            "magnet", "steel_plate", "probe", "search_box")
+TOP_KEYS = ("version", "title", "units", "gravity", "allow_overlap", "mesh_size_check", "params",
+            "materials", "magnet", "steel_plate", "probe", "search_box")
 TOP_ELSEWHERE = {
     "constraint": "the constraint goes under the probe: write [probe.constraint]",
     "magnets": "write [[magnet]] (singular, double brackets) once per magnet",
@@ -117,7 +118,9 @@ def _build(raw: bytes, base_dir: Path, shown: str, path_text: str, overrides: di
     raw_params = reading.sub_table(document.get("params", {}), f"{shown}, [params]",
                                    "[params] with gap = 3")
     params = evaluate_params(raw_params, overrides, shown)
-    ctx = Context(shown=shown, params=params, scale=scale, units=units)
+    ctx = Context(shown=shown, params=params, scale=scale, units=units,
+                  mesh_size_check=reading.word(document, "mesh_size_check", shown, MODES,
+                                               default="warn"))
     hashed = [raw]
     grades = _grades(document, base_dir, shown, hashed)
     mesh_files: list = []

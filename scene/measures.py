@@ -9,12 +9,21 @@ from __future__ import annotations
 import numpy as np
 
 from trapscape.scene.shapes import shape_of
+from trapscape.scene.shapes.meshops import volume_centroid
 from trapscape.scene.units import MU0
 
 
 def volume(magnet) -> float:
     """Volume in m^3 from the closed forms (mesh: its enclosed volume)."""
     return shape_of(magnet).volume(magnet)
+
+
+def centroid(magnet) -> np.ndarray:
+    """World volume centroid (3,) in m: of the part's tessellation (exact for boxes, prisms and
+    meshes; round parts within the tessellation's sag), not the body origin, which for a mesh is
+    the file's origin and for an arc its axis."""
+    body = volume_centroid(*shape_of(magnet).tessellation(magnet))
+    return np.asarray(magnet.rotation, float) @ body + np.asarray(magnet.position, float)
 
 
 def mass(magnet) -> float | None:

@@ -10,6 +10,7 @@ import numpy as np
 from trapscape.scene import patterns, reading
 from trapscape.scene.errors import SceneError, SceneWarning
 from trapscape.scene.grades import find_grade
+from trapscape.scene.mesh_sizes import check_mesh_size
 from trapscape.scene.meshes import read_mesh
 from trapscape.scene.model import Magnet, frozen_array
 from trapscape.scene.names import did_you_mean
@@ -164,6 +165,8 @@ def _mesh(ctx, entry, where, base_dir, mesh_files, meshes):
     key = (str(path), scale)
     if key not in meshes:
         meshes[key] = read_mesh(path, relative, scale, where)
+        read_as = units if units is not None else (None if scale is None else ctx.units)
+        check_mesh_size(meshes[key][0], where, relative, read_as, ctx.units, ctx.mesh_size_check)
         if path not in mesh_files:
             mesh_files.append(path)
     return meshes[key]

@@ -29,6 +29,7 @@ class Context:
     params: dict
     scale: float  # metres per file unit
     units: str
+    mesh_size_check: str = "warn"  # scene.mesh_sizes.MODES
 
 
 def check_keys(table: dict, allowed, where: str, elsewhere: dict | None = None) -> None:

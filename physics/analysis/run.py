@@ -21,7 +21,6 @@ from trapscape.physics.traps.scan import SearchSetupError
 from trapscape.physics.traps.search import find_traps
 from trapscape.scene.errors import SceneError
 from trapscape.scene.loader import load_scene, parse_overrides
-from trapscape.scene.units import MU0
 
 
 @dataclass(frozen=True)
@@ -176,9 +175,9 @@ class Analysis:
         FieldValues
         """
         points = np.asarray(points_m, dtype=np.float64).reshape(-1, 3)
-        H = without_rounding_noise(self.model.applied_H(points, progress=progress))
-        B = without_rounding_noise(MU0 * (H + self.model.magnetization(points)))
-        return FieldValues(B=B, H=H, in_model=self.model.in_model(points),
+        H, B = self.model.H_and_B(points, progress=progress)
+        return FieldValues(B=without_rounding_noise(B), H=without_rounding_noise(H),
+                           in_model=self.model.in_model(points),
                            inside_magnet=self.model.inside_magnet(points))
 
     # -- the JSON results (stamped and JSON-ready; see physics.analysis.results) -------------

@@ -8,6 +8,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from trapscape.physics.probe.laws import ProbeLaw, allowed_basis, projected_force
+from trapscape.scene.measures import centroid, radial_sign
+from trapscape.scene.shapes import shape_of
 from trapscape.scene.units import MU0
 
 CLASSES = ("stable", "saddle", "unstable", "marginal")
@@ -80,6 +82,34 @@ def field_samples(analysis, points_m, progress=None) -> dict:
         "inside_magnet": model.inside_magnet(points_m).astype(np.int32),
         "in_model": model.in_model(points_m).astype(np.uint8),
     }
+
+
+def magnetisation_arrows(scene, index: int) -> list:
+    """Where a part's magnetisation arrows start and which way they point.
+
+    A uniformly magnetised part: one arrow from its volume centroid along north (a mesh's body
+    origin is the file's origin, which may lie far from the part). A radial part: four from the
+    middle of its wall, outward or inward.
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene
+    index : int
+        The magnet's index in the scene.
+
+    Returns
+    -------
+    list of (numpy.ndarray, numpy.ndarray)
+        (start (3,) world point in m, unit direction (3,)) per arrow.
+    """
+    magnet = scene.magnets[index]
+    R = np.asarray(magnet.rotation, float)
+    if magnet.radial is None:
+        north = R @ np.asarray(magnet.north, float)
+        return [(centroid(magnet), north / np.linalg.norm(north))]
+    mids, radial = shape_of(magnet).mid_wall(magnet, 4)
+    return [(magnet.position + R @ middle, radial_sign(magnet) * (R @ outward))
+            for middle, outward in zip(mids, radial)]
 
 
 def admissible(analysis, points_m) -> np.ndarray:

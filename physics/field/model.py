@@ -9,8 +9,9 @@ import numpy as np
 
 from trapscape.scene.units import MU0
 from trapscape.physics.field.dipole_sum import dipole_H
-from trapscape.physics.field.parts import part_contains, part_magnetization, part_sdf, part_sources
+from trapscape.physics.field.parts import part_magnetization, part_sdf, part_sources
 from trapscape.physics.field.sources import Source, mirrored
+from trapscape.physics.field.surfaces import evaluation_points
 
 CHUNK = 250_000  # points per batch: bounds memory and lets long work report progress
 
@@ -161,9 +162,19 @@ class FieldModel:
         return self.applied_H(points, progress=progress)
 
     # -- B ----------------------------------------------------------------------------------
+    # A point on a magnet's face is evaluated on its outer side: H, M and the inside flag are all
+    # read at one evaluation point (physics/field/surfaces.py), so they cannot disagree.
+
+    def _magnetization_at(self, where, owner) -> np.ndarray:
+        M = np.zeros_like(where)
+        for index, magnet in enumerate(self.magnets):
+            mask = owner == index
+            if mask.any():
+                M[mask] = part_magnetization(magnet, where[mask])
+        return M
 
     def magnetization(self, points) -> np.ndarray:
-        """M at world points: the part's magnetisation inside it, zero outside.
+        """M at world points: the part's magnetisation inside it, zero outside and on a face.
 
         Parameters
         ----------
@@ -175,14 +186,33 @@ class FieldModel:
         numpy.ndarray, shape (N, 3)
             A/m, world frame; inside overlapping parts, the first part's (inside_magnet).
         """
-        points = np.asarray(points, dtype=float).reshape(-1, 3)
-        M = np.zeros_like(points)
-        owner = self.inside_magnet(points)
-        for index, magnet in enumerate(self.magnets):
-            mask = owner == index
-            if mask.any():
-                M[mask] = part_magnetization(magnet, points[mask])
-        return M
+        where, owner = evaluation_points(self.magnets, points)
+        return self._magnetization_at(where, owner)
+
+    def H_and_B(self, points, progress=None):
+        """H and B = mu0 (H + M) at world points, a point on a face taken on its outer side.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            World points, m.
+        progress : callable, optional
+            Called as progress(done, total) after each batch of CHUNK points.
+
+        Returns
+        -------
+        H : numpy.ndarray, shape (N, 3)
+            A/m.
+        B : numpy.ndarray, shape (N, 3)
+            T; inside a magnet B includes its magnetisation.
+
+        References
+        ----------
+        B = mu0 (H + M): Jackson, Classical Electrodynamics, 3rd ed., eq. 5.81.
+        """
+        where, owner = evaluation_points(self.magnets, points)
+        H = self.applied_H(where, progress=progress)
+        return H, MU0 * (H + self._magnetization_at(where, owner))
 
     def B(self, points, progress=None):
         """B = mu0 (H + M) at world points: inside a magnet B includes its magnetisation.
@@ -197,13 +227,12 @@ class FieldModel:
         Returns
         -------
         numpy.ndarray, shape (N, 3)
-            T.
+            T; on a face, the outer side's value.
         """
-        points = np.asarray(points, dtype=float).reshape(-1, 3)
-        return MU0 * (self.applied_H(points, progress=progress) + self.magnetization(points))
+        return self.H_and_B(points, progress=progress)[1]
 
     def B_and_gradient(self, points, progress=None):
-        """B and dB_i/dx_j at world points.
+        """B and dB_i/dx_j at world points (a point on a face taken on its outer side).
 
         M is uniform inside a part, so the gradient is mu0 dH/dx there too (radially magnetised
         parts excepted inside: their dM/dx is not included).
@@ -222,9 +251,9 @@ class FieldModel:
         G : numpy.ndarray, shape (N, 3, 3)
             G[n, i, j] = dB_i/dx_j, T/m.
         """
-        points = np.asarray(points, dtype=float).reshape(-1, 3)
-        H, G = self.applied_H(points, gradient=True, progress=progress)
-        return MU0 * (H + self.magnetization(points)), MU0 * G
+        where, owner = evaluation_points(self.magnets, points)
+        H, G = self.applied_H(where, gradient=True, progress=progress)
+        return MU0 * (H + self._magnetization_at(where, owner)), MU0 * G
 
     # -- geometry ---------------------------------------------------------------------------
 
@@ -247,7 +276,9 @@ class FieldModel:
         return np.stack([part_sdf(m, points) for m in self.magnets], axis=1)
 
     def inside_magnet(self, points) -> np.ndarray:
-        """Index of the magnet containing each point, -1 where none does.
+        """Index of the magnet containing each point, -1 where none does (or on its face).
+
+        The same decision that gives M in B (physics/field/surfaces.py).
 
         Parameters
         ----------
@@ -259,11 +290,7 @@ class FieldModel:
         numpy.ndarray of int, shape (N,)
             Where parts overlap, the first one in the scene's order.
         """
-        points = np.asarray(points, dtype=float).reshape(-1, 3)
-        owner = np.full(len(points), -1)
-        for index in reversed(range(len(self.magnets))):
-            owner[part_contains(self.magnets[index], points)] = index
-        return owner
+        return evaluation_points(self.magnets, points)[1]
 
     def plate_distances(self, points) -> np.ndarray:
         """Signed distance from world points to each plate's face (negative behind it).

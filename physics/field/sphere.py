@@ -3,10 +3,18 @@
 H outside = (3 (m.r) r / r^5 - m / r^3) / (4 pi), m = M V; H inside = -M / 3
 (J. D. Jackson, Classical Electrodynamics, 3rd ed., section 5.10).
 Body frame: centred at the origin. Points (N, 3) in metres, M (3,) in A/m, H in A/m.
+A point within 1e-12 of the diameter of the surface is on it and takes the outer side's value
+(the convention of physics.field.cuboid).
 """
 from __future__ import annotations
 
 import numpy as np
+
+SURFACE_TOL = 1e-12  # relative to the diameter: closer than this to the surface is "on" it
+
+
+def _strictly_inside(r2, radius):
+    return r2 < (radius - SURFACE_TOL * 2.0 * radius) ** 2
 
 
 def sphere_H(points: np.ndarray, diameter: float, magnetization: np.ndarray) -> np.ndarray:
@@ -34,7 +42,7 @@ def sphere_H(points: np.ndarray, diameter: float, magnetization: np.ndarray) -> 
     M = np.asarray(magnetization, dtype=float)
     radius = diameter / 2.0
     r2 = np.einsum("ij,ij->i", points, points)
-    inside = r2 < radius**2
+    inside = _strictly_inside(r2, radius)
     moment = M * (4.0 / 3.0) * np.pi * radius**3
     r2_safe = np.where(inside, radius**2, r2)
     r = np.sqrt(r2_safe)
@@ -70,7 +78,7 @@ def sphere_H_gradient(points: np.ndarray, diameter: float, magnetization: np.nda
     radius = diameter / 2.0
     moment = M * (4.0 / 3.0) * np.pi * radius**3
     r2 = np.einsum("ij,ij->i", points, points)
-    inside = r2 < radius**2
+    inside = _strictly_inside(r2, radius)
     r2 = np.where(inside, radius**2, r2)
     r = np.sqrt(r2)
     mr = points @ moment

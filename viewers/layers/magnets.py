@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from trapscape.scene.measures import body_magnetization, radial_sign
+from trapscape.physics.analysis.views import magnetisation_arrows
+from trapscape.scene.measures import body_magnetization
 from trapscape.scene.shapes import shape_of
 from trapscape.viewers.layers import style
 from trapscape.viewers.layers.cutaway import cut_part, kept_side
@@ -122,24 +123,14 @@ def part_letters(ctx, mesh, magnet):
 
 
 def part_arrows(ctx, index: int):
-    """Arrows along the magnetisation that stick out of the north face (radial parts: several,
-    from the middle of the wall)."""
+    """Arrows along the magnetisation that stick out of the north face, from where the analysis
+    puts them (physics.analysis.views.magnetisation_arrows)."""
     import pyvista as pv
 
-    magnet = ctx.scene.magnets[index]
-    mesh = world_meshes(ctx)[index]
-    R = np.asarray(magnet.rotation, float)
-    points = np.asarray(mesh.points)
-    centre = ctx.to_units(magnet.position)
-    if magnet.radial is None:
-        starts = [centre]
-        directions = [R @ (magnet.north / np.linalg.norm(magnet.north))]
-    else:
-        mids, radial = shape_of(magnet).mid_wall(magnet, 4)
-        starts = [ctx.to_units(magnet.position + R @ b) for b in mids]
-        directions = [radial_sign(magnet) * (R @ b) for b in radial]
+    points = np.asarray(world_meshes(ctx)[index].points)
     arrows = []
-    for start, direction in zip(starts, directions):
+    for start_m, direction in magnetisation_arrows(ctx.scene, index):
+        start = ctx.to_units(start_m)
         reach = float(np.max((points - start) @ direction))
         length = reach + max(0.45 * reach, 0.03 * ctx.size)
         arrows.append(pv.Arrow(start=start, direction=direction, scale=length, tip_length=0.3,
