@@ -16,7 +16,8 @@ from trapscape.scene.names import did_you_mean, listing
 
 REQUIRED = object()
 # keys of the file's top level: written after a [table] header, TOML puts them in that table
-TOP_LEVEL = ("version", "title", "units", "gravity", "materials", "allow_overlap")
+TOP_LEVEL = ("version", "title", "units", "gravity", "materials", "allow_overlap",
+             "mesh_size_check")
 LARGEST_LENGTH = 1000.0  # m: nothing trapscape models is a kilometre across
 SMALLEST_LENGTH = 1e-9  # m
 

@@ -8,6 +8,7 @@ from trapscape.viewers.atomic import save_figure
 
 DECADES_SHOWN = 3  # the colour scale spans three decades below the strongest field in air
 INSIDE_GREY = "#b8b8b8"
+TOP_PERCENTILE = 99.8  # of the air samples: the colour scale's top
 
 
 def _pyplot():
@@ -112,7 +113,8 @@ def round_ticks(low, high) -> list:
 
 
 def _log_norm(air_mT, LogNorm):
-    """From three decades below the strongest field in air to it (or 1 mT when there is none)."""
+    """Three decades up to the strongest field in air (or 1 mT when there is none), leaving out
+    the few samples that land on a magnet's edge, where the field grows without bound."""
     positive = air_mT[air_mT > 0]
-    top = float(positive.max()) if len(positive) else 1.0
+    top = float(np.percentile(positive, TOP_PERCENTILE)) if len(positive) else 1.0
     return LogNorm(vmin=top * 10.0 ** -DECADES_SHOWN, vmax=top, clip=False)

@@ -270,8 +270,11 @@ def test_section_plot_is_log_scaled_over_the_air_with_the_magnet_outlined(tmp_pa
     image = axes.collections[0]
     assert isinstance(image.norm, LogNorm)
     air = np.linalg.norm(values.B, axis=1)[values.inside_magnet < 0] * 1e3
-    assert image.norm.vmax == pytest.approx(air.max())  # not the ~1 T inside the magnet
-    assert image.norm.vmax < 1e3 * np.linalg.norm(values.B, axis=1).max()
+    assert (values.inside_magnet >= 0).sum() > 100  # the section cuts the disc
+    # the top is the air's (edge samples, where |B| grows without bound, left out), not the
+    # ~1 T inside the magnet
+    assert np.percentile(air, 99) <= image.norm.vmax <= air.max()
+    assert image.norm.vmax == pytest.approx(np.percentile(air, 99.8))
     outline = axes.collections[-1]
     assert outline.get_edgecolor()[0][:3].tolist() == [0.0, 0.0, 0.0]
     assert "y = 0 mm" in axes.get_title()
