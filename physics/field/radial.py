@@ -40,10 +40,11 @@ import numpy as np
 from numba import njit, prange
 
 # Gauss-Legendre nodes per panel in s = asinh(dphi / eps) and the panels' width: against 24 nodes
-# on panels of 0.4, the largest errors at 0.5 % to 50 % of the wall were 3e-10 of |H| and 2e-6 of
-# |dH/dx| (measured 2026-12-03 on a 32/24/5 mm ring and a 57 degree arc of it)
-GAUSS_NODES = 8
-PANEL_WIDTH = 1.5
+# on panels of 0.4, the largest errors at 0.5 % to 50 % of the wall were 2e-8 of |H| and 1e-4 of
+# |dH/dx| (measured 2026-12-03 on a 32/24/5 mm ring and a 57 degree arc of it; 8 nodes on 1.5
+# gave 3e-10 and 2e-6 for 1.6 times the work)
+GAUSS_NODES = 10
+PANEL_WIDTH = 3.0
 FLOOR = 1e-300
 
 _NODES, _WEIGHTS = np.polynomial.legendre.leggauss(GAUSS_NODES)
@@ -162,8 +163,7 @@ def _side(x, y, z, centre, length, direction, eps, a, b, half, nodes, weights, p
             _integrand(x, y, z, phi, a, b, half, jac, scratch, out)
 
 
-@njit(cache=True, parallel=True)
-def _radial_kernel(points, a, b, height, angle, m, nodes, weights, panel_width):
+def _kernel(points, a, b, height, angle, m, nodes, weights, panel_width):
     n = points.shape[0]
     result = np.zeros((n, 12))
     half = 0.5 * height
@@ -226,12 +226,20 @@ def _radial_kernel(points, a, b, height, angle, m, nodes, weights, panel_width):
     return result
 
 
+# small batches (the trap search's refinements and contact steps) run on one thread: starting the
+# parallel region cost more than the work for ten points on a busy machine
+_radial_kernel = njit(cache=True, parallel=True)(_kernel)
+_radial_kernel_serial = njit(cache=True)(_kernel)
+SERIAL_BELOW = 64  # points
+
+
 def _evaluate(points, outer_diameter, inner_diameter, height, angle, magnetization,
               rule=None):
     pts = np.ascontiguousarray(np.asarray(points, dtype=float).reshape(-1, 3))
     m = float(np.asarray(magnetization, dtype=float).reshape(-1)[0])
     nodes, weights, width = (_NODES, _WEIGHTS, PANEL_WIDTH) if rule is None else rule
-    out = _radial_kernel(pts, 0.5 * float(inner_diameter), 0.5 * float(outer_diameter),
+    kernel = _radial_kernel_serial if len(pts) < SERIAL_BELOW else _radial_kernel
+    out = kernel(pts, 0.5 * float(inner_diameter), 0.5 * float(outer_diameter),
                          float(height), float(angle), m, nodes, weights, float(width))
     return out[:, :3].copy(), out[:, 3:].reshape(-1, 3, 3).copy()
 
