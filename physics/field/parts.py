@@ -1,6 +1,8 @@
 """From a scene's Magnet to its field sources, magnetisation and geometry in the world frame."""
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 
 from trapscape.physics.field.dipoles import cell_size_for, discretise
@@ -10,7 +12,10 @@ from trapscape.physics.field.sources import Source
 from trapscape.scene.errors import SceneError
 from trapscape.scene.measures import (
     body_magnetization,
+    magnetization_strength,
     magnetization_vector,
+    moment_world,
+    radial_sign,
     smallest_dimension,
 )
 from trapscape.scene.measures import volume as part_volume
@@ -24,7 +29,7 @@ EXACT_TRIANGLE_LIMIT = 60
 # ray per column of them, cheap): the largest error of one part's set then falls from 3.5e-3
 # (4^3) to 1e-3 (measured on the 12-segment benchmark rotor, 2026-12-02).
 MESH_SUBSAMPLES = 16
-RADIAL_CELLS_PER_WALL = 8  # radial parts have no closed form here: a dipole set of wall/8 cells
+RADIAL_CELLS_PER_WALL = 8  # a radial part forced to dipoles (method = "dipoles"): wall/8 cells
 
 
 def body_bounds(magnet) -> tuple[np.ndarray, np.ndarray]:
@@ -159,6 +164,15 @@ def _exact_source(magnet, index) -> Source:
     return _placed(magnet, index, shape.closed_form, shape.field_params(magnet), M)
 
 
+def _radial_source(magnet, index) -> Source:
+    """A radially magnetised part through its shape's radial closed form, M as (1,) signed A/m."""
+    shape = shape_of(magnet)
+    signed = np.array([radial_sign(magnet) * magnetization_strength(magnet.remanence)])
+    source = _placed(magnet, index, shape.radial_closed_form, shape.radial_field_params(magnet),
+                     None)
+    return replace(source, magnetization=signed, moment=np.asarray(moment_world(magnet), float))
+
+
 def default_cell_size(magnet, accuracy: float) -> float:
     """The lattice cell edge of a part's dipole set.
 
@@ -208,8 +222,6 @@ def _dipole_source(magnet, index, accuracy) -> Source:
                      dipole_positions=positions @ R.T + magnet.position,
                      dipole_moments=moments @ R.T)
     if not uniform:
-        from dataclasses import replace
-
         source = replace(source, moment=source.dipole_moments.sum(axis=0))
     return source
 
@@ -252,9 +264,10 @@ def _inside_tests(magnet):
 def part_sources(magnet, index, accuracy=1e-3) -> list[Source]:
     """The sources that make up one magnet: exact where a closed form exists, else dipoles.
 
-    Radial parts and method = "dipoles" give a lattice dipole set; method = "exact", shapes that
-    fit no far field and meshes of fewer than EXACT_TRIANGLE_LIMIT triangles the exact closed
-    form; larger meshes the exact form near them and equivalent dipoles beyond.
+    Radial parts their shape's radial closed form (a lattice dipole set when the shape has none
+    or with method = "dipoles"); method = "dipoles" a lattice dipole set; method = "exact",
+    shapes that fit no far field and meshes of fewer than EXACT_TRIANGLE_LIMIT triangles the
+    exact closed form; larger meshes the exact form near them and equivalent dipoles beyond.
 
     Parameters
     ----------
@@ -275,6 +288,9 @@ def part_sources(magnet, index, accuracy=1e-3) -> list[Source]:
     trapscape.scene.errors.SceneError
         When the dipole set cannot be built (e.g. a cell size so small the lattice would not fit).
     """
+    radial_form = shape_of(magnet).radial_closed_form
+    if magnet.radial is not None and radial_form is not None and magnet.method != "dipoles":
+        return [_radial_source(magnet, index)]
     if magnet.radial is not None or magnet.method == "dipoles":
         return [_dipole_source(magnet, index, accuracy)]
     if magnet.method == "exact" or not shape_of(magnet).fit_far_field:

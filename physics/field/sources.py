@@ -21,6 +21,7 @@ CLOSED_FORMS = {
     "cylinder": ("trapscape.physics.field.cylinder", "cylinder"),
     "ring": ("trapscape.physics.field.cylinder", "ring"),
     "polyhedron": ("trapscape.physics.field.polyhedron", "polyhedron"),
+    "radial_sector": ("trapscape.physics.field.radial", "radial_sector"),
 }
 
 # Beyond this many part sizes from its centre a part is replaced by its dipole: the closed forms
@@ -71,7 +72,7 @@ class Source:
     params: tuple
     center: np.ndarray
     matrix: np.ndarray  # body -> world, orthogonal (det +1, or -1 for an image)
-    magnetization: np.ndarray | None  # body frame, A/m (uniform parts)
+    magnetization: np.ndarray | None  # body frame, A/m (uniform parts; (1,) signed for radial)
     size: float  # largest dimension, m
     moment: np.ndarray  # world, A m^2
     is_image: bool = False

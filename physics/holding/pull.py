@@ -13,7 +13,8 @@ nearest surface is `gap` from the face; the pull is the force component towards 
   real coefficients vary with paint, oil and surface finish.
 - Peel torque: the moment about the weakest edge of the footprint that tips the assembly off,
   at the onset of tipping: pull x (distance from the centre of pull to the nearest support line
-  of the footprint; Cauchy's support function over 180 directions); the centre of pull is where
+  of the footprint, from the parts' exact support functions: sampled over 720 directions, the
+  smallest refined by bounded minimisation); the centre of pull is where
   the normal force's line of action crosses the face (from the image torque). As the far side
   lifts the pull moves towards the pivot and falls, so this is the largest moment needed.
 - Saturation: physics/saturation.py. The mirror model overstates the pull where the plate
@@ -24,6 +25,7 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 import numpy as np
+from scipy.optimize import minimize_scalar
 
 from trapscape.physics.field.model import FieldModel
 from trapscape.physics.field.parts import bounding_diagonal
@@ -35,7 +37,8 @@ from trapscape.physics.holding.forces import (
 from trapscape.physics.holding.saturation import footprint, plate_flux_density
 from trapscape.scene.model import frozen_array
 
-PEEL_DIRECTIONS = 180
+PEEL_DIRECTIONS = 720
+PEEL_REFINED = 3  # sampled local minima refined (a polygon's lever can tie at several edges)
 ONSET_STEPS = 40  # bisection steps at most when looking for the gap where saturation starts
 
 
@@ -108,20 +111,70 @@ def force_and_torque(scene, moving, about, rtol: float = 1e-6):
     return force, torque, model
 
 
+def peel_lever(shadow, centre) -> float:
+    """Distance from a point of the face to the nearest support line of the footprint's hull.
+
+    min over directions d of h(d) - d . c, h the shadow's exact support function (derived
+    here; R. Schneider, Convex Bodies, 2nd ed., 1.7): sampled, then the smallest local minima
+    refined with a bounded Brent search to 1e-12 rad.
+
+    Parameters
+    ----------
+    shadow : trapscape.physics.holding.saturation.Footprint
+        The moving parts' footprint (its parts give the outline).
+    centre : numpy.ndarray, shape (2,)
+        The point in plate coordinates, m.
+
+    Returns
+    -------
+    float
+        m; negative when the point lies outside the footprint's hull.
+    """
+    centre = np.asarray(centre, float)
+
+    def distance(angles):
+        directions = np.stack([np.cos(angles), np.sin(angles)], axis=-1).reshape(-1, 2)
+        return shadow.support(directions) - directions @ centre
+
+    step = 2.0 * np.pi / PEEL_DIRECTIONS
+    angles = np.arange(PEEL_DIRECTIONS) * step
+    sampled = distance(angles)
+    local = np.flatnonzero((sampled <= np.roll(sampled, 1)) & (sampled <= np.roll(sampled, -1)))
+    best = float(sampled.min())
+    for k in local[np.argsort(sampled[local])][:PEEL_REFINED]:
+        found = minimize_scalar(lambda a: float(distance(np.array([a]))[0]),
+                                bounds=(angles[k] - step, angles[k] + step), method="bounded",
+                                options={"xatol": 1e-12})
+        best = min(best, float(found.fun))
+    return best
+
+
 def peel_torque(pull: float, torque, shadow, about) -> float | None:
-    """Pull x the distance from the centre of pull to the footprint's nearest support line."""
-    masks = shadow.union_mask()
-    if pull <= 0.0 or not masks.any():
+    """Pull x the distance from the centre of pull to the footprint's nearest support line.
+
+    Parameters
+    ----------
+    pull : float
+        N, towards the plate.
+    torque : numpy.ndarray, shape (3,)
+        N m about ``about``.
+    shadow : trapscape.physics.holding.saturation.Footprint
+        The moving parts' footprint.
+    about : numpy.ndarray, shape (3,)
+        The torque's reference point on the face, m.
+
+    Returns
+    -------
+    float or None
+        N m; None when the parts are not pulled to the plate.
+    """
+    if pull <= 0.0 or not shadow.magnets:
         return None
     n = shadow.normal
     # T = a x (-pull n) for a normal force at offset a in the face: a = -(n x T) / pull
     offset = -np.cross(n, torque) / pull
     centre = (np.asarray(about) + offset - shadow.origin) @ shadow.axes.T
-    angles = np.linspace(0.0, np.pi * 2, PEEL_DIRECTIONS, endpoint=False)
-    directions = np.stack([np.cos(angles), np.sin(angles)], axis=1)
-    support = (shadow.plane_points[masks] @ directions.T).max(axis=0) + shadow.spacing / 2.0
-    lever = float(np.min(support - directions @ centre))
-    return pull * max(lever, 0.0)
+    return pull * max(peel_lever(shadow, centre), 0.0)
 
 
 def _reference_point(scene, moving, plate) -> np.ndarray:

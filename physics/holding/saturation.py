@@ -23,6 +23,7 @@ import numpy as np
 
 from trapscape.physics.field.parts import body_bounds, part_sdf
 from trapscape.physics.holding.forces import lowest_point
+from trapscape.scene.shapes import shape_of
 from trapscape.scene.shapes.frames import box_corners, perpendicular_pair, to_world
 
 FOOTPRINT_NODES = 96  # grid nodes on the longer side of the footprint's box
@@ -46,6 +47,7 @@ class Footprint:
     depth: np.ndarray
     spacing: float
     normal: np.ndarray
+    magnets: tuple = ()
 
     @property
     def points(self) -> np.ndarray:
@@ -65,6 +67,31 @@ class Footprint:
 
     def union_mask(self) -> np.ndarray:
         return self.masks().any(axis=0)
+
+    def support(self, directions) -> np.ndarray:
+        """Support function of the parts' exact shadow in plate coordinates, from their outlines.
+
+        The projection of a solid along the normal has, for an in-plane direction d, the solid's
+        own support value h(d) (Schneider, Convex Bodies, 2nd ed., 1.7: projection commutes with
+        the support function); the union's is the largest over the parts.
+
+        Parameters
+        ----------
+        directions : numpy.ndarray, shape (K, 2)
+            Directions in the plate's (u, v) axes, any length.
+
+        Returns
+        -------
+        numpy.ndarray, shape (K,)
+            max over the shadow of d . (u, v), m (times |d|).
+        """
+        world = np.asarray(directions, float) @ self.axes
+        values = np.full(len(world), -np.inf)
+        for magnet in self.magnets:
+            body = world @ np.asarray(magnet.rotation, float)  # R^T d for each row
+            reach = shape_of(magnet).support(magnet, body) + world @ np.asarray(magnet.position, float)
+            values = np.maximum(values, reach)
+        return values - world @ self.origin
 
 
 def plate_axes(normal) -> np.ndarray:
@@ -99,7 +126,7 @@ def footprint(magnets, plate, nodes: int = FOOTPRINT_NODES) -> Footprint:
         part_depth[near] = sdf.min(axis=1)
         depth.append(part_depth.reshape(uu.shape))
     return Footprint(origin=origin, axes=axes, u=u, v=v, depth=np.array(depth),
-                     spacing=spacing, normal=n)
+                     spacing=spacing, normal=n, magnets=tuple(magnets))
 
 
 def _projected_box(magnet, axes):

@@ -45,6 +45,7 @@ class Shape(Protocol):
     cheap_distance: bool  # sdf is a closed form (else a brute-force mesh distance)
     fit_far_field: bool  # a large tessellation may be replaced by fitted dipoles far away
     closed_form: str  # key of physics.field.sources.CLOSED_FORMS that draws its field
+    radial_closed_form: str | None  # the key that draws it magnetised radially (None: dipoles)
 
     def validate(self, values, unit: str) -> None:
         """Raise DimError unless the dims as written (file units, degrees, [x, y] lists) are valid."""
@@ -120,6 +121,9 @@ class Shape(Protocol):
     def field_params(self, part) -> tuple:
         """Arguments of CLOSED_FORMS[closed_form] before the magnetisation (m)."""
 
+    def radial_field_params(self, part) -> tuple:
+        """Arguments of CLOSED_FORMS[radial_closed_form] before the signed radial M (m, rad)."""
+
     def patches(self, part, volume_charge: bool = False) -> list:
         """The faces (and with volume_charge the volume) as parameter patches (patches.Patches)."""
 
@@ -171,6 +175,7 @@ class BaseShape:
     cheap_distance = True
     fit_far_field = False
     closed_form = "polyhedron"
+    radial_closed_form = None
 
     def validate(self, values, unit: str) -> None:
         """Raise DimError unless every value (file units; angles in degrees) is positive.

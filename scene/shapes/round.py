@@ -16,8 +16,15 @@ FULL_TURN = 2.0 * math.pi
 class RoundShape(BaseShape):
     """Subclasses give sector(part) -> (r_in, r_out, height, angle in rad)."""
 
+    radial_closed_form = "radial_sector"
+
     def sector(self, part) -> tuple:
         raise NotImplementedError
+
+    def radial_field_params(self, part) -> tuple:
+        """(outer diameter, inner diameter, height, angle): m, m, m, rad (a full turn for a ring)."""
+        r_in, r_out, height, angle = self.sector(part)
+        return 2.0 * float(r_out), 2.0 * float(r_in), float(height), float(angle)
 
     def support(self, part, directions) -> np.ndarray:
         r_in, r_out, height, angle = self.sector(part)
