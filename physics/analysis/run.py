@@ -8,6 +8,7 @@ from functools import cached_property
 import numpy as np
 
 from trapscape.physics.analysis.holding import hold_analysis
+from trapscape.physics.analysis.safety import safety_figures, safety_json, shipping_json
 from trapscape.physics.analysis.results import (
     check_json,
     hold_json,
@@ -81,6 +82,11 @@ class Analysis:
     def model(self):
         """The scene's FieldModel (built on first use)."""
         return FieldModel.from_scene(self.scene)
+
+    @cached_property
+    def safety(self):
+        """The safety, handling and shipping figures (physics.analysis.safety.SafetyFigures)."""
+        return safety_figures(self.scene)
 
     @cached_property
     def point_probe(self):
@@ -163,9 +169,13 @@ class Analysis:
         Returns
         -------
         dict
-            physics.analysis.results.check_json, stamped and JSON-ready.
+            physics.analysis.results.check_json with its safety and shipping objects
+            (physics.analysis.safety), stamped and JSON-ready.
         """
-        return json_ready(stamp(self.scene, check_json(self.scene)))
+        payload = check_json(self.scene)
+        payload["safety"] = safety_json(self.scene, self.safety)
+        payload["shipping"] = shipping_json(self.scene, self.safety)
+        return json_ready(stamp(self.scene, payload))
 
     def traps_result(self, progress=None) -> dict:
         """The `traps` result (finds the traps if not done yet).
