@@ -7,15 +7,57 @@ from dataclasses import dataclass
 import numpy as np
 
 from trapscape.physics.field import engine
+from trapscape.physics.field.model import FieldModel
+from trapscape.physics.holding.forces import part_forces
 from trapscape.physics.safety.assembly import AssemblyField
 from trapscape.physics.safety.cautions import CAUTIONS, SHIPPING_NOTES
 from trapscape.physics.safety.demagnetization import assess, reverse_fields
 from trapscape.physics.safety.flux_index import flux_index
-from trapscape.physics.safety.handling import assembled_forces
 from trapscape.physics.safety.implant import implant_shells
 from trapscape.physics.safety.limits import limits
 from trapscape.physics.safety.shipping import air_transport_class, strongest_H
 from trapscape.scene.measures import scene_bounding_box
+
+
+FORCE_RTOL = 1e-2  # of each part's force scale: enough to choose a glue or a fixture, and fast
+
+
+@dataclass(frozen=True)
+class PartForce:
+    """Force (3,) N and torque (3,) N m about the part's centre, from the other parts."""
+
+    name: str
+    force_N: np.ndarray
+    torque_N_m: np.ndarray
+
+
+def assembled_forces(field, rtol: float = FORCE_RTOL) -> list:
+    """The force and torque on each part from all the others at their assembled positions (what
+    the glue or fixture must hold while the assembly is built; the largest is the snap force a
+    released part starts with), the magnets alone (`hold` gives the pull of a steel plate).
+
+    Parameters
+    ----------
+    field : trapscape.physics.safety.assembly.AssemblyField
+        The magnets (their exact sources are used).
+    rtol : float
+        Target error relative to each part's force scale.
+
+    Returns
+    -------
+    list of PartForce
+        In the scene's order.
+
+    References
+    ----------
+    Coulombian charge model of physics.holding.forces: Akoun & Yonnet, IEEE Trans. Magn. 20,
+    1962 (1984); E. P. Furlani, Permanent Magnet and Electromechanical Devices, 2001, ch. 3.
+    """
+    if len(field.magnets) < 2:
+        return [PartForce(m.name, np.zeros(3), np.zeros(3)) for m in field.magnets]
+    model = FieldModel(field.scene, field.sources)
+    return [PartForce(name, np.asarray(f), np.asarray(t))
+            for name, f, t in part_forces(model, rtol=rtol)]
 
 
 @dataclass(frozen=True, eq=False)
@@ -24,7 +66,7 @@ class SafetyFigures:
 
     field: AssemblyField
     shells: tuple  # of physics.safety.implant.Shell: the implant limit first, then field_levels
-    forces: list  # of physics.safety.handling.PartForce
+    forces: list  # of PartForce
     demagnetization: list  # of physics.safety.demagnetization.Demagnetization
     flux: list  # of physics.safety.flux_index.FluxIndex
     package: tuple  # (low, high) m
@@ -102,13 +144,14 @@ def safety_json(scene, figures: SafetyFigures) -> dict:
         "implant_limit_T": implant.limit_T,
         "implant_distance_from_surface": implant.distance_from_surface / unit,
         "implant_radius": implant.radius / unit,
-        "implant_centre": implant.centre / unit,
+        "implant_centre": _tidy(implant.centre, field_size(figures)) / unit,
         "implant_source": table["implant"]["source"],
         "field_levels": [{"limit_T": s.limit_T, "label": lv["label"], "source": lv["source"],
                           "distance_from_surface": s.distance_from_surface / unit,
                           "radius": s.radius / unit}
                          for s, lv in zip(figures.shells[1:], table["field_levels"])],
-        "part_forces": [{"name": f.name, "force_N": f.force_N, "torque_N_m": f.torque_N_m,
+        "part_forces": [{"name": f.name, "force_N": _tidy(f.force_N, largest),
+                         "torque_N_m": _tidy(f.torque_N_m, largest * field_size(figures)),
                          "force_magnitude_N": float(np.linalg.norm(f.force_N))}
                         for f in figures.forces],
         "largest_force_N": largest,
@@ -169,8 +212,30 @@ def shipping_json(scene, figures: SafetyFigures) -> dict:
         "limit_at_2_1m_A_per_m": rules["near_limit_A_per_m"],
         "limit_at_4_6m_A_per_m": rules["far_limit_A_per_m"],
         "regulation": rules["regulation"],
+        "regulation_note": rules["regulation_note"],
         "notes": notes,
     }
+
+
+def field_size(figures: SafetyFigures) -> float:
+    """The assembly's enclosing radius, m (the scale for tidying lengths and torques).
+
+    Parameters
+    ----------
+    figures : SafetyFigures
+        What safety_figures computed.
+
+    Returns
+    -------
+    float
+    """
+    return figures.field.enclosing_radius
+
+
+def _tidy(vector, scale: float) -> np.ndarray:
+    """Components below 1e-9 of the scale (round-off of cancelling terms) set to 0."""
+    vector = np.asarray(vector, float)
+    return np.where(np.abs(vector) <= 1e-9 * scale, 0.0, vector) + 0.0
 
 
 def package_warning() -> str:
