@@ -34,8 +34,6 @@ def run(args) -> int:
             warnings.showwarning(warning.message, warning.category, warning.filename,
                                  warning.lineno)
     result = analysis.check_result()
-    if not result["shipping"]["package_given"]:
-        print(f"trapscape: warning: {result['shipping']['notes'][0]}", file=sys.stderr)
     if args.json:  # first, so the file is there even if the table's reader goes away
         write_json(args.json, result)
     print(format_table(analysis.scene, result))
@@ -150,8 +148,7 @@ def format_safety(scene, summary) -> str:
     size = " x ".join(f"{v:.3g}" for v in shipping["package_size"])
     lines += ["", f"shipping by air ({shipping['regulation']}; {shipping['regulation_note']}):",
               f"  package {size} {unit}"
-              + ("" if shipping["package_given"] else " (the magnets' bounding box: add "
-                                                      "[package] to the scene)"),
+              + ("" if shipping["package_given"] else f"; warning: {shipping['notes'][0]}"),
               f"  H at 2.1 m: {shipping['H_at_2_1m_A_per_m']:.3g} A/m (limit "
               f"{shipping['limit_at_2_1m_A_per_m']:g}), at 4.6 m: "
               f"{shipping['H_at_4_6m_A_per_m']:.3g} A/m (limit "
