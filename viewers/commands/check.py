@@ -112,16 +112,17 @@ def format_safety(scene, summary) -> str:
     if len(forces) > 1:
         lines.append("  force and torque on each part from the others, as assembled:")
         rows = [["part", "|F| N", "F N", "torque N m"]]
-        rows += [[f["name"], f"{f['force_magnitude_N']:.3g}", _vector(f["force_N"]),
-                  _vector(f["torque_N_m"])] for f in forces]
+        # below a nanonewton is the quadrature's round-off of a force that cancels
+        rows += [[f["name"], _amount(f["force_magnitude_N"], 1e-9),
+                  _vector(f["force_N"], 1e-9), _vector(f["torque_N_m"], 1e-12)] for f in forces]
         widths = [max(len(r[k]) for r in rows) for k in range(4)]
         lines += ["    " + "  ".join(c.ljust(w) for c, w in zip(r, widths)).rstrip() for r in rows]
         worst = max(forces, key=lambda f: f["force_magnitude_N"])
         verdict = (f"above {safety['pinch_force_N']:g} N: parts released here snap and pinch "
                    f"skin (common practice)" if safety["pinch_warning"]
                    else f"below the {safety['pinch_force_N']:g} N pinch level (common practice)")
-        lines.append(f"  largest: {worst['force_magnitude_N']:.3g} N on '{worst['name']}', "
-                     f"{verdict}")
+        lines.append(f"  largest: {_amount(worst['force_magnitude_N'], 1e-9)} N on "
+                     f"'{worst['name']}', {verdict}")
     lines.append(f"  demagnetisation (worst reverse field / HcJ; flagged above "
                  f"{safety['demagnetization_margin']:g}, common practice):")
     for d in safety["demagnetization"]:
@@ -164,8 +165,13 @@ CLASS_WORDS = {"not-restricted": "not restricted as magnetised material",
                "forbidden": "forbidden without approval"}
 
 
-def _vector(values) -> str:
-    return "[" + ", ".join(f"{v:+.3g}" for v in np.asarray(values, float) + 0.0) + "]"
+def _amount(value, zero: float) -> str:
+    return f"{value:.3g}" if abs(value) > zero else "0"
+
+
+def _vector(values, zero: float = 0.0) -> str:
+    values = np.asarray(values, float)
+    return "[" + ", ".join(f"{v:+.3g}" if abs(v) > zero else "0" for v in values + 0.0) + "]"
 
 
 def _triple(values) -> str:
