@@ -8,7 +8,12 @@ from functools import cached_property
 import numpy as np
 
 from trapscape.physics.analysis.holding import hold_analysis
-from trapscape.physics.analysis.safety import safety_figures, safety_json, shipping_json
+from trapscape.physics.analysis.safety import (
+    implant_surface,
+    safety_figures,
+    safety_json,
+    shipping_json,
+)
 from trapscape.physics.analysis.results import (
     check_json,
     hold_json,
@@ -87,6 +92,11 @@ class Analysis:
     def safety(self):
         """The safety, handling and shipping figures (physics.analysis.safety.SafetyFigures)."""
         return safety_figures(self.scene)
+
+    @cached_property
+    def implant_surface(self):
+        """The implant shell on many rays, for views and exports (physics.safety.implant.Shell)."""
+        return implant_surface(self.safety)
 
     @cached_property
     def point_probe(self):

@@ -118,6 +118,25 @@ def safety_figures(scene) -> SafetyFigures:
                          H_far=h_far, air_class=air_transport_class(h_near, h_far, rules))
 
 
+def implant_surface(figures: SafetyFigures, count: int = 640):
+    """The implant shell on more rays, for drawing and for the STL/VTP export.
+
+    Parameters
+    ----------
+    figures : SafetyFigures
+        What safety_figures computed (its field and implant limit are reused).
+    count : int
+        Rays.
+
+    Returns
+    -------
+    trapscape.physics.safety.implant.Shell
+        points (N, 3) and faces (F, 3), m, world frame.
+    """
+    with engine.in_process_mode():
+        return implant_shells(figures.field, [figures.shells[0].limit_T], count, refine=False)[0]
+
+
 def safety_json(scene, figures: SafetyFigures) -> dict:
     """The `safety` object of `check`.
 
