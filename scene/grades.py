@@ -14,6 +14,8 @@ end is the conservative choice for a holding force, and can be had with a materi
 
 Per grade: remanence_range_T (Br at 20 °C), coercivity_kA_per_m (intrinsic HcJ, minimum),
 temperature_coefficient_percent_per_K (reversible coefficient of Br, 20-100 °C),
+coercivity_temperature_coefficient_percent_per_K (reversible coefficient of HcJ, 20-100 °C: from
+memory of supplier datasheets, like the rest; hard ferrite's is positive, its HcJ falls on cooling),
 max_temperature_C (maximum working temperature, for a part of moderate load line, as suppliers
 quote it), density_kg_per_m3.
 
@@ -24,6 +26,7 @@ A user's materials file (scene key `materials = "my_grades.toml"`) adds or overr
     remanence = 1.29                                  # T; or remanence_range = [1.28, 1.32]
     coercivity_kA_per_m = 955                         # optional, like the keys below
     temperature_coefficient_percent_per_K = -0.12
+    coercivity_temperature_coefficient_percent_per_K = -0.60
     max_temperature_C = 80
     density = 7500                                    # kg/m^3
 """
@@ -51,6 +54,7 @@ class Grade:
     max_temperature: float | None  # degrees Celsius
     density: float | None  # kg/m^3
     source: str
+    coercivity_temperature_coefficient: float | None = None  # reversible, of HcJ, percent per K
 
 
 # Sintered NdFeB: Br range (T) by energy class; the same range for every coercivity suffix
@@ -70,6 +74,12 @@ NDFEB_SUFFIXES = {
     "EH": (2388, 200, ("N35", "N38")),
 }
 NDFEB_HIGH_ENERGY = {"N48": 876, "N50": 876, "N52": 876, "N55": 876}  # plain grades, HcJ kA/m
+
+# Reversible temperature coefficient of HcJ (beta, %/K, 20-100 °C), by family: typical datasheet
+# values FROM MEMORY of supplier datasheets (sintered NdFeB -0.55 to -0.65 by class, SmCo5 about
+# -0.30, Sm2Co17 -0.20 to -0.25, hard ferrite +0.2 to +0.4, bonded NdFeB about -0.40).
+COERCIVITY_COEFFICIENT = {"sintered NdFeB": -0.60, "SmCo5": -0.30, "Sm2Co17": -0.22,
+                          "hard ferrite": 0.30, "bonded NdFeB": -0.40}
 
 # name: (family, Br range T, HcJ min kA/m, alpha(Br) %/K, max temperature C, density kg/m^3)
 OTHER_GRADES = {
@@ -100,7 +110,7 @@ def _ranged(name, family, low_high, coercivity_kA, alpha, t_max, density, source
     return Grade(name=name, family=family, remanence=round((low + high) / 2, 4),
                  remanence_range=(low, high), coercivity=coercivity_kA * 1e3,
                  temperature_coefficient=alpha, max_temperature=t_max, density=density,
-                 source=source)
+                 source=source, coercivity_temperature_coefficient=COERCIVITY_COEFFICIENT[family])
 
 
 def built_in_grades() -> dict:
@@ -122,7 +132,9 @@ def built_in_grades() -> dict:
 
 
 GRADE_KEYS = ("source", "remanence", "remanence_range", "coercivity_kA_per_m",
-              "temperature_coefficient_percent_per_K", "max_temperature_C", "density", "family")
+              "temperature_coefficient_percent_per_K",
+              "coercivity_temperature_coefficient_percent_per_K", "max_temperature_C", "density",
+              "family")
 
 
 def load_materials(path: Path, raw: bytes, shown: str) -> dict:
@@ -172,6 +184,7 @@ def _user_grade(name: str, entry, where: str) -> Grade:
                          f"(about 1.5 T at most); give it in tesla, not millitesla.")
     optional = {key: _number(entry[key], f"{where}, {key}") if key in entry else None
                 for key in ("coercivity_kA_per_m", "temperature_coefficient_percent_per_K",
+                            "coercivity_temperature_coefficient_percent_per_K",
                             "max_temperature_C", "density")}
     if optional["density"] is not None and optional["density"] <= 0:
         raise SceneError(f"{where}, density: must be positive (kg/m^3).")
@@ -181,7 +194,8 @@ def _user_grade(name: str, entry, where: str) -> Grade:
                  coercivity=None if coercivity is None else coercivity * 1e3,
                  temperature_coefficient=optional["temperature_coefficient_percent_per_K"],
                  max_temperature=optional["max_temperature_C"], density=optional["density"],
-                 source=source.strip())
+                 source=source.strip(), coercivity_temperature_coefficient=optional[
+                     "coercivity_temperature_coefficient_percent_per_K"])
 
 
 def _number(value, where: str) -> float:

@@ -27,6 +27,8 @@ Choices beyond DESIGN.md, documented here:
   holds in front of the face only), and resolution = 80 points along its longest side.
 - A [[steel_plate]] needs point, normal and thickness; saturation defaults to 2.0 T (low-carbon
   steel, from memory); names default to "plate-1", "plate-2", ...
+- [safety] and [package] (scene.safety_settings): the implant limit, working temperatures and
+  shipping box of the safety and shipping figures.
 - The digest is sha256 over the scene file's bytes, every mesh file's bytes, the materials
   file's bytes and the sorted --set overrides.
 """
@@ -59,11 +61,12 @@ from trapscape.scene.overlaps import line_inside_parts, overlapping_pairs
 from trapscape.scene.parts import read_magnets
 from trapscape.scene.probe_reading import read_probe
 from trapscape.scene.reading import Context
+from trapscape.scene.safety_settings import read_safety
 from trapscape.scene.tomlfile import parse_toml
 from trapscape.scene.units import unit_scale
 
 TOP_KEYS = ("version", "title", "units", "gravity", "allow_overlap", "mesh_size_check", "params",
-            "materials", "magnet", "steel_plate", "probe", "search_box")
+            "materials", "magnet", "steel_plate", "probe", "search_box", "safety", "package")
 TOP_ELSEWHERE = {
     "constraint": "the constraint goes under the probe: write [probe.constraint]",
     "magnets": "write [[magnet]] (singular, double brackets) once per magnet",
@@ -130,6 +133,7 @@ def _build(raw: bytes, base_dir: Path, shown: str, path_text: str, overrides: di
     plates = _plates(ctx, document, magnets)
     probe, constraint = _probe(ctx, document.get("probe"), grades)
     box = _search_box(ctx, document.get("search_box", {}), magnets, plates)
+    safety = read_safety(ctx, document, scene_bounding_box(magnets))
     _check_overlaps(shown, magnets, scale, units, _allow_overlap(document, shown))
     _warn_constraint_outside(shown, constraint, box, probe)
     _warn_line_through_magnets(shown, constraint, box, magnets, scale, units)
@@ -139,7 +143,7 @@ def _build(raw: bytes, base_dir: Path, shown: str, path_text: str, overrides: di
         gravity=frozen_array(_gravity(ctx, document, shown), (3,)),
         magnets=tuple(magnets), plates=tuple(plates), probe=probe, constraint=constraint,
         search_box=box, params=dict(params), path=path_text,
-        digest=_digest(hashed, overrides))
+        digest=_digest(hashed, overrides), safety=safety)
 
 
 def _gravity(ctx, document, shown) -> np.ndarray:

@@ -10,6 +10,8 @@ from types import MappingProxyType
 
 import numpy as np
 
+from trapscape.scene.grades import Grade
+from trapscape.scene.safety_settings import SafetySettings
 from trapscape.scene.shapes import SHAPES as SHAPE_REGISTRY
 from trapscape.scene.shapes.frames import perpendicular_pair
 
@@ -53,6 +55,7 @@ class Magnet:
     cell_size: float | None = None  # metres, for dipole sets; None = from the accuracy target
     origin: str = ""  # where it was defined, for messages: "scene.toml, [[magnet]] 3"
     density: float | None = None  # kg/m^3, from the grade or the magnet's density key; None unknown
+    material: Grade | None = None  # the grade's figures (coercivity, temperature coefficients)
 
     @property
     def north_world(self) -> np.ndarray | None:
@@ -135,6 +138,7 @@ class Scene:
     params: dict  # name -> value (file units), after --set overrides
     path: str  # the scene file, "" when built in code
     digest: str  # sha256 of the scene file's bytes and the overrides
+    safety: SafetySettings = field(default_factory=SafetySettings)  # [safety] and [package]
 
     def magnet(self, name: str) -> Magnet:
         for m in self.magnets:

@@ -66,7 +66,7 @@ def _read_entry(ctx, entry, index, grades, base_dir, mesh_files, meshes) -> list
     else:
         dims, vertices, faces = _dims(ctx, entry, SHAPES[shape], where), None, None
     north, radial = _north(ctx, entry, shape, where)
-    remanence, grade_name, density = _material(ctx, entry, grades, where)
+    remanence, grade, density = _material(ctx, entry, grades, where)
     method = reading.word(entry, "method", where, ("auto", "exact", "dipoles"), default="auto")
     cell_size = reading.number(ctx, entry, "cell_size", where, default=None, length=True,
                                positive=True)
@@ -82,8 +82,8 @@ def _read_entry(ctx, entry, index, grades, base_dir, mesh_files, meshes) -> list
             name=name if "pattern" not in entry else f"{name}-{k}", shape=shape,
             dims=dims, position=frozen_array(place, (3,)), rotation=frozen_array(turn, (3, 3)),
             north=None if copy_north is None else frozen_array(copy_north, (3,)),
-            radial=copy_radial, remanence=remanence, grade=grade_name, mesh_vertices=vertices,
-            mesh_faces=faces, method=method, cell_size=cell_size,
+            radial=copy_radial, remanence=remanence, grade=None if grade is None else grade.name,
+            material=grade, mesh_vertices=vertices, mesh_faces=faces, method=method, cell_size=cell_size,
             origin=f"{ctx.shown}, [[magnet]] {index}", density=density))
     return parts
 
@@ -199,14 +199,14 @@ def _north(ctx, entry, shape, where):
 
 
 def _material(ctx, entry, grades, where):
-    """(remanence T, grade name or None, density kg/m^3 or None)."""
+    """(remanence T, Grade or None, density kg/m^3 or None)."""
     if "grade" in entry and "remanence" in entry:
         raise SceneError(f"{where}: both grade and remanence are given; keep one (remanence "
                          f"overrides what the grade would give, so it would be ambiguous).")
     density = reading.number(ctx, entry, "density", where, default=None, positive=True)
     if "grade" in entry:
         grade = find_grade(entry["grade"], grades, f"{where}, grade")
-        return grade.remanence, grade.name, density if density is not None else grade.density
+        return grade.remanence, grade, density if density is not None else grade.density
     if "remanence" not in entry:
         raise SceneError(f"{where}: neither grade nor remanence is given; add grade = \"N42\" "
                          f"or remanence = 1.3 (tesla).")

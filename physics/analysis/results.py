@@ -111,7 +111,8 @@ def check_json(scene) -> dict:
     dict
         Per part its name, shape, grade, volume_m3, mass_kg, moment_Am2, remanence_T,
         north_world and position (scene unit); total_moment_Am2, bounding_box, search_box,
-        probe, constraint, steel_plates, params, and null safety and shipping.
+        probe, constraint, steel_plates, params, and null safety and shipping (which
+        physics.analysis.run.Analysis.check_result fills from physics.analysis.safety).
     """
     parts = []
     moments = [_tidy(moment_world(m), 1e-12) for m in scene.magnets]

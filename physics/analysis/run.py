@@ -8,6 +8,12 @@ from functools import cached_property
 import numpy as np
 
 from trapscape.physics.analysis.holding import hold_analysis
+from trapscape.physics.analysis.safety import (
+    implant_surface,
+    safety_figures,
+    safety_json,
+    shipping_json,
+)
 from trapscape.physics.analysis.results import (
     check_json,
     hold_json,
@@ -107,6 +113,16 @@ class Analysis:
         return FieldModel.from_scene(self.scene)
 
     @cached_property
+    def safety(self):
+        """The safety, handling and shipping figures (physics.analysis.safety.SafetyFigures)."""
+        return safety_figures(self.scene)
+
+    @cached_property
+    def implant_surface(self):
+        """The implant shell on many rays, for views and exports (physics.safety.implant.Shell)."""
+        return implant_surface(self.safety)
+
+    @cached_property
     def point_probe(self):
         """The scene's probe as a point model on the field model (physics.probe.laws)."""
         return PointProbe(self.model, ProbeLaw.from_scene(self.scene))
@@ -188,9 +204,13 @@ class Analysis:
         Returns
         -------
         dict
-            physics.analysis.results.check_json, stamped and JSON-ready.
+            physics.analysis.results.check_json with its safety and shipping objects
+            (physics.analysis.safety), stamped and JSON-ready.
         """
-        return json_ready(stamp(self.scene, check_json(self.scene)))
+        payload = check_json(self.scene)
+        payload["safety"] = safety_json(self.scene, self.safety)
+        payload["shipping"] = shipping_json(self.scene, self.safety)
+        return json_ready(stamp(self.scene, payload))
 
     def traps_result(self, progress=None) -> dict:
         """The `traps` result (finds the traps if not done yet).

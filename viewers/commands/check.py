@@ -52,6 +52,7 @@ def run(args) -> int:
     if args.output:  # first, so the file is there even if the table's reader goes away
         write_json(args.output, result)
     print(format_table(analysis.scene, result))
+    print(format_safety(analysis.scene, result))
     return 0
 
 
@@ -108,6 +109,84 @@ def format_table(scene, summary) -> str:
         lines.append("mass ?: the part gives remanence without density; add density = 7500 "
                      "(kg/m^3) to its [[magnet]] to get its mass.")
     return "\n".join(lines)
+
+
+def format_safety(scene, summary) -> str:
+    """The safety, handling and shipping figures and the cautions, as lines for a person."""
+    unit, safety, shipping = scene.units, summary["safety"], summary["shipping"]
+    lines = ["", "safety (the magnets alone, off any steel plate; estimates from an idealised "
+                 "model):",
+             f"  implant shell, |B| = {safety['implant_limit_T'] * 1e3:g} mT (ICNIRP 2009): "
+             f"reaches {safety['implant_distance_from_surface']:.3g} {unit} from the nearest "
+             f"magnet, {safety['implant_radius']:.3g} {unit} from the centre "
+             f"{_triple(safety['implant_centre'])} {unit}"]
+    for level in safety["field_levels"]:
+        lines.append(f"  {level['limit_T'] * 1e3:g} mT ({level['label']}; {level['source'].split(' (')[0]}): "
+                     f"{level['distance_from_surface']:.3g} {unit} from the magnets")
+    forces = safety["part_forces"]
+    if len(forces) > 1:
+        lines.append("  force and torque on each part from the others, as assembled:")
+        rows = [["part", "|F| N", "F N", "torque N m"]]
+        # below a nanonewton is the quadrature's round-off of a force that cancels
+        rows += [[f["name"], _amount(f["force_magnitude_N"], 1e-9),
+                  _vector(f["force_N"], 1e-9), _vector(f["torque_N_m"], 1e-12)] for f in forces]
+        widths = [max(len(r[k]) for r in rows) for k in range(4)]
+        lines += ["    " + "  ".join(c.ljust(w) for c, w in zip(r, widths)).rstrip() for r in rows]
+        worst = max(forces, key=lambda f: f["force_magnitude_N"])
+        verdict = (f"above {safety['pinch_force_N']:g} N: parts released here snap and pinch "
+                   f"skin (common practice)" if safety["pinch_warning"]
+                   else f"below the {safety['pinch_force_N']:g} N pinch level (common practice)")
+        lines.append(f"  largest: {_amount(worst['force_magnitude_N'], 1e-9)} N on "
+                     f"'{worst['name']}', {verdict}")
+    lines.append(f"  demagnetisation (worst reverse field / HcJ; flagged above "
+                 f"{safety['demagnetization_margin']:g}, common practice):")
+    for d in safety["demagnetization"]:
+        if d["ratio"] is None:
+            lines.append(f"    {d['name']}: {d['note']}")
+        else:
+            flag = "  AT RISK" if d["at_risk"] else ""
+            lines.append(f"    {d['name']}: {d['ratio']:.2f} at {d['temperature_C']:g} °C "
+                         f"({d['reverse_H_at_temperature_A_per_m'] / 1e3:.0f} of "
+                         f"{d['coercivity_A_per_m'] / 1e3:.0f} kA/m){flag}")
+    over = [x for x in safety["flux_index"] if x["over_limit"]]
+    small = [x["name"] for x in safety["flux_index"] if x["small_part"]]
+    worst = max((x for x in safety["flux_index"] if x["index_kG2_mm2"] is not None),
+                key=lambda x: x["index_kG2_mm2"], default=None)
+    if worst is not None:
+        lines.append(f"  flux index (toy standards, limit {safety['flux_index_limit_kG2_mm2']:g} "
+                     f"kG^2 mm^2, from memory): largest {worst['index_kG2_mm2']:.3g} "
+                     f"('{worst['name']}'); {len(over)} of {len(safety['flux_index'])} part(s) "
+                     f"over the limit")
+    if small:
+        lines.append(f"  {len(small)} part(s) small enough to swallow (small-parts cylinder, "
+                     f"from memory)" + (": two or more loose magnets are the gravest case"
+                                         if len(small) > 1 else ""))
+    size = " x ".join(f"{v:.3g}" for v in shipping["package_size"])
+    lines += ["", f"shipping by air ({shipping['regulation']}; {shipping['regulation_note']}):",
+              f"  package {size} {unit}"
+              + ("" if shipping["package_given"] else f"; warning: {shipping['notes'][0]}"),
+              f"  H at 2.1 m: {shipping['H_at_2_1m_A_per_m']:.3g} A/m (limit "
+              f"{shipping['limit_at_2_1m_A_per_m']:g}), at 4.6 m: "
+              f"{shipping['H_at_4_6m_A_per_m']:.3g} A/m (limit "
+              f"{shipping['limit_at_4_6m_A_per_m']:g}): {CLASS_WORDS[shipping['class']]}"]
+    lines += [f"  {note}" for note in shipping["notes"] if shipping["package_given"]
+              or note != shipping["notes"][0]]
+    lines += ["", "cautions:"] + [f"  - {c}" for c in safety["cautions"]]
+    return "\n".join(lines)
+
+
+CLASS_WORDS = {"not-restricted": "not restricted as magnetised material",
+               "magnetized-material": "magnetised material (UN2807, class 9)",
+               "forbidden": "forbidden without approval"}
+
+
+def _amount(value, zero: float) -> str:
+    return f"{value:.3g}" if abs(value) > zero else "0"
+
+
+def _vector(values, zero: float = 0.0) -> str:
+    values = np.asarray(values, float)
+    return "[" + ", ".join(f"{v:+.3g}" if abs(v) > zero else "0" for v in values + 0.0) + "]"
 
 
 def _triple(values) -> str:

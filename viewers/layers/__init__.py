@@ -18,6 +18,7 @@ LAYERS = {  # drawing order
     "wells": "the capture regions of the stable traps",
     "hover": "where the force along parallel guide lines balances gravity and restores",
     "markers": "equilibria: sphere stable, diamond saddle, ring unstable, cube marginal",
+    "implant": "the implant shell: outside it |B| is below the implant limit (0.5 mT)",
 }
 BASE_DEFAULTS = ("magnets", "plates", "section", "guide", "wells", "markers")
 
