@@ -60,7 +60,7 @@ CASES = {  # name: (arguments with {placeholders}, words of the one sentence)
     "section nan": (["render", CHIP, "--section", "z=nan", "-o", "{out}.png"], "not a finite"),
     "iso nan": (["render", CHIP, "--iso", "nan", "-o", "{out}.png"], "positive finite"),
     "line of 1e8 points": (["field", CHIP, "--line", "0,0,0", "1,0,0", "100000000",
-                            "-o", "{out}.csv"], "2 to 4,000,000"),
+                            "-o", "{out}.csv"], "at most 4,000,000"),
     "section resolution 1e5": (["field", CHIP, "--section", "z=0", "--resolution", "100000",
                                 "-o", "{out}.csv"], "--resolution must be 2 to"),
     "render resolution 400": (["render", CHIP, "--resolution", "400", "-o", "{out}.png"],

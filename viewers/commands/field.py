@@ -134,7 +134,7 @@ def _section_points(scene, text, resolution):
 
 def _read_points(path):
     try:
-        if not Path(path).is_file():
+        if Path(path).exists() and not Path(path).is_file():
             raise SceneError(f"the points file {path} is not a regular file; give a CSV file.")
         if Path(path).stat().st_size > MAX_POINTS_FILE_BYTES:
             raise SceneError(f"the points file {path} is over {MAX_POINTS_FILE_BYTES >> 20} MB "
@@ -173,8 +173,8 @@ def _count(text):
     except ValueError:
         raise SceneError(f"--line: the point count {text!r} must be a whole number.") from None
     if not 2 <= count <= MAX_FIELD_POINTS:
-        raise SceneError(f"--line: the point count must be 2 to {MAX_FIELD_POINTS:,}; split a "
-                         "longer run into several lines.")
+        raise SceneError(f"--line: the point count must be at least 2 and at most "
+                         f"{MAX_FIELD_POINTS:,}; split a longer run into several lines.")
     return count
 
 
