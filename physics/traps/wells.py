@@ -319,12 +319,12 @@ def escape_figures(setting: EscapeSetting, eq, flood) -> Escape:
     bottom, top_energy = setting.energy_at(np.array([eq.position, pass_position]))
     exit_cell = grid.points[flood.exit_cell]
     exit_at, exit_position = None, exit_cell.copy()
-    if flood.exit_kind == "magnet":
+    if flood.exit_kind == escape.EXIT_NAMES[escape.EXIT_MAGNET]:
         step_top, step_position, exit_position, exit_at = last_step(setting, flood.exit_cell)
         if step_top > top_energy:
             top_energy, pass_position = step_top, step_position
             top_index = len(flood.path) - 1
-    elif flood.exit_kind == "box":
+    elif flood.exit_kind == escape.EXIT_NAMES[escape.EXIT_BOX]:  # the search box
         exit_at = box_face(setting.geometry, exit_cell)
     elif flood.exit_cell in setting.wells:
         exit_at, exit_position = "well", np.asarray(setting.wells[flood.exit_cell], float).copy()
