@@ -16,6 +16,7 @@ from typing import Callable
 import numpy as np
 from scipy.spatial import cKDTree
 
+from trapscape.physics.field.parts import part_sdf
 from trapscape.physics.traps import escape
 from trapscape.physics.traps.report import Escape, Well
 
@@ -224,8 +225,9 @@ def last_step(setting: EscapeSetting, cell: int) -> tuple:
     """The way from an exit cell onto the part next to it, solved to the contact.
 
     Each neighbour along the grid axes where the probe does not fit gives a segment; the contact
-    on it (clearance = d/2) is found by bisection, and the energy's largest value on the segment
-    up to it by 17 samples (the contact one included). The lowest such way is kept.
+    on it (the nearest part's signed distance = d/2) is found by the Illinois variant of regula
+    falsi, and the energy's largest value on the segment up to it by 17 samples (the contact one
+    included). The lowest such way is kept.
 
     Parameters
     ----------
@@ -243,33 +245,77 @@ def last_step(setting: EscapeSetting, cell: int) -> tuple:
         m, the probe's centre touching the part.
     part : str
         The part's name.
+
+    References
+    ----------
+    Dowell & Jarratt, BIT 11, 168 (1971) (the Illinois method).
     """
     grid, geometry = setting.grid, setting.geometry
     origin = grid.points[cell]
-    ends = []
-    for axis in grid.axes:
-        for step in (-1.0, 1.0):
-            end = origin + step * grid.spacing * axis
-            if geometry.clearance(end[None])[0] < geometry.radius and np.all(
-                    (end >= geometry.low - 1e-9 * grid.spacing)
-                    & (end <= geometry.high + 1e-9 * grid.spacing)):
-                ends.append(end)
-    if not ends:
+    ends = origin + grid.spacing * np.concatenate([grid.axes, -grid.axes])
+    slack = 1e-9 * grid.spacing
+    inside = np.all((ends >= geometry.low - slack) & (ends <= geometry.high + slack), axis=1)
+    ends = ends[inside]
+    surfaces = _surface_distances(geometry)
+    distance = surfaces(np.concatenate([origin[None], ends]))
+    nearest = np.argmin(distance[1:], axis=1)
+    blocked = distance[1:][np.arange(len(ends)), nearest] < geometry.radius
+    if not blocked.any():
         return float(setting.energy_at(origin[None])[0]), origin, origin, ""
-    ends = np.array(ends)
-    low, high = np.zeros(len(ends)), np.ones(len(ends))
-    for _ in range(48):  # bisection on t in [0, 1]: clearance(origin + t (end - origin)) = d/2
-        middle = 0.5 * (low + high)
-        fits = geometry.clearance(origin + middle[:, None] * (ends - origin)) >= geometry.radius
-        low, high = np.where(fits, middle, low), np.where(fits, high, middle)
-    contacts = origin + low[:, None] * (ends - origin)
+    ends, nearest = ends[blocked], nearest[blocked]
+    rows = np.arange(len(ends))
+
+    def gap(t):  # the nearest part's distance minus d/2 along each segment
+        points = origin + t[:, None] * (ends - origin)
+        result = np.empty(len(t))
+        for j in np.unique(nearest):
+            chosen = nearest == j
+            result[chosen] = _distance_to(geometry, int(j), points[chosen])
+        return result - geometry.radius
+
+    a, b = np.zeros(len(ends)), np.ones(len(ends))
+    fa, fb = distance[0, nearest] - geometry.radius, gap(b)
+    last = np.zeros(len(ends))  # +1: b was replaced last, -1: a was
+    t = b.copy()
+    for _ in range(40):
+        t = b - fb * (b - a) / (fb - fa)
+        ft = gap(t)
+        inside = ft < 0.0
+        fa = np.where(inside & (last > 0), 0.5 * fa, fa)  # Illinois: halve the stale end's value
+        fb = np.where(~inside & (last < 0), 0.5 * fb, fb)
+        a, fa = np.where(inside, a, t), np.where(inside, fa, ft)
+        b, fb = np.where(inside, t, b), np.where(inside, ft, fb)
+        last = np.where(inside, 1.0, -1.0)
+        if np.all(np.abs(ft) < 1e-12 * grid.spacing):
+            break
+    contacts = origin + t[:, None] * (ends - origin)
     t = np.linspace(0.0, 1.0, 17)
     samples = origin + t[None, :, None] * (contacts - origin)[:, None, :]
     U = setting.energy_at(samples.reshape(-1, 3)).reshape(len(ends), len(t))
     best = int(np.argmin(U.max(axis=1)))
     top = int(np.argmax(U[best]))
     return (float(U[best, top]), samples[best, top], contacts[best],
-            geometry.surface_name(contacts[best][None])[0])
+            geometry.names[int(nearest[best])])
+
+
+def _surface_distances(geometry):
+    """A function of points (M, 3) m giving the signed distance to each magnet, then each
+    plate, (M, n) m (ProbeGeometry's parts, in the order of its names)."""
+    model = geometry.field_model
+
+    def distances(points):
+        return np.concatenate([model.part_distances(points), model.plate_distances(points)],
+                              axis=1)
+    return distances
+
+
+def _distance_to(geometry, index: int, points) -> np.ndarray:
+    """Signed distance from points (M, 3) to one magnet or plate (by its index in
+    geometry.names), m, shape (M,)."""
+    model = geometry.field_model
+    if index < len(model.magnets):
+        return part_sdf(model.magnets[index], points)
+    return model.plate_distances(points)[:, index - len(model.magnets)]
 
 
 def box_face(geometry, point) -> str:
