@@ -194,12 +194,19 @@ def equilibrium_json(eq, scene) -> dict:
         "escape_energy_J": escape.energy_J if escape else None,
         "escape_force_N": escape.force_N if escape else None,
         "escape_exit": escape.exit if escape else None,
+        "escape_exit_at": escape.exit_at if escape else None,
+        "escape_exit_position": (None if not (escape and escape.exit_position is not None)
+                                 else _length(scene, escape.exit_position)),
         "well_interval": (None if not (eq.well and eq.well.interval_m)
                           else _length(scene, eq.well.interval_m)),
         "contact": None if eq.contact is None else {
             "surface": eq.contact.surface, "normal_force_N": eq.contact.normal_force_N},
         "family_size": eq.family_size,
         "finite_probe_correction": eq.finite_probe_correction,
+        "finite_probe_rule": None if eq.rule_check is None else {
+            "rule": eq.rule_check.rule, "check_rule": eq.rule_check.check_rule,
+            "energy_error_estimate_J": eq.rule_check.energy_difference_J,
+            "stiffness_error_estimate_N_per_m": list(eq.rule_check.stiffness_difference_N_per_m)},
         "note": eq.note or None,
     }
 

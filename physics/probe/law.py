@@ -209,6 +209,24 @@ class ProbeLaw(ABC):
         return False
 
     @property
+    def caught_at_contact(self) -> bool:
+        """Whether a magnet or plate the probe touches holds it (it is attracted there).
+
+        True here: the energy of an induced or permanent moment falls with the field, so a probe
+        that reaches a part is pulled onto it, and touching it ends an escape. A diamagnet
+        overrides it: it is pushed back, and a part is a wall for it.
+
+        Returns
+        -------
+        bool
+
+        References
+        ----------
+        DESIGN.md, Physics definitions (the energies of the probe kinds).
+        """
+        return True
+
+    @property
     def earnshaw_label(self) -> str:
         """The kind's word in the sentence saying why nothing is fully stable free."""
         return self.kind

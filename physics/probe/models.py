@@ -121,6 +121,58 @@ class ProbeModel:
         """
         return self.energy_and_force(points)[1]
 
+    def energy_without_force(self, points) -> np.ndarray:
+        """Total energy, gravity included, where the force is not wanted (a model may save the
+        field's gradient).
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            Probe centres, m.
+
+        Returns
+        -------
+        numpy.ndarray, shape (N,)
+            J.
+        """
+        return self.energy(points)
+
+    def rule_groups(self, points) -> list:
+        """The points grouped by the quadrature rule a model chooses near them, with the model
+        whose rule is fixed for each group (solve with one rule per group: no jump between
+        rules inside Newton's method). Here: one group, this model.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            m.
+
+        Returns
+        -------
+        list of (ProbeModel, numpy.ndarray of int)
+        """
+        return [(self, np.arange(len(np.asarray(points, float).reshape(-1, 3))))]
+
+    def coarser(self):
+        """The same model with a coarser rule, to estimate the rule's error from two rules.
+
+        Returns
+        -------
+        ProbeModel or None
+            None here: no rule (the point model is a point).
+        """
+        return None
+
+    def scan_model(self):
+        """The model a coarse scan of the energy uses (a cheaper rule where the model has one).
+
+        Returns
+        -------
+        ProbeModel
+            This one here.
+        """
+        return self
+
     def hessian_steps(self, points) -> np.ndarray:
         """Finite-difference steps: 1e-4 of min(d, clearance) (clearance held above 1e-6 d).
 

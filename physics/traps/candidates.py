@@ -40,6 +40,21 @@ def sign_change_cells(grid) -> np.ndarray:
     ndarray, shape (M, 3)
         m.
     """
+    cells = np.argwhere(sign_change_mask(grid))
+    return grid.origin + (grid.spacing * (cells + 0.5)) @ grid.axes
+
+
+def sign_change_mask(grid) -> np.ndarray:
+    """Which cells have every projected force component change sign (see sign_change_cells).
+
+    Parameters
+    ----------
+    grid : ScanGrid
+
+    Returns
+    -------
+    ndarray of bool, shape of the cells (one fewer than grid.shape along every axis)
+    """
     shape, k = grid.shape, len(grid.shape)
     ok = grid.admissible.reshape(shape)
     components = (grid.force_N @ grid.axes.T).reshape(shape + (k,))
@@ -47,9 +62,7 @@ def sign_change_cells(grid) -> np.ndarray:
     all_ok = np.logical_and.reduce([ok[s] for s in slices])
     low = np.minimum.reduce([components[s] for s in slices])
     high = np.maximum.reduce([components[s] for s in slices])
-    change = all_ok & np.all((low <= 0.0) & (high >= 0.0), axis=-1)
-    cells = np.argwhere(change)
-    return grid.origin + (grid.spacing * (cells + 0.5)) @ grid.axes
+    return all_ok & np.all((low <= 0.0) & (high >= 0.0), axis=-1)
 
 
 def local_minima(values, mask, shape) -> np.ndarray:

@@ -1,5 +1,7 @@
 """The probe's finite size: which finite model fits the probe, how much it changes the energy at
-the point model's equilibria, and the equilibria re-solved with it (physics.probe.finite)."""
+the point model's equilibria, and the equilibria re-solved with it (physics.probe.finite): the
+point model's, and those a finite-model scan near the magnets seeds (physics.traps.finite_scan),
+each with its rule fixed where it starts and checked against a coarser rule."""
 from __future__ import annotations
 
 from dataclasses import replace
@@ -8,10 +10,13 @@ import numpy as np
 
 from trapscape.physics.traps.classify import LocalHessian, Sample, make_equilibrium
 from trapscape.physics.traps.contact import contact_state, surface_newton
-from trapscape.physics.traps.families import drop_repeats, is_field_zero
+from trapscape.physics.traps.families import drop_repeats, is_field_zero, unique_points
+from trapscape.physics.traps.finite_scan import finite_scan
 from trapscape.physics.traps.notes import RIGID_MAGNET_NOTE, finite_probe_note
 from trapscape.physics.traps.refine import newton
-from trapscape.physics.traps.report import Contact, FiniteProbe
+from trapscape.physics.traps.report import Contact, FiniteProbe, RuleCheck
+
+SEED_ITERATIONS = 12  # Newton's iterations from a scan's seed (a cell from the equilibrium)
 
 
 def finite_probe_model(field_model, law, equilibria=()):
@@ -58,7 +63,7 @@ def finite_correction(problem, finite, equilibria, grid) -> np.ndarray:
     point_model = problem.point_model
     points = np.array([e.position for e in equilibria])
     U_point = point_model.magnetic_energy_and_force(points)[0]
-    U_finite = finite.magnetic_energy_and_force(points)[0]
+    U_finite = finite.scan_model().magnetic_energy_and_force(points)[0]
     on_grid = point_model.law.magnetic_energy(grid.B_T[grid.admissible])
     reference = float(np.median(np.abs(on_grid))) if len(on_grid) else 0.0
     scale = np.maximum(np.abs(U_point), reference)
@@ -154,22 +159,155 @@ def resolve_free(problem, finite, equilibria, starts, notes=None) -> list:
     if not equilibria:
         return []
     basis = problem.basis
-    x, ok = newton(finite, problem, np.asarray(starts, float).reshape(-1, 3))
-    U, F = finite.energy_and_force(x[ok])
-    K = finite.hessian(x[ok], basis)
-    B = finite.applied_field(x[ok])[0]
-    result, j = [], 0
+    starts = np.asarray(starts, float).reshape(-1, 3)
+    x, ok = np.zeros_like(starts), np.zeros(len(starts), bool)
+    U, F, B = np.zeros(len(starts)), np.zeros((len(starts), 3)), np.zeros((len(starts), 3))
+    K = np.zeros((len(starts), len(basis), len(basis)))
+    for model, idx in finite.rule_groups(starts):  # one rule per run of Newton's method
+        x[idx], ok[idx], U[idx], F[idx], K[idx], B[idx] = _solved(problem, model, starts[idx])
+    result = []
     for i, eq in enumerate(equilibria):
         if not ok[i]:
             result.append(replace(eq, note=(eq.note + "; " if eq.note else "") +
                                   "the finite-size refinement did not converge: point model"))
             continue
         note = notes[i] if notes is not None else eq.note
-        new = make_equilibrium(problem, Sample(x[i], U[j], F[j], B[j]),
-                               LocalHessian(basis, K[j]), note=note)
+        new = make_equilibrium(problem, Sample(x[i], U[i], F[i], B[i]),
+                               LocalHessian(basis, K[i]), note=note)
         result.append(_shifted(new, eq))
-        j += 1
     return result
+
+
+def _solved(problem, model, starts) -> tuple:
+    """Newton's method with one model from each start; the model's U, F, K and B there.
+
+    A model with a finer rule than its scan rule is first solved with the scan rule (cheap) and
+    polished with its own from there: a few of its costly iterations instead of up to 40."""
+    starts = np.asarray(starts, float).reshape(-1, 3)
+    scan_model = model.scan_model()
+    if scan_model is not model:
+        rough, first = newton(scan_model, problem, starts)
+        starts = np.where(first[:, None], rough, starts)
+    x, ok = newton(model, problem, starts)
+    return _state(problem, model, x, ok)
+
+
+def _state(problem, model, x, ok) -> tuple:
+    """x, ok and the model's U, F, K, B at the converged points (zeros elsewhere)."""
+    n, k = len(x), len(problem.basis)
+    U, F, B, K = np.zeros(n), np.zeros((n, 3)), np.zeros((n, 3)), np.zeros((n, k, k))
+    if ok.any():
+        U[ok], F[ok] = model.energy_and_force(x[ok])
+        K[ok] = model.hessian(x[ok], problem.basis)
+        B[ok] = model.applied_field(x[ok])[0]
+    return x, ok, U, F, K, B
+
+
+def seeded_equilibria(problem, finite, scanned, known) -> list:
+    """Equilibria of the finite model from the sign-change cells of its scan near the magnets.
+
+    Cells within two grid steps of a known equilibrium are skipped (Newton would find it again).
+
+    Parameters
+    ----------
+    problem : TrapProblem
+    finite : ProbeModel
+    scanned : physics.traps.finite_scan.FiniteGrid
+    known : list of Equilibrium
+        Already re-solved with the finite model.
+
+    Returns
+    -------
+    list of Equilibrium
+        Converged and balanced ones only, each noted as found by the finite-size scan.
+    """
+    seeds = _away_from(scanned.seeds(), known, 2.0 * problem.spacing)
+    if len(seeds) == 0:
+        return []
+    x, ok = newton(finite.scan_model(), replace(problem, tolerances=replace(
+        problem.tolerances, newton_iterations=SEED_ITERATIONS)), seeds)
+    seeds = _away_from(unique_points(x[ok], 0.1 * problem.spacing), known, 0.5 * problem.spacing)
+    found, basis = [], problem.basis
+    for model, idx in finite.rule_groups(seeds):
+        x, ok, U, F, K, B = _solved(problem, model, seeds[idx])
+        for i in np.flatnonzero(ok):
+            g = np.linalg.norm(F[i] @ basis.T)
+            top = np.max(np.abs(np.linalg.eigvalsh(K[i])))
+            if g > 1e-4 * top * problem.spacing + 1e-30:
+                continue  # stalled on a slope, as in refine.free_equilibria
+            found.append(make_equilibrium(
+                problem, Sample(x[i], U[i], F[i], B[i]), LocalHessian(basis, K[i]),
+                note="found by the finite-size scan (no point-model counterpart)"))
+    return found
+
+
+def _away_from(points, equilibria, distance) -> np.ndarray:
+    """The points farther than distance (m) from every equilibrium's position."""
+    if len(equilibria) == 0 or len(points) == 0:
+        return points
+    taken = np.array([e.position for e in equilibria])
+    near = np.min(np.linalg.norm(points[:, None] - taken[None], axis=2), axis=1)
+    return points[near > distance]
+
+
+def rule_checks(finite, equilibria) -> list:
+    """Each equilibrium with its RuleCheck: energy and stiffnesses by the rule it was solved
+    with and by a coarser one (batched by rule).
+
+    Parameters
+    ----------
+    finite : ProbeModel
+    equilibria : list of Equilibrium
+
+    Returns
+    -------
+    list of Equilibrium
+        rule_check set where the finite model has a rule and the stiffnesses are defined.
+    """
+    result = list(equilibria)
+    groups = {}
+    for i, eq in enumerate(equilibria):
+        model = solving_model(finite, eq)
+        defined = eq.stiffness_N_per_m is not None and None not in eq.stiffness_N_per_m
+        if model.coarser() is not None and defined and len(eq.directions):
+            groups.setdefault((id(model), eq.contact is None, len(eq.directions)),
+                              (model, []))[1].append(i)
+    for (_, free, _), (model, members) in groups.items():
+        coarse = model.coarser()
+        x = np.array([equilibria[i].position for i in members])
+        D = np.array([equilibria[i].directions for i in members], float)
+        k_coarse = np.diagonal(coarse.hessian(x, D), axis1=1, axis2=2)
+        if free:  # along its eigenvectors, the model's Hessian gives its stiffnesses
+            k_fine = np.array([equilibria[i].stiffness_N_per_m for i in members], float)
+        else:  # along the surface: compare like with like
+            k_fine = np.diagonal(model.hessian(x, D), axis1=1, axis2=2)
+        dU = np.abs(model.energy_without_force(x) - coarse.energy_without_force(x))
+        for j, i in enumerate(members):
+            result[i] = replace(equilibria[i], rule_check=RuleCheck(
+                rule=model.description, check_rule=coarse.description,
+                energy_difference_J=float(dU[j]),
+                stiffness_difference_N_per_m=tuple(float(v) for v in
+                                                   np.abs(k_fine[j] - k_coarse[j]))))
+    return result
+
+
+def solving_model(finite, eq):
+    """The model with a fixed rule that an equilibrium is solved with: the one its clearance
+    chooses for a free one; the scan rule for a contact (a face's field is smooth where the
+    probe touches it, and the clearance alone would choose the finest rule at every contact).
+
+    Parameters
+    ----------
+    finite : ProbeModel
+    eq : Equilibrium
+
+    Returns
+    -------
+    ProbeModel
+    """
+    if eq.contact is not None:
+        return finite.scan_model()
+    return finite.rule_groups(eq.position[None])[0][0]
 
 
 def resolve_contacts(problem, finite, equilibria) -> tuple:
@@ -194,6 +332,7 @@ def resolve_contacts(problem, finite, equilibria) -> tuple:
     if not equilibria:
         return [], [], []
     geometry, basis = problem.geometry, problem.basis
+    finite = finite.scan_model()  # solving_model: the scan rule at a contact
     x = np.array([e.position for e in equilibria])
     x = surface_newton(finite, geometry, x, basis)  # on a line: fixed by the geometry
     normals, pressed, tangents, K_t, F = contact_state(finite, geometry, x, basis)
@@ -220,7 +359,8 @@ def with_finite_size(problem, grid, equilibria) -> tuple:
     """The point model's equilibria with their finite-size corrections.
 
     They are re-solved with the finite model when the largest correction exceeds the threshold
-    (or problem.finite_probe forces it).
+    (or problem.finite_probe forces it), joined by those the finite-model scan seeds, and each
+    gets its rule's check.
 
     Parameters
     ----------
@@ -235,6 +375,9 @@ def with_finite_size(problem, grid, equilibria) -> tuple:
     final_model : ProbeModel
         The model the returned equilibria were solved with.
     summary : FiniteProbe
+    flood_grid : ScanGrid
+        The energies the escape flood runs on: the finite scan's near the magnets when the
+        finite model was used, else the point model's grid.
     """
     finite = finite_probe_model(problem.field_model, problem.law, equilibria)
     corrections = finite_correction(problem, finite, equilibria, grid)
@@ -242,10 +385,17 @@ def with_finite_size(problem, grid, equilibria) -> tuple:
     threshold = problem.tolerances.finite_probe_threshold
     forced = problem.finite_probe
     use_finite = (largest > threshold) if forced is None else bool(forced)
-    use_finite = use_finite and finite is not None and bool(equilibria)
+    use_finite = use_finite and finite is not None
     equilibria = [replace(e, finite_probe_correction=float(c))
                   for e, c in zip(equilibria, corrections)]
+    flood_grid = grid
     if use_finite:
+        scanned = finite_scan(problem, grid, finite)
         equilibria = resolve_finite(problem, finite, equilibria)
+        seeded = seeded_equilibria(problem, finite, scanned, equilibria)
+        equilibria = rule_checks(finite, drop_repeats(equilibria + seeded,
+                                                      1e-2 * problem.spacing))
+        flood_grid = scanned.grid
     final_model = finite if use_finite else problem.point_model
-    return equilibria, final_model, finite_summary(problem, finite, use_finite, largest)
+    return (equilibria, final_model, finite_summary(problem, finite, use_finite, largest),
+            flood_grid)

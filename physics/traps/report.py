@@ -44,6 +44,11 @@ class Escape:
         Where the barrier is, m (the refined saddle when one is there).
     path : ndarray, shape (P, 3)
         Grid points from the well to the exit, m.
+    exit_at : str or None
+        Where the way out ends: a box face ("box face +x"), the part the probe lands on, or the
+        well (or lower ground) it falls into over the pass; None when closed in.
+    exit_position : ndarray, shape (3,) or None
+        m: the point on the box face, the contact with the part, or the other well's bottom.
     """
 
     energy_J: float
@@ -51,6 +56,31 @@ class Escape:
     exit: str | None
     pass_position: np.ndarray
     path: np.ndarray
+    exit_at: str | None = None
+    exit_position: np.ndarray | None = None
+
+
+@dataclass(frozen=True, eq=False)
+class RuleCheck:
+    """The finite-size model's quadrature rule at an equilibrium and its error estimate.
+
+    Attributes
+    ----------
+    rule : str
+        The rule the equilibrium was solved with (chosen from its clearance).
+    check_rule : str
+        A coarser rule of the same model.
+    energy_difference_J : float
+        |U(rule) - U(check_rule)| there, J: an estimate (from above, for a converging rule) of
+        the rule's truncation error.
+    stiffness_difference_N_per_m : tuple of float
+        |k(rule) - k(check_rule)| along each of the equilibrium's directions, N/m.
+    """
+
+    rule: str
+    check_rule: str
+    energy_difference_J: float
+    stiffness_difference_N_per_m: tuple
 
 
 @dataclass(frozen=True, eq=False)
@@ -107,6 +137,8 @@ class Equilibrium:
     finite_probe_shift_m : float or None
         How far the finite size moved the point, m.
     note : str
+    rule_check : RuleCheck or None
+        The finite-size model's rule there and its error estimate (None: point model).
     """
 
     position: np.ndarray
@@ -127,6 +159,7 @@ class Equilibrium:
     finite_probe_correction: float | None = None
     finite_probe_shift_m: float | None = None
     note: str = ""
+    rule_check: RuleCheck | None = None
 
 
 @dataclass(frozen=True, eq=False)

@@ -73,8 +73,10 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
     limit = problem.tolerances.max_contact_starts
     notes = (contact_limit_note(limit),) if starts_were_capped(problem, grid) else ()
     equilibria = merge_families(equilibria, problem.spacing)
-    equilibria, final_model, finite_summary = with_finite_size(problem, grid, equilibria)
-    equilibria = _sorted(problem, with_escapes(problem, grid, equilibria, final_model))
+    equilibria, final_model, finite_summary, flood_grid = with_finite_size(problem, grid,
+                                                                           equilibria)
+    equilibria = _sorted(problem, with_escapes(problem, grid, equilibria, final_model,
+                                               flood_grid))
     return TrapReport(
         probe_kind=problem.law.kind, constraint_kind=problem.constraint_kind,
         free_directions=problem.free_directions, equilibria=tuple(equilibria), grid=grid,

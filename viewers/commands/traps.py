@@ -81,5 +81,15 @@ def format_table(report, scene) -> str:
         lines.append("    (none found in the search box)")
     if report.earnshaw_note:
         lines += ["", report.earnshaw_note]
+    exits = [f"  #{i} leaves over {_number(eq.escape.energy_J)} J to {eq.escape.exit_at}"
+             for i, eq in enumerate(report.equilibria, 1)
+             if eq.escape is not None and eq.escape.exit_at]
+    if exits:
+        lines += ["", "Ways out (box face, part, or over a pass to another well):", *exits]
+    checks = [f"  #{i} stiffness to within {_numbers(eq.rule_check.stiffness_difference_N_per_m)}"
+              f" N/m, energy to {_number(eq.rule_check.energy_difference_J)} J"
+              for i, eq in enumerate(report.equilibria, 1) if eq.rule_check is not None]
+    if checks:
+        lines += ["", "Finite-size rule error (the rule against a coarser one):", *checks]
     lines += ["", report.finite_probe.note, *report.notes, "", report.caution]
     return "\n".join(lines)

@@ -170,7 +170,8 @@ class SoftLaw(InducedLaw):
         if self.saturation is None or positions is None or len(positions) == 0:
             return exact
         centres = np.asarray(positions, float).reshape(-1, 3)
-        samples = (centres[:, None, :] + exact.radius * exact.directions[None]).reshape(-1, 3)
+        directions = exact.scan_model().directions
+        samples = (centres[:, None, :] + exact.radius * directions[None]).reshape(-1, 3)
         if np.max(np.linalg.norm(field_model.applied_H(samples), axis=1)) > self.saturation_H:
             return AveragedProbe(field_model, self)
         return exact

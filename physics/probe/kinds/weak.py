@@ -64,6 +64,12 @@ class WeakLaw(InducedLaw):
         every direction (Berry & Geim 1997); false for a paramagnet (Earnshaw-Braunbek)."""
         return self.diamagnetic
 
+    @property
+    def caught_at_contact(self) -> bool:
+        """False for a diamagnet: U = V |chi_eff| B^2 / (2 mu0) rises towards a part, which
+        pushes it back (Berry & Geim 1997); a paramagnet is pulled on like steel."""
+        return not self.diamagnetic
+
     def levitation_threshold(self) -> float:
         """|d(B^2/2)/dz| = mu0 rho |g| / |chi_eff| a diamagnet needs to float, T^2/m.
 
