@@ -191,10 +191,9 @@ class Analysis:
         FieldValues
         """
         points = np.asarray(points_m, dtype=np.float64).reshape(-1, 3)
-        H, B = self.model.H_and_B(points, progress=progress)
+        H, B, owner = self.model.H_B_and_owner(points, progress=progress)
         return FieldValues(B=without_rounding_noise(B), H=without_rounding_noise(H),
-                           in_model=self.model.in_model(points),
-                           inside_magnet=self.model.inside_magnet(points))
+                           in_model=self.model.in_model(points), inside_magnet=owner)
 
     # -- the JSON results (stamped and JSON-ready; see physics.analysis.results) -------------
 

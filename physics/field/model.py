@@ -189,8 +189,9 @@ class FieldModel:
         where, owner = evaluation_points(self.magnets, points)
         return self._magnetization_at(where, owner)
 
-    def H_and_B(self, points, progress=None):
-        """H and B = mu0 (H + M) at world points, a point on a face taken on its outer side.
+    def H_B_and_owner(self, points, progress=None):
+        """H, B = mu0 (H + M) and the holding magnet at world points, from one decision (a point
+        on a face taken on its outer side).
 
         Parameters
         ----------
@@ -205,6 +206,8 @@ class FieldModel:
             A/m.
         B : numpy.ndarray, shape (N, 3)
             T; inside a magnet B includes its magnetisation.
+        owner : numpy.ndarray of int, shape (N,)
+            The magnet holding each point (inside_magnet), -1 in air and on a face.
 
         References
         ----------
@@ -212,7 +215,7 @@ class FieldModel:
         """
         where, owner = evaluation_points(self.magnets, points)
         H = self.applied_H(where, progress=progress)
-        return H, MU0 * (H + self._magnetization_at(where, owner))
+        return H, MU0 * (H + self._magnetization_at(where, owner)), owner
 
     def B(self, points, progress=None):
         """B = mu0 (H + M) at world points: inside a magnet B includes its magnetisation.
@@ -229,7 +232,7 @@ class FieldModel:
         numpy.ndarray, shape (N, 3)
             T; on a face, the outer side's value.
         """
-        return self.H_and_B(points, progress=progress)[1]
+        return self.H_B_and_owner(points, progress=progress)[1]
 
     def B_and_gradient(self, points, progress=None):
         """B and dB_i/dx_j at world points (a point on a face taken on its outer side).
