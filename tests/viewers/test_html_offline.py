@@ -40,7 +40,7 @@ def scene_of(page: str) -> dict:
     with zipfile.ZipFile(io.BytesIO(base64.b64decode(data))) as package:
         text = package.read("index.json").decode()
     addresses = {}  # 64-bit pointers written as 16 hex digits, in ids, parents and references
-    text = re.sub(r"\b(?=[0-9]*[a-f])0000[0-9a-f]{12}\b",
+    text = re.sub(r'(?<=["{])0000[0-9a-f]{12}(?=[-"}])',  # in strings only, digits-only too
                   lambda m: f"{addresses.setdefault(m.group(0), len(addresses)):016x}", text)
     return json.loads(text)
 
