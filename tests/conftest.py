@@ -1,2 +1,9 @@
 """tests/ itself is on sys.path (pytest puts a conftest's folder there), so the shared helpers
 (scene_factory, forces_factory, golden_outputs, repo_paths) import by name from any test folder."""
+
+import os
+
+# No numpy warning may reach a user: every RuntimeWarning (overflow, division by zero, invalid
+# value) fails the test that raised it, here (pyproject's filterwarnings) and in every command
+# a test starts as a subprocess.
+os.environ["PYTHONWARNINGS"] = "error::RuntimeWarning"

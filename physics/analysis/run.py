@@ -2,12 +2,13 @@
 values, each computed on first use and kept, so a command, a view and a report share them."""
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import cached_property
 
 import numpy as np
 
 from trapscape.physics.analysis.holding import hold_analysis
+from trapscape.physics.analysis.scale_checks import small_magnet_notes, with_plane_limits
 from trapscape.physics.analysis.safety import (
     implant_surface,
     safety_figures,
@@ -141,9 +142,12 @@ class Analysis:
         """
         if self._traps is None:
             try:
-                self._traps = find_traps(self.model, self.scene, progress=progress)
+                report = find_traps(self.model, self.scene, progress=progress)
             except SearchSetupError as error:
                 raise SceneError(str(error)) from None
+            report = with_plane_limits(self.model, self.point_probe.law, report)
+            notes = small_magnet_notes(self.scene, self.model)
+            self._traps = replace(report, notes=tuple(report.notes) + tuple(notes))
         return self._traps
 
     def hold(self, gaps_m, part=None, plate=None, friction=None, progress=None):

@@ -17,13 +17,18 @@ import math
 from dataclasses import dataclass, replace
 
 import numpy as np
-from scipy import ndimage
+from scipy import ndimage, signal
 
 from trapscape.physics.traps.candidates import corner_slices, sign_change_mask
 from trapscape.physics.traps.scan import grid_force
 from trapscape.scene.units import MU0
 
 SEED_BAND = 1.0  # the band: cells whose gap to a magnet (clearance - d/2) is below this many d
+# The padded grid of the ball average at most (points): a probe many grid steps wide pads the grid
+# by its radius on every side; past this the band is scanned with the finite model at its cells,
+# as on a line or a plane (about 200 MB of work arrays).
+MAX_PADDED_POINTS = 3_000_000
+DIRECT_KERNEL_CELLS = 17**3  # larger ball kernels convolve by FFT
 
 
 @dataclass(frozen=True, eq=False)
@@ -91,7 +96,7 @@ def finite_scan(problem, grid, finite) -> FiniteGrid:
         band[cells[gap < SEED_BAND * d]] = True
     U = grid.energy_J.copy()
     if band.any():
-        if grid.kind == "free":
+        if grid.kind == "free" and _padded_size(problem, grid) <= MAX_PADDED_POINTS:
             U[band] = _ball_average(problem, grid, band)
         else:
             U[band] = finite.scan_model().energy_without_force(grid.points[band])
@@ -119,8 +124,17 @@ def ball_kernel(radius_cells: float) -> np.ndarray:
     return kernel / kernel.sum()
 
 
+def _padded_size(problem, grid) -> int:
+    """Points of the grid padded by the probe's radius on every side."""
+    p = math.floor(problem.law.diameter / 2 / grid.spacing)
+    return int(np.prod([s + 2 * p for s in grid.shape]))
+
+
 def _ball_average(problem, grid, band) -> np.ndarray:
-    """The probe's energy at the band's cells by the grid's ball average, J."""
+    """The probe's energy at the band's cells by the grid's ball average, J.
+
+    A probe many steps wide has a kernel of (2 p + 1)^3 cells, too many for a direct sum over each
+    cell: past DIRECT_KERNEL_CELLS both convolutions go by FFT."""
     law, model = problem.law, problem.field_model
     kernel = ball_kernel(law.diameter / 2 / grid.spacing)
     p = kernel.shape[0] // 2
@@ -130,13 +144,27 @@ def _ball_average(problem, grid, band) -> np.ndarray:
     padded_band = np.zeros(shape, bool)
     padded_band[p:p + grid.shape[0], p:p + grid.shape[1], p:p + grid.shape[2]] = \
         band.reshape(grid.shape)
-    needed = ndimage.binary_dilation(padded_band, structure=kernel > 0).reshape(-1)
+    needed = _dilated(padded_band, kernel).reshape(-1)
     chosen = np.flatnonzero(needed)
     outside = model.clearance(points[chosen]) >= 0.0  # in no magnet, in front of every plate
     density = np.zeros(len(points))
     sampled = chosen[outside]
     density[sampled] = law.magnetic_energy(MU0 * model.applied_H(points[sampled])) / law.volume
-    average = ndimage.correlate(density.reshape(shape), kernel, mode="constant", cval=0.0)
+    average = _ball_mean(density.reshape(shape), kernel)
     inner = average[p:p + grid.shape[0], p:p + grid.shape[1], p:p + grid.shape[2]].reshape(-1)
     centres = grid.points[band]
     return law.volume * inner[band] + law.gravity_energy(centres)
+
+
+def _dilated(mask, kernel) -> np.ndarray:
+    """Cells within the kernel's ball of a masked cell."""
+    if kernel.size <= DIRECT_KERNEL_CELLS:
+        return ndimage.binary_dilation(mask, structure=kernel > 0)
+    return signal.fftconvolve(mask.astype(float), (kernel > 0).astype(float), mode="same") > 0.5
+
+
+def _ball_mean(values, kernel) -> np.ndarray:
+    """The kernel's weighted mean around each cell (zero outside the array; kernel symmetric)."""
+    if kernel.size <= DIRECT_KERNEL_CELLS:
+        return ndimage.correlate(values, kernel, mode="constant", cval=0.0)
+    return signal.fftconvolve(values, kernel, mode="same")
