@@ -67,7 +67,17 @@ def plane_limit_force(field_model, contact_point, normal, near) -> np.ndarray:
 
 
 def magnet_sizes(field_model) -> np.ndarray:
-    """Each magnet's largest dimension (its sources' largest), m."""
+    """Each magnet's size: the largest of its sources' (their bounding diagonals).
+
+    Parameters
+    ----------
+    field_model : FieldModel
+
+    Returns
+    -------
+    ndarray, shape (number of magnets,)
+        m.
+    """
     sizes = np.zeros(len(field_model.magnets))
     for s in field_model.sources:
         if not s.is_image:

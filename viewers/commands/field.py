@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import argparse
 import csv
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -85,10 +86,15 @@ def run(args) -> int:
 
 def _sample_points(scene, args):
     points, layout = _requested_points(scene, args)
-    if np.abs(points).max() > LARGEST_LENGTH:
+    _within_reach(scene, points / scene.unit_scale)
+    return points, layout
+
+
+def _within_reach(scene, file_units):
+    """Checked before any arithmetic on them (a length of 1e300 squared overflows)."""
+    if np.abs(file_units).max() * scene.unit_scale > LARGEST_LENGTH:
         raise SceneError(f"field: a point lies more than a kilometre from the origin; check the "
                          f"coordinates (in {scene.units}, the scene's unit).")
-    return points, layout
 
 
 def _requested_points(scene, args):
@@ -97,6 +103,7 @@ def _requested_points(scene, args):
         return _read_points(args.points) * unit, None
     if args.line:
         start, stop = (_vector(text, "--line") for text in args.line[:2])
+        _within_reach(scene, np.concatenate([start, stop]))
         count = _count(args.line[2])
         length = np.linalg.norm(stop - start)
         if length == 0.0:
@@ -113,6 +120,7 @@ def _section_points(scene, text, resolution):
     if level is None:
         raise SceneError(f"--section {text!r}: field needs the plane's level, e.g. "
                          f"--section {'xyz'[axis]}=0 (in the scene's unit).")
+    _within_reach(scene, np.array([level]))
     resolution = DEFAULT_RESOLUTION if resolution is None else resolution
     if not 2 <= resolution <= int(MAX_FIELD_POINTS ** 0.5):
         raise SceneError(f"--resolution must be 2 to {int(MAX_FIELD_POINTS ** 0.5)} for a "
@@ -140,24 +148,44 @@ def _read_points(path):
             raise SceneError(f"the points file {path} is over {MAX_POINTS_FILE_BYTES >> 20} MB "
                              f"(about {MAX_FIELD_POINTS:,} points); split it into several runs.")
         with open(path, newline="", encoding="utf-8-sig") as handle:
-            rows = list(csv.reader(handle))
+            header = next(csv.reader([handle.readline()]), [])
+            if [c.strip().lower() for c in header[:3]] != ["x", "y", "z"]:
+                raise SceneError(f"{path}: the first line must be the header x,y,z (in the "
+                                 f"scene's unit).")
+            points = _parsed_quickly(handle)
+            if points is None:  # a bad cell somewhere: find it and name its line
+                handle.seek(0)
+                points = _parsed_by_line(path, list(csv.reader(handle))[1:])
     except OSError as error:
         raise SceneError(f"cannot read the points file {path}: {error.strerror}.") from None
     except UnicodeDecodeError:
         raise SceneError(f"{path}: the points file is not UTF-8 text; save it as a CSV with "
                          "the header x,y,z.") from None
-    if not rows or [c.strip().lower() for c in rows[0][:3]] != ["x", "y", "z"]:
-        raise SceneError(f"{path}: the first line must be the header x,y,z (in the scene's unit).")
+    if not len(points):
+        raise SceneError(f"{path}: no points below the header x,y,z.")
+    return points
+
+
+def _parsed_quickly(handle):
+    """The x,y,z columns by numpy's reader, or None if any cell is not a finite number."""
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", UserWarning)  # "no data": said in our own words
+            points = np.loadtxt(handle, delimiter=",", usecols=(0, 1, 2), ndmin=2, comments=None)
+    except ValueError:
+        return None
+    return points if np.isfinite(points).all() else None
+
+
+def _parsed_by_line(path, rows):
     values = []
-    for number, row in enumerate(rows[1:], start=2):
+    for number, row in enumerate(rows, start=2):
         if not any(cell.strip() for cell in row):
             continue
         if len(row) < 3:
             raise SceneError(f"{path}, line {number}: expected three numbers x,y,z, got {len(row)}.")
         values.append([finite_number(cell, f"{path}, line {number}") for cell in row[:3]])
-    if not values:
-        raise SceneError(f"{path}: no points below the header x,y,z.")
-    return np.array(values, dtype=float)
+    return np.array(values, dtype=float).reshape(-1, 3)
 
 
 def _vector(text, where):
