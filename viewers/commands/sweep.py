@@ -19,6 +19,9 @@ from trapscape.viewers.commands.common import (
 )
 
 FOLD_ROUNDS = 4  # bisections of each fold's interval (to 1/16 of a step)
+# The default match distance, as a share of the search box's longest side: generous, since pairs
+# are made nearest first and within a class (parts, and their traps, may move a lot per step).
+MATCH_SHARE = 0.3
 EXAMPLES = """\
   trapscape sweep samples/level_gauge.toml --vary gap=2..6@9 -o gauge-sweep
   trapscape sweep samples/level_gauge.toml --vary gap=2..6@5 --vary bead=2..4@3 -o grid --workers 2
@@ -36,7 +39,7 @@ def add_arguments(parser) -> None:
                              "below 8 steps)")
     parser.add_argument("--match", type=float, default=None, metavar="LENGTH",
                         help="farthest a trap may move between steps and stay the same one, in "
-                             "the scene's unit (default: a tenth of the search box's longest side)")
+                             "the scene's unit (default: 0.3 of the search box's longest side)")
 
 
 def run(args) -> int:
@@ -52,7 +55,7 @@ def run(args) -> int:
             raise SceneError(f"--vary {v.name}: the scene has no [params] value of that name "
                              f"(it has: {', '.join(sorted(base.params)) or 'none'}).")
     box = base.to_file_units(np.max(base.search_box.max - base.search_box.min))
-    match = args.match if args.match is not None else 0.1 * float(box)
+    match = args.match if args.match is not None else MATCH_SHARE * float(box)
     if not (np.isfinite(match) and match > 0):
         raise SceneError("--match must be a positive finite length.")
     steps = _run_steps(args, grid)
