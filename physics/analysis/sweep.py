@@ -243,14 +243,17 @@ def find_folds(steps, tracks, values, match_distance: float) -> list:
     """
     folds = []
     for kind, edge, other in (("lost", "last", 1), ("born", "first", -1)):
+        paired = set()  # each unstable branch meets one stable branch
         for stable in (t for t in tracks if t.stable):
             s = getattr(stable, edge)
             if not 0 <= s + other < len(steps):
                 continue
-            partners = [t for t in tracks if not t.stable and getattr(t, edge) == s]
+            partners = [t for t in tracks if not t.stable and getattr(t, edge) == s
+                        and t.number not in paired]
             best = _nearest_partner(steps, stable, partners, s, match_distance)
             if best is None:
                 continue
+            paired.add(best.number)
             a = _position_at(steps, stable, s)
             b = _position_at(steps, best, s)
             lo, hi = sorted((values[s], values[s + other]))

@@ -170,3 +170,12 @@ def test_an_output_that_is_a_file_is_refused_before_any_search(tmp_path):
                          check=False)
     assert run.returncode == 2 and "give a folder" in run.stderr
     assert target.read_text() == "keep me"
+
+
+def test_an_unstable_branch_meets_only_one_stable_branch():
+    # two stable branches end beside one saddle (a symmetric pair): one fold, not two
+    steps = [_step(((0, 0, -1), "stable"), ((0, 0, 0), "saddle"), ((0, 0, 1), "stable")),
+             _step()]
+    tracks = track_line(steps, match_distance=5.0)
+    folds = find_folds(steps, tracks, [0.0, 1.0], match_distance=5.0)
+    assert len(folds) == 1 and folds[0].tracks[1] == 2
