@@ -17,7 +17,7 @@ GOLDEN = HERE / "golden"
 
 
 def sample_names() -> list[str]:
-    return sorted(p.stem for p in SAMPLES.glob("*.toml"))
+    return sorted(p.stem for p in SAMPLES.glob("*.toml") if not p.name.endswith(".spec.toml"))
 
 
 def has_plate(name: str) -> bool:

@@ -3,3 +3,8 @@ from pathlib import Path
 
 REPO = Path(__file__).resolve().parents[1]
 SAMPLES = REPO / "samples"
+
+
+def sample_scenes() -> list:
+    """The sample scenes (samples/*.toml, the screening specs beside them left out)."""
+    return sorted(p for p in SAMPLES.glob("*.toml") if not p.name.endswith(".spec.toml"))

@@ -18,6 +18,7 @@ COMMANDS = {
     "traps": "equilibria of the probe with their classification",
     "hold": "pull of the magnets on steel plates against the gap",
     "sweep": "the traps across one or two [params] values, each followed, folds found",
+    "screen": "many layouts against a spec: pass or fail, ranked, resumable",
     "render": "the 3D view, off-screen to a PNG or in a window",
     "export": "open-format data (.vti, .vtp, .stl) and an offline interactive view (.html)",
     "demo": "the whole job on a bundled sample",

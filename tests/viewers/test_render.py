@@ -9,7 +9,7 @@ from trapscape.viewers.render import prefer_egl
 
 prefer_egl()
 
-from repo_paths import SAMPLES  # noqa: E402
+from repo_paths import SAMPLES, sample_scenes  # noqa: E402
 
 from trapscape.scene.errors import SceneError  # noqa: E402
 from trapscape.scene.loader import load_scene  # noqa: E402
@@ -114,7 +114,7 @@ def test_picture_is_not_blank_and_has_a_legend(gauge_picture):
     assert np.any(panel[..., :3].max(axis=-1) < 80), "legend text"
 
 
-@pytest.mark.parametrize("sample", sorted(p.stem for p in SAMPLES.glob("*.toml")))
+@pytest.mark.parametrize("sample", [p.stem for p in sample_scenes()])
 def test_every_sample_renders_off_screen(sample):
     scene = load_scene(str(SAMPLES / f"{sample}.toml"))
     ctx = ViewContext.of(scene, grid_resolution=20, section_resolution=48)

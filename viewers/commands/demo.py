@@ -51,7 +51,8 @@ def run(args) -> int:
 
     sample = samples_dir() / args.sample
     if not sample.is_file():
-        names = ", ".join(sorted(p.name for p in samples_dir().glob("*.toml")))
+        names = ", ".join(sorted(p.name for p in samples_dir().glob("*.toml")
+                                 if not p.name.endswith(".spec.toml")))
         raise SceneError(f"demo: no sample {args.sample!r}; choose one of {names}.")
     out = Path(args.output)
     try:

@@ -1,0 +1,225 @@
+"""Screening many layouts against a spec: one row per layout, each written as it finishes, a
+batch that resumes where it stopped.
+
+A layout is a scene file with its --set overrides. Each runs in a worker (physics.analysis.batch
+pools, engine in in-process mode) with an optional time limit; a layout that fails to load, raises
+or runs out of time is recorded with its error and the batch goes on. Rows are appended to a JSON
+lines file and flushed to disk one by one, so a killed batch keeps every finished row; a row cut
+short by the kill is dropped when the batch is resumed.
+"""
+from __future__ import annotations
+
+import json
+import os
+import signal
+import time
+from dataclasses import dataclass
+from pathlib import Path
+
+from trapscape.physics.analysis.results import json_ready
+from trapscape.physics.analysis.run import load_analysis
+from trapscape.physics.analysis.spec import layout_figures, load_spec, scores, verdict
+from trapscape.physics.field import engine
+from trapscape.scene.errors import SceneError
+
+
+@dataclass(frozen=True)
+class Layout:
+    """One scene file with its overrides."""
+
+    scene: str
+    overrides: tuple = ()
+
+    @property
+    def key(self) -> str:
+        """What identifies the layout in the rows (resume skips the keys already there)."""
+        return " ".join([self.scene, *self.overrides])
+
+
+def layouts_from(inputs, grid=()) -> list:
+    """Scene files and folders of them (their *.toml, spec files left out), each with every
+    combination of the swept values.
+
+    Parameters
+    ----------
+    inputs : sequence of str
+    grid : sequence of dict
+        {name: value} per variant (physics.analysis.sweep.grid_of); empty: the scenes as they are.
+
+    Returns
+    -------
+    list of Layout
+
+    Raises
+    ------
+    SceneError
+        An input that is neither a file nor a folder, or a folder with no scene.
+    """
+    scenes = []
+    for text in inputs:
+        path = Path(text)
+        if path.is_dir():
+            found = sorted(str(p) for p in path.glob("*.toml") if not p.name.endswith(".spec.toml"))
+            if not found:
+                raise SceneError(f"{text}: the folder holds no scene (.toml) file.")
+            scenes.extend(found)
+        elif path.is_file():
+            scenes.append(str(path))
+        else:
+            raise SceneError(f"{text}: no such scene file or folder.")
+    variants = [tuple(f"{k}={v!r}" for k, v in params.items()) for params in grid] or [()]
+    return [Layout(scene, variant) for scene in scenes for variant in variants]
+
+
+def screen_layout(layout: Layout, spec_path: str, timeout: float | None = None) -> dict:
+    """One layout's row: its figures, pass or fail with the failing requirement, or its error.
+
+    Parameters
+    ----------
+    layout : Layout
+    spec_path : str
+    timeout : float, optional
+        Seconds; past it the layout is stopped and recorded as timed out (main thread only).
+
+    Returns
+    -------
+    dict
+        key, scene, overrides, figures, passed, failing, error, seconds (JSON-ready).
+    """
+    start = time.monotonic()
+    row = {"key": layout.key, "scene": layout.scene, "overrides": list(layout.overrides),
+           "figures": {}, "passed": False, "failing": None, "error": None}
+    try:
+        with _time_limit(timeout):
+            spec = load_spec(spec_path)
+            analysis = load_analysis(layout.scene, list(layout.overrides))
+            row["figures"] = layout_figures(analysis, spec)
+            row["passed"], row["failing"] = verdict(spec, row["figures"])
+    except SceneError as error:
+        row["error"] = str(error)
+    except _TimedOut:
+        row["error"] = f"timed out after {timeout:g} s"
+    except Exception as error:  # noqa: BLE001  one layout's bug must not stop the batch
+        row["error"] = f"failed: {type(error).__name__}: {error}"
+    row["seconds"] = time.monotonic() - start
+    return json_ready(row)
+
+
+def screen_layout_in_worker(layout: Layout, spec_path: str, timeout=None) -> dict:
+    """screen_layout in the engine's in-process mode (a pool worker's one thread).
+
+    Parameters
+    ----------
+    layout : Layout
+    spec_path : str
+    timeout : float, optional
+
+    Returns
+    -------
+    dict
+    """
+    with engine.in_process_mode():
+        return screen_layout(layout, spec_path, timeout)
+
+
+class _TimedOut(Exception):
+    pass
+
+
+class _time_limit:
+    def __init__(self, seconds):
+        self.seconds = seconds
+
+    def __enter__(self):
+        if self.seconds:
+            self.previous = signal.signal(signal.SIGALRM, self._expire)
+            signal.setitimer(signal.ITIMER_REAL, self.seconds)
+
+    def __exit__(self, *exc):
+        if self.seconds:
+            signal.setitimer(signal.ITIMER_REAL, 0)
+            signal.signal(signal.SIGALRM, self.previous)
+        return False
+
+    @staticmethod
+    def _expire(signum, frame):
+        raise _TimedOut
+
+
+def finished_rows(path) -> list:
+    """The complete rows of a JSON lines file (a line cut short by a kill is left out).
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+
+    Returns
+    -------
+    list of dict
+    """
+    path = Path(path)
+    if not path.exists():
+        return []
+    rows = []
+    for line in path.read_text(encoding="utf-8").splitlines():
+        try:
+            row = json.loads(line)
+        except json.JSONDecodeError:
+            continue
+        if isinstance(row, dict) and "key" in row:
+            rows.append(row)
+    return rows
+
+
+class RowLog:
+    """Rows appended to a JSON lines file, each flushed to disk before the next.
+
+    A line left incomplete by an earlier kill is cut away when the log opens, so every line after
+    it starts on its own line.
+    """
+
+    def __init__(self, path):
+        self.path = Path(path)
+        rows = finished_rows(self.path)
+        text = "".join(json.dumps(r, allow_nan=False) + "\n" for r in rows)
+        temporary = self.path.with_name(self.path.name + ".tmp")
+        temporary.write_text(text, encoding="utf-8")
+        os.replace(temporary, self.path)
+        self.rows = rows
+        self.stream = open(self.path, "a", encoding="utf-8")  # noqa: SIM115  closed by close()
+
+    def append(self, row: dict) -> None:
+        self.stream.write(json.dumps(row, allow_nan=False) + "\n")
+        self.stream.flush()
+        os.fsync(self.stream.fileno())
+        self.rows.append(row)
+
+    def close(self) -> None:
+        self.stream.close()
+
+
+def ranked(spec_path, rows) -> list:
+    """The rows with their score and rank (1 = best passing; failing and errored rows unranked).
+
+    Parameters
+    ----------
+    spec_path : str
+    rows : list of dict
+
+    Returns
+    -------
+    list of dict
+        In the order: ranked passing rows first, then failing, then errored.
+    """
+    spec = load_spec(spec_path)
+    rows = [dict(r) for r in rows]
+    for r, score in zip(rows, scores(spec, rows)):
+        r["score"] = score
+    passing = sorted((r for r in rows if r["passed"]), key=lambda r: (-(r["score"] or 0.0),
+                                                                      r["key"]))
+    for i, r in enumerate(passing, start=1):
+        r["rank"] = i
+    others = [r for r in rows if not r["passed"]]
+    for r in others:
+        r["rank"] = None
+    return passing + sorted(others, key=lambda r: (r["error"] is not None, r["key"]))

@@ -1,0 +1,129 @@
+"""`trapscape screen`: many layouts against a spec, one row each, ranked; resumable
+(physics.analysis.screen, physics.analysis.spec).
+
+Exit codes: 0 every layout ran (passing or not); 3 some layouts could not be run (their rows say
+why); 2 bad input (the spec, the inputs, the output path)."""
+from __future__ import annotations
+
+import concurrent.futures
+import csv
+import io
+import os
+from pathlib import Path
+
+from trapscape.scene.errors import SceneError
+from trapscape.viewers.atomic import replaced_atomically
+from trapscape.viewers.commands.common import (
+    add_output_argument,
+    add_run_options,
+    check_output_path,
+    progress,
+)
+
+SOME_LAYOUTS_FAILED = 3
+EXAMPLES = """\
+  trapscape screen samples/level_gauge.toml --spec samples/level_gauge.spec.toml --vary gap=2..6@9 -o gauge.csv
+  trapscape screen layouts/ --spec spec.toml -o review.csv --workers 2 --timeout 120
+"""
+
+
+def add_arguments(parser) -> None:
+    parser.add_argument("inputs", nargs="+", metavar="SCENE|FOLDER",
+                        help="scene files and folders of them")
+    parser.add_argument("--spec", required=True, metavar="SPEC.toml",
+                        help="the requirements and ranking (see the README's Screening)")
+    add_output_argument(parser, "OUT.csv", "the table; full rows go to OUT.jsonl beside it "
+                        "(a second run with the same -o resumes)", required=True)
+    parser.add_argument("--vary", action="append", default=[], metavar="NAME=START..STOP@COUNT",
+                        help="variants of every scene, as in sweep (once or twice: a grid)")
+    parser.add_argument("--workers", type=int, default=None, metavar="N",
+                        help="processes (default: the cores)")
+    parser.add_argument("--timeout", type=float, default=None, metavar="SECONDS",
+                        help="stop a layout after this long and record it as timed out")
+    add_run_options(parser)
+
+
+def run(args) -> int:
+    from trapscape.physics.analysis import screen, sweep
+    from trapscape.physics.analysis.spec import load_spec
+
+    check_output_path(args.output, (".csv",))
+    spec = load_spec(args.spec)
+    grid = sweep.grid_of([sweep.parse_vary(v) for v in args.vary]) if args.vary else []
+    layouts = screen.layouts_from(args.inputs, grid)
+    if args.set:
+        layouts = [screen.Layout(x.scene, tuple(args.set) + x.overrides) for x in layouts]
+    if args.timeout is not None and not (args.timeout > 0 and args.timeout < 1e6):
+        raise SceneError("--timeout must be a positive number of seconds.")
+    log = screen.RowLog(Path(args.output).with_suffix(".jsonl"))
+    done = {r["key"] for r in log.rows}
+    todo = [x for x in layouts if x.key not in done]
+    keys = {x.key for x in layouts}
+    try:
+        _run(args, todo, log, len(layouts))
+    finally:  # also on Ctrl-C: the table of what finished
+        log.close()
+        rows = screen.ranked(args.spec, [r for r in log.rows if r["key"] in keys])
+        _write_csv(args.output, rows, spec)
+    return _summary(args, rows, len(layouts) - len(todo))
+
+
+def _run(args, todo, log, total) -> None:
+    from trapscape.physics.analysis import batch, screen
+
+    workers = min(args.workers or (os.cpu_count() or 1), max(len(todo), 1))
+    if workers < 1:
+        raise SceneError("--workers must be 1 or more.")
+    start = total - len(todo)
+    with progress(args, unit="layout", desc="screen") as update:
+        if workers == 1:
+            for i, layout in enumerate(todo):
+                log.append(screen.screen_layout_in_worker(layout, args.spec, args.timeout))
+                if update:
+                    update(start + i + 1, total)
+            return
+        with batch.process_pool(workers) as pool:
+            futures = [pool.submit(screen.screen_layout_in_worker, x, args.spec, args.timeout)
+                       for x in todo]
+            try:
+                for i, future in enumerate(concurrent.futures.as_completed(futures)):
+                    log.append(future.result())
+                    if update:
+                        update(start + i + 1, total)
+            except BaseException:
+                pool.shutdown(wait=False, cancel_futures=True)
+                raise
+
+
+def _write_csv(path, rows, spec) -> None:
+    figures = list(dict.fromkeys([r.key for r in spec.requirements] + list(spec.rank)))
+    header = ["rank", "passed", "failing", "error", "scene", "overrides", *figures, "score",
+              "seconds"]
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(header)
+    for r in rows:
+        writer.writerow([r["rank"] or "", "yes" if r["passed"] else "no", r["failing"] or "",
+                         r["error"] or "", r["scene"], " ".join(r["overrides"]),
+                         *(_cell(r["figures"].get(f)) for f in figures), _cell(r["score"]),
+                         f"{r['seconds']:.2f}"])
+    with replaced_atomically(path, newline="") as handle:
+        handle.write(buffer.getvalue())
+
+
+def _cell(value) -> str:
+    return "" if value is None else f"{value:.6g}"
+
+
+def _summary(args, rows, skipped) -> int:
+    passed = [r for r in rows if r["passed"]]
+    errors = [r for r in rows if r["error"]]
+    print(f"{len(rows)} layouts: {len(passed)} pass, {len(rows) - len(passed) - len(errors)} "
+          f"fail, {len(errors)} could not be run" +
+          (f" ({skipped} already in {Path(args.output).with_suffix('.jsonl')})" if skipped else ""))
+    for r in passed[:3]:
+        print(f"  #{r['rank']} {r['key']} (score {r['score']:.3g})")
+    for r in errors[:5]:
+        print(f"  {r['key']}: {r['error']}")
+    print(f"wrote {args.output} and {Path(args.output).with_suffix('.jsonl')}")
+    return SOME_LAYOUTS_FAILED if errors else 0
