@@ -12,6 +12,7 @@ from __future__ import annotations
 import json
 import os
 import signal
+import threading
 import time
 from dataclasses import dataclass
 from pathlib import Path
@@ -127,8 +128,12 @@ class _TimedOut(Exception):
 
 
 class _time_limit:
+    """SIGALRM after `seconds`: only in a process's main thread (a pool worker's task); in other
+    threads (a Dask worker's) there is no limit, the cluster's own apply."""
+
     def __init__(self, seconds):
-        self.seconds = seconds
+        main = threading.current_thread() is threading.main_thread()
+        self.seconds = seconds if main else None
 
     def __enter__(self):
         if self.seconds:

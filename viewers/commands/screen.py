@@ -8,6 +8,7 @@ from __future__ import annotations
 import concurrent.futures
 import csv
 import io
+import logging
 import os
 from pathlib import Path
 
@@ -40,6 +41,9 @@ def add_arguments(parser) -> None:
                         help="processes (default: the cores)")
     parser.add_argument("--timeout", type=float, default=None, metavar="SECONDS",
                         help="stop a layout after this long and record it as timed out")
+    parser.add_argument("--dask", metavar="ADDRESS|local",
+                        help="run the layouts on a Dask cluster (its scheduler's address, or "
+                             "'local' for a LocalCluster of --workers processes)")
     add_run_options(parser)
 
 
@@ -76,6 +80,9 @@ def _run(args, todo, log, total) -> None:
         raise SceneError("--workers must be 1 or more.")
     start = total - len(todo)
     with progress(args, unit="layout", desc="screen") as update:
+        if args.dask:
+            _run_on_dask(args, todo, log, workers, lambda i: update and update(start + i, total))
+            return
         if workers == 1:
             for i, layout in enumerate(todo):
                 log.append(screen.screen_layout_in_worker(layout, args.spec, args.timeout))
@@ -93,6 +100,39 @@ def _run(args, todo, log, total) -> None:
             except BaseException:
                 pool.shutdown(wait=False, cancel_futures=True)
                 raise
+
+
+def _run_on_dask(args, todo, log, workers, update) -> None:
+    """The same layouts on a Dask cluster; each worker process runs one layout at a time in the
+    engine's in-process mode, so the rows are those of the process pool."""
+    try:
+        from distributed import Client, LocalCluster, as_completed
+    except ImportError:
+        raise SceneError("--dask needs Dask's distributed scheduler: pip install "
+                         "'dask[distributed]' (or pip install -e '.[dask]').") from None
+    from trapscape.physics.analysis import screen
+
+    logging.getLogger("distributed").setLevel(logging.ERROR)  # its shutdown chatter
+    if args.dask == "local":
+        cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True,
+                               dashboard_address=None)
+        client = Client(cluster)
+    else:
+        cluster = None
+        try:
+            client = Client(args.dask, timeout="20s")
+        except OSError as error:
+            raise SceneError(f"--dask {args.dask}: cannot reach the scheduler ({error}).") from None
+    try:
+        futures = client.map(screen.screen_layout_in_worker, todo, spec_path=args.spec,
+                             timeout=args.timeout, pure=False)
+        for i, future in enumerate(as_completed(futures), start=1):
+            log.append(future.result())
+            update(i)
+    finally:
+        client.close()
+        if cluster is not None:
+            cluster.close()
 
 
 def _write_csv(path, rows, spec) -> None:

@@ -146,3 +146,16 @@ def test_a_killed_batch_resumes_with_no_row_lost_or_repeated(tmp_path):
     assert len(keys) == 6 == len(set(keys))
     assert f"({before} already in" in run.stdout
     assert len(list(csv.DictReader((tmp_path / "out.csv").open()))) == 6
+
+
+def test_a_dask_local_cluster_gives_the_process_pools_table(tmp_path):
+    pytest.importorskip("distributed")
+    args = [GAUGE, "--spec", GAUGE_SPEC, "--vary", "gap=2..6@3", "--workers", "2"]
+    tables = []
+    for name, extra in (("pool", []), ("dask", ["--dask", "local"])):
+        run = subprocess.run(CLI + args + extra + ["-o", str(tmp_path / f"{name}.csv")],
+                             capture_output=True, text=True, timeout=900, check=False)
+        assert run.returncode == 0, run.stderr
+        rows = list(csv.DictReader((tmp_path / f"{name}.csv").open()))
+        tables.append([{k: v for k, v in r.items() if k != "seconds"} for r in rows])
+    assert tables[0] == tables[1] and len(tables[0]) == 3
