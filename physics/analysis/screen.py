@@ -9,6 +9,7 @@ short by the kill is dropped when the batch is resumed.
 """
 from __future__ import annotations
 
+import hashlib
 import json
 import os
 import signal
@@ -89,7 +90,8 @@ def screen_layout(layout: Layout, spec_path: str, timeout: float | None = None) 
     """
     start = time.monotonic()
     row = {"key": layout.key, "scene": layout.scene, "overrides": list(layout.overrides),
-           "figures": {}, "passed": False, "failing": None, "error": None}
+           "spec_sha256": spec_digest(spec_path), "figures": {}, "passed": False,
+           "failing": None, "error": None}
     try:
         with _time_limit(timeout):
             spec = load_spec(spec_path)
@@ -104,6 +106,20 @@ def screen_layout(layout: Layout, spec_path: str, timeout: float | None = None) 
         row["error"] = f"failed: {type(error).__name__}: {error}"
     row["seconds"] = time.monotonic() - start
     return json_ready(row)
+
+
+def spec_digest(spec_path) -> str:
+    """The spec file's sha256: a resumed batch keeps only rows judged by the same spec.
+
+    Parameters
+    ----------
+    spec_path : str or os.PathLike
+
+    Returns
+    -------
+    str
+    """
+    return hashlib.sha256(Path(spec_path).read_bytes()).hexdigest()
 
 
 def screen_layout_in_worker(layout: Layout, spec_path: str, timeout=None) -> dict:

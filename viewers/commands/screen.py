@@ -60,6 +60,8 @@ def run(args) -> int:
     if args.timeout is not None and not (args.timeout > 0 and args.timeout < 1e6):
         raise SceneError("--timeout must be a positive number of seconds.")
     log = screen.RowLog(Path(args.output).with_suffix(".jsonl"))
+    digest = screen.spec_digest(args.spec)
+    log.rows = [r for r in log.rows if r.get("spec_sha256") == digest]  # another spec: redo
     done = {r["key"] for r in log.rows}
     todo = [x for x in layouts if x.key not in done]
     keys = {x.key for x in layouts}

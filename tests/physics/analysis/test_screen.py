@@ -159,3 +159,16 @@ def test_a_dask_local_cluster_gives_the_process_pools_table(tmp_path):
         rows = list(csv.DictReader((tmp_path / f"{name}.csv").open()))
         tables.append([{k: v for k, v in r.items() if k != "seconds"} for r in rows])
     assert tables[0] == tables[1] and len(tables[0]) == 3
+
+
+def test_a_changed_spec_redoes_the_layouts_judged_by_the_old_one(tmp_path):
+    spec = tmp_path / "s.spec.toml"
+    spec.write_text("[[require]]\nfigure = 'magnet_mass_g'\nat_most = 1\n")
+    args = [GAUGE, "--spec", str(spec), "--workers", "1"]
+    first = _screen(tmp_path, *args)
+    assert first.returncode == 0 and "0 pass" in first.stdout
+    spec.write_text("[[require]]\nfigure = 'magnet_mass_g'\nat_least = 1\n")
+    second = _screen(tmp_path, *args)
+    assert second.returncode == 0 and "1 pass" in second.stdout and "already" not in second.stdout
+    rows = list(csv.DictReader((tmp_path / "out.csv").open()))
+    assert len(rows) == 1 and rows[0]["passed"] == "yes"
