@@ -66,7 +66,8 @@ from trapscape.scene.tomlfile import parse_toml
 from trapscape.scene.units import unit_scale
 
 TOP_KEYS = ("version", "title", "units", "gravity", "allow_overlap", "mesh_size_check", "params",
-            "materials", "magnet", "steel_plate", "probe", "search_box", "safety", "package")
+            "materials", "magnet", "steel_plate", "probe", "search_box", "safety", "package",
+            "sweep")  # [sweep]: variants for `screen` (physics.analysis.variants), not the scene
 TOP_ELSEWHERE = {
     "constraint": "the constraint goes under the probe: write [probe.constraint]",
     "magnets": "write [[magnet]] (singular, double brackets) once per magnet",

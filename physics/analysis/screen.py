@@ -21,6 +21,7 @@ from pathlib import Path
 from trapscape.physics.analysis.results import json_ready
 from trapscape.physics.analysis.run import load_analysis
 from trapscape.physics.analysis.spec import layout_figures, load_spec, scores, verdict
+from trapscape.physics.analysis.variants import scene_variants
 from trapscape.physics.field import engine
 from trapscape.scene.errors import SceneError
 
@@ -46,7 +47,8 @@ def layouts_from(inputs, grid=()) -> list:
     ----------
     inputs : sequence of str
     grid : sequence of dict
-        {name: value} per variant (physics.analysis.sweep.grid_of); empty: the scenes as they are.
+        {name: value} per variant (physics.analysis.sweep.grid_of); empty: each scene's own
+        [sweep] table (physics.analysis.variants), or the scene as it is.
 
     Returns
     -------
@@ -69,8 +71,20 @@ def layouts_from(inputs, grid=()) -> list:
             scenes.append(str(path))
         else:
             raise SceneError(f"{text}: no such scene file or folder.")
-    variants = [tuple(f"{k}={v!r}" for k, v in params.items()) for params in grid] or [()]
-    return [Layout(scene, variant) for scene in scenes for variant in variants]
+    layouts = []
+    for scene in scenes:
+        for params in grid or _variants_or_as_is(scene):
+            layouts.append(Layout(scene, tuple(f"{k}={v!r}" for k, v in params.items())))
+    return layouts
+
+
+def _variants_or_as_is(scene) -> list:
+    """The scene's [sweep] variants; a scene that cannot be read runs as it is and its row gets
+    the error (a bad scene among good ones is a row, not the end of the batch)."""
+    try:
+        return scene_variants(scene)
+    except SceneError:
+        return [{}]
 
 
 def screen_layout(layout: Layout, spec_path: str, timeout: float | None = None) -> dict:
