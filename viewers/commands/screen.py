@@ -13,7 +13,7 @@ import os
 from pathlib import Path
 
 from trapscape.scene.errors import SceneError
-from trapscape.viewers.atomic import replaced_atomically
+from trapscape.viewers.atomic import replaced_atomically, save_figure
 from trapscape.viewers.commands.common import (
     add_output_argument,
     add_run_options,
@@ -71,7 +71,16 @@ def run(args) -> int:
         log.close()
         rows = screen.ranked(args.spec, [r for r in log.rows if r["key"] in keys])
         _write_csv(args.output, rows, spec)
+        _plot(args.output, rows, spec)
     return _summary(args, rows, len(layouts) - len(todo))
+
+
+def _plot(output, rows, spec) -> None:
+    from trapscape.viewers.screen_plot import screen_figure
+
+    figure = screen_figure(rows, spec, spec.title or "screening")
+    if figure is not None:
+        save_figure(figure, Path(output).with_suffix(".png"), dpi=150)
 
 
 def _run(args, todo, log, total) -> None:
@@ -167,5 +176,7 @@ def _summary(args, rows, skipped) -> int:
         print(f"  #{r['rank']} {r['key']} (score {r['score']:.3g})")
     for r in errors[:5]:
         print(f"  {r['key']}: {r['error']}")
-    print(f"wrote {args.output} and {Path(args.output).with_suffix('.jsonl')}")
+    plot = Path(args.output).with_suffix(".png")
+    also = f", {plot}" if plot.exists() else ""
+    print(f"wrote {args.output}{also} and {Path(args.output).with_suffix('.jsonl')}")
     return SOME_LAYOUTS_FAILED if errors else 0

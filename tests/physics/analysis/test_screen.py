@@ -107,6 +107,7 @@ def test_the_gauge_screen_passes_the_close_tubes_and_names_why_the_others_fail(t
     assert "escape_over_weight at least 3" in by_gap["gap=4.0"]["failing"]
     assert "no value" in by_gap["gap=6.0"]["failing"]
     assert len((tmp_path / "out.jsonl").read_text().splitlines()) == 3
+    assert (tmp_path / "out.png").stat().st_size > 10_000  # the figures against the gap
 
 
 def test_a_broken_scene_and_a_timed_out_layout_are_rows_and_the_batch_goes_on(tmp_path):
