@@ -7,3 +7,9 @@ import os
 # value) fails the test that raised it, here (pyproject's filterwarnings) and in every command
 # a test starts as a subprocess.
 os.environ["PYTHONWARNINGS"] = "error::RuntimeWarning"
+
+import tempfile
+
+# Equivalent-dipole fits are cached on disk (physics.field.fit_cache): the tests keep theirs in a
+# folder of their own, never in the user's cache.
+os.environ["TRAPSCAPE_CACHE"] = tempfile.mkdtemp(prefix="trapscape-test-cache-")

@@ -6,7 +6,8 @@ from dataclasses import replace
 import numpy as np
 
 from trapscape.physics.field.dipoles import cell_size_for, discretise
-from trapscape.physics.field.equivalent import CHECK_RADIUS, fit_equivalent_dipoles
+from trapscape.physics.field.equivalent import CHECK_RADIUS, SOURCE_COUNT, fit_equivalent_dipoles
+from trapscape.physics.field.fit_cache import cached_fit, fit_key
 from trapscape.physics.field.polyhedron import polyhedron_H
 from trapscape.physics.field.sources import Source
 from trapscape.scene.errors import SceneError
@@ -228,7 +229,8 @@ def _dipole_source(magnet, index, accuracy) -> Source:
 
 def _equivalent_source(magnet, index) -> Source:
     """A many-triangle mesh: its exact form within CHECK_RADIUS circumradii of its centre, and
-    beyond that equivalent dipoles fitted to it (physics/equivalent.py), far cheaper per point."""
+    beyond that equivalent dipoles fitted to it (physics/equivalent.py), far cheaper per point;
+    the fit kept on disk by the mesh and magnetisation (physics/field/fit_cache.py)."""
     exact = _exact_source(magnet, index)
     vertices, faces = body_mesh(magnet)
     centre = 0.5 * (vertices.min(axis=0) + vertices.max(axis=0))
@@ -238,7 +240,9 @@ def _equivalent_source(magnet, index) -> Source:
     def exact_H(body_points):
         return polyhedron_H(body_points, vertices, faces, M)
 
-    positions, moments, _ = fit_equivalent_dipoles(exact_H, centre, circumradius)
+    key = fit_key(vertices, faces, M, SOURCE_COUNT)
+    positions, moments, _ = cached_fit(
+        key, lambda: fit_equivalent_dipoles(exact_H, centre, circumradius, SOURCE_COUNT))
     R = np.asarray(magnet.rotation, float)
     return _placed(magnet, index, "dipoles", (), M,
                    dipole_positions=positions @ R.T + magnet.position,
