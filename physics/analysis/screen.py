@@ -224,12 +224,20 @@ class RowLog:
         self.stream = open(self.path, "a", encoding="utf-8")  # noqa: SIM115  closed by close()
 
     def append(self, row: dict) -> None:
+        """Write one row and flush it to disk.
+
+        Parameters
+        ----------
+        row : dict
+            JSON-ready.
+        """
         self.stream.write(json.dumps(row, allow_nan=False) + "\n")
         self.stream.flush()
         os.fsync(self.stream.fileno())
         self.rows.append(row)
 
     def close(self) -> None:
+        """Close the file (the rows stay readable in self.rows)."""
         self.stream.close()
 
 
