@@ -20,6 +20,7 @@ import numpy as np
 from scipy.optimize import linear_sum_assignment
 
 from trapscape.physics.analysis.run import load_analysis
+from trapscape.physics.traps.notes import CAUTION  # noqa: F401  the sweep's outputs carry it
 from trapscape.scene.errors import SceneError
 
 VARY_FORM = re.compile(r"^\s*([A-Za-z_]\w*)\s*=\s*([^.@][^@]*?)\s*\.\.\s*([^@]+?)\s*@\s*(\d+)\s*$")

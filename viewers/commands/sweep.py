@@ -182,7 +182,7 @@ def _cell(value) -> str:
 
 
 def _payload(args, varies, steps, rows, folds, unit) -> dict:
-    from trapscape.physics.traps.notes import CAUTION
+    from trapscape.physics.analysis.sweep import CAUTION
 
     return {
         "scene": str(args.scene), "overrides": list(args.set), "length_unit": unit,
