@@ -98,7 +98,7 @@ def format_table(report, scene) -> str:
                  "symmetry, points of one ring, or neighbouring points of one contact curve; "
                  "'count' says how many, the JSON lists each.")
     header = (f"{'#':>2}  {'count':>5}  {'class':<8} {'position of one member (' + unit + ')':<30} "
-              f"{'escape force N':>14} {"x weight":>8} {'escape energy J':>15} {'|B| mT':>7}  "
+              f"{'escape force N':>14} {'x weight':>8} {'escape energy J':>15} {'|B| mT':>7}  "
               "resting on")
     lines.append(header)
     for family in families:
