@@ -253,10 +253,10 @@ def family_json(family, report, scene) -> dict:
     -------
     dict
         number, class, count, kind, members and representative (1-based numbers of the
-        equilibria), ring (radius, centre, axis in the scene's unit) or null, the escape
+        equilibria), circle (radius, centre, axis in the scene's unit) or null, the escape
         force's and the energy's range, the surfaces, and the words of `describe_family`.
     """
-    ring = family.ring
+    circle = family.circle
     force = family.escape_force_N
     return {
         "number": family.number,
@@ -265,9 +265,9 @@ def family_json(family, report, scene) -> dict:
         "kind": family.kind,
         "members": [i + 1 for i in family.members],
         "representative": family.representative + 1,
-        "ring": None if ring is None else {"radius": _length(scene, ring.radius_m),
-                                           "centre": _length(scene, ring.centre),
-                                           "axis": ring.axis},
+        "circle": None if circle is None else {"radius": _length(scene, circle.radius_m),
+                                               "centre": _length(scene, circle.centre),
+                                               "axis": circle.axis},
         "escape_force_N": None if force is None else {"min": force[0], "max": force[1]},
         "energy_J": {"min": family.energy_J[0], "max": family.energy_J[1]},
         "surfaces": list(family.surfaces),

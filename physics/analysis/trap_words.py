@@ -164,12 +164,12 @@ def describe_family(family, report, scene) -> str:
         holding = f", holding {low}" if low == high else f", holding {low} to {high}"
     if family.kind == "single":
         return f"1 point{on}{holding}"
-    if family.kind == "ring":
-        ring = family.ring
-        centre = describe_position(ring.centre / scene.unit_scale, unit, size)
-        return (f"ring of radius {ring.radius_m / scene.unit_scale:.3g} {unit} about the "
-                f"{direction_words(ring.axis)} axis, centre {centre}{on}: {count} points found "
-                f"on it{holding}")
+    if family.kind == "circle":
+        circle = family.circle
+        centre = describe_position(circle.centre / scene.unit_scale, unit, size)
+        return (f"{count} points of one circle of radius {circle.radius_m / scene.unit_scale:.3g}"
+                f" {unit} about the {direction_words(circle.axis)} axis, centre {centre}{on}"
+                f" (every point of it is equivalent){holding}")
     if family.kind == "symmetric set":
         return (f"{count} points that the scene's symmetry ({symmetry_words(report.symmetry, scene)})"
                 f" maps onto each other{on}{holding}")

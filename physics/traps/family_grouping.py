@@ -11,7 +11,7 @@ from dataclasses import replace
 import numpy as np
 
 from trapscape.physics.traps.families import is_field_zero
-from trapscape.physics.traps.report import Family, Ring
+from trapscape.physics.traps.report import Family, Circle
 
 POSITION_TOLERANCE = 0.05  # grid steps: an image lands on a member (the contact search's precision)
 CURVE_REACH = 2.5  # grid steps: neighbouring points of one contact curve
@@ -24,14 +24,14 @@ def _same_kind(a, b) -> bool:
 
 
 def _symmetry_link(symmetry, a, b, tolerance: float) -> str | None:
-    """'ring' or 'symmetric set' when the symmetry maps a onto b, else None."""
+    """'circle' or 'symmetric set' when the symmetry maps a onto b, else None."""
     images = symmetry.images(a.position)
     if symmetry.continuous:
-        rho_b, h_b = symmetry.ring_coordinates(b.position)
+        rho_b, h_b = symmetry.circle_coordinates(b.position)
         for image in images:
-            rho, h = symmetry.ring_coordinates(image)
+            rho, h = symmetry.circle_coordinates(image)
             if abs(rho - rho_b) <= tolerance and abs(h - h_b) <= tolerance:
-                return "ring" if rho_b > tolerance else "symmetric set"
+                return "circle" if rho_b > tolerance else "symmetric set"
         return None
     if len(images) > 1 and np.min(np.linalg.norm(images - b.position, axis=1)) <= tolerance:
         return "symmetric set"
@@ -113,18 +113,18 @@ def _family(number, members, equilibria, kinds, symmetry, tolerance) -> Family:
               if e.escape is not None and e.escape.force_N is not None
               and np.isfinite(e.escape.force_N)]
     representative = max(forces, key=lambda f: (f[0], -f[1]))[1] if forces else members[0]
-    kind = ("single" if len(members) == 1 else "ring" if "ring" in kinds
+    kind = ("single" if len(members) == 1 else "circle" if "circle" in kinds
             else "contact curve" if "contact curve" in kinds else "symmetric set")
-    ring = None
-    if kind == "ring":
-        rho, height = symmetry.ring_coordinates(equilibria[representative].position)
-        ring = Ring(radius_m=rho, centre=symmetry.centre + height * symmetry.axis,
+    circle = None
+    if kind == "circle":
+        rho, height = symmetry.circle_coordinates(equilibria[representative].position)
+        circle = Circle(radius_m=rho, centre=symmetry.centre + height * symmetry.axis,
                     axis=np.asarray(symmetry.axis, float))
     energies = [e.energy_J for e in records]
     return Family(
         number=number, classification=records[0].classification, members=tuple(members),
-        representative=representative, kind=kind, ring=ring,
+        representative=representative, kind=kind, circle=circle,
         escape_force_N=(min(f for f, _ in forces), max(f for f, _ in forces)) if forces else None,
         energy_J=(min(energies), max(energies)),
         surfaces=tuple(sorted({e.contact.surface for e in records if e.contact is not None})),
-        by_symmetry=bool(kinds & {"ring", "symmetric set"}))
+        by_symmetry=bool(kinds & {"circle", "symmetric set"}))

@@ -167,7 +167,7 @@ class Equilibrium:
 
 
 @dataclass(frozen=True, eq=False)
-class Ring:
+class Circle:
     """A circle of equilibria about the scene's axis of rotation.
 
     Attributes
@@ -202,9 +202,9 @@ class Family:
         0-based index of the member shown for the family: the firmest (largest escape force),
         else the first.
     kind : str
-        single | ring | symmetric set | contact curve.
-    ring : Ring or None
-        For kind ring.
+        single | circle | symmetric set | contact curve.
+    circle : Circle or None
+        For kind circle: the circle of contact (or of equilibria) about the axis.
     escape_force_N : tuple of two floats or None
         (smallest, largest) escape force over the members, N.
     energy_J : tuple of two floats
@@ -220,7 +220,7 @@ class Family:
     members: tuple
     representative: int
     kind: str
-    ring: Ring | None
+    circle: Circle | None
     escape_force_N: tuple | None
     energy_J: tuple
     surfaces: tuple

@@ -69,12 +69,34 @@ class Symmetry:
         return any(s < 0 for s in self.signs)
 
     def images(self, point) -> np.ndarray:
-        """The point under every finite operation, (len(operations), 3), m."""
+        """The point under every finite operation.
+
+        Parameters
+        ----------
+        point : array_like, shape (3,)
+            m.
+
+        Returns
+        -------
+        ndarray, shape (len(operations), 3)
+            m; the identity's image (the point itself) first.
+        """
         offset = np.asarray(point, float) - self.centre
         return self.centre + np.array([R @ offset for R in self.operations])
 
-    def ring_coordinates(self, point) -> tuple:
-        """(distance from the axis, height along it from the centre), m; continuous only."""
+    def circle_coordinates(self, point) -> tuple:
+        """Where a point sits about the axis (for a continuous symmetry).
+
+        Parameters
+        ----------
+        point : array_like, shape (3,)
+            m.
+
+        Returns
+        -------
+        tuple of two floats
+            (distance from the axis, height along it from the centre), m.
+        """
         offset = np.asarray(point, float) - self.centre
         height = float(offset @ self.axis)
         return float(np.linalg.norm(offset - height * self.axis)), height

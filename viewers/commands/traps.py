@@ -61,7 +61,7 @@ def _tidy(values, size):
 
 
 def _ring_frame(family, eq):
-    ring = family.ring
+    ring = family.circle
     return None if ring is None else (ring.centre, ring.axis, eq.position)
 
 

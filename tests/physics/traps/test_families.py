@@ -57,10 +57,10 @@ def test_the_rims_outer_contact_ring_is_one_family_at_the_geometric_radius(holdi
     ids = {e["family"] for e in on_ring}
     assert len(ids) == 1
     family = next(f for f in holding_plate["families"] if f["number"] in ids)
-    assert family["kind"] == "ring" and family["count"] == len(on_ring)
-    assert family["ring"]["radius"] == pytest.approx(expected, abs=1e-3)  # mm
-    assert family["ring"]["centre"][:2] == pytest.approx([0, 0], abs=1e-9)
-    assert abs(family["ring"]["axis"][2]) == pytest.approx(1.0)
+    assert family["kind"] == "circle" and family["count"] == len(on_ring)
+    assert family["circle"]["radius"] == pytest.approx(expected, abs=1e-3)  # mm
+    assert family["circle"]["centre"][:2] == pytest.approx([0, 0], abs=1e-9)
+    assert abs(family["circle"]["axis"][2]) == pytest.approx(1.0)
     forces = [e["escape_force_N"] for e in on_ring]
     assert family["escape_force_N"]["min"] == pytest.approx(min(forces))
     assert family["escape_force_N"]["max"] == pytest.approx(max(forces))
@@ -74,7 +74,7 @@ def test_each_top_face_contact_ring_is_one_family(holding_plate):
         assert len({e["family"] for e in top}) == 1
         radii = [np.hypot(*e["position"][:2]) for e in top]
         family = next(f for f in holding_plate["families"] if f["number"] == top[0]["family"])
-        assert min(radii) - 0.05 < family["ring"]["radius"] < max(radii) + 0.05
+        assert min(radii) - 0.05 < family["circle"]["radius"] < max(radii) + 0.05
     # every member is kept, each naming a family that lists it
     listed = sorted(n for f in holding_plate["families"] for n in f["members"])
     assert listed == list(range(1, len(holding_plate["equilibria"]) + 1))
