@@ -137,7 +137,7 @@ def symmetry_words(symmetry, scene) -> str:
         parts.append("mirror planes through the axis" if symmetry.continuous
                      else f"{planes} mirror plane{'s' if planes > 1 else ''}")
     if symmetry.alternating:
-        parts.append("polarity alternating between images")
+        parts.append("some of them with every pole reversed (which the probe does not feel)")
     return ", ".join(parts)
 
 
@@ -171,8 +171,7 @@ def describe_family(family, report, scene) -> str:
                 f" {unit} about the {direction_words(circle.axis)} axis, centre {centre}{on}"
                 f" (every point of it is equivalent){holding}")
     if family.kind == "symmetric set":
-        return (f"{count} points that the scene's symmetry ({symmetry_words(report.symmetry, scene)})"
-                f" maps onto each other{on}{holding}")
+        return f"{count} images of one point under the scene's symmetry{on}{holding}"
     images = " and their images under the scene's symmetry" if family.by_symmetry else ""
     return f"{count} neighbouring points of one contact curve{images}{on}{holding}"
 
@@ -244,11 +243,7 @@ def headline_sentence(report, scene) -> str:
         return (f"{probe} has no stable rest point{path}; the closest to one is a "
                 f"{eq.classification} equilibrium at {where}.")
     on = f", resting on {eq.contact.surface}" if eq.contact else ""
-    family = _family_of(report, eq)
-    among = ""
-    if family is not None and len(family.members) > 1:
-        among = (f" (or any of the {len(family.members)} points of its family: "
-                 f"{describe_family(family, report, scene)})")
+    among = _equivalents(_family_of(report, eq), scene)
     escape = eq.escape
     if escape is not None and escape.exit is None:
         hold = "and cannot get out of its well inside the search box"
@@ -256,12 +251,42 @@ def headline_sentence(report, scene) -> str:
     elif escape is not None and escape.force_N is not None and np.isfinite(escape.force_N):
         along = {"line": " along the line", "plane": " in the plane"}.get(kind, "")
         weight = probe_weight_N(scene)
-        times = f" ({escape.force_N / weight:.3g} x its weight)" if weight > 0 else ""
+        times = f" ({multiple(escape.force_N / weight)} x its weight)" if weight > 0 else ""
         hold = f"and it takes {describe_force(escape.force_N)}{along}{times} to pull it out"
         exit_words = f"; it escapes to {escape.exit_at}" if escape.exit_at else ""
     else:
         hold, exit_words = "with no escape figure", ""
     return f"{probe} is caught{path} at {where}{on}{among}, {hold}{exit_words}."
+
+
+def multiple(ratio: float) -> str:
+    """A ratio as a reader takes it in: 1.07, 4.61, 35.2, 3450.
+
+    Parameters
+    ----------
+    ratio : float
+
+    Returns
+    -------
+    str
+    """
+    return f"{ratio:.3g}" if ratio < 1000 else f"{ratio:.0f}"
+
+
+def _equivalents(family, scene) -> str:
+    """' (one of 20 equivalent points on a circle of radius 12.4 mm about the z axis)'."""
+    if family is None or len(family.members) < 2:
+        return ""
+    count = len(family.members)
+    if family.kind == "circle":
+        circle = family.circle
+        where = (f" on a circle of radius {circle.radius_m / scene.unit_scale:.3g} {scene.units}"
+                 f" about the {direction_words(circle.axis)} axis")
+    elif family.kind == "symmetric set":
+        where = ", images of each other under the scene's symmetry"
+    else:
+        where = " along one contact curve"
+    return f" (one of {count} equivalent points{where})"
 
 
 def _family_of(report, eq):
@@ -300,11 +325,13 @@ def margin_warnings(report, scene) -> list:
         label = f"family {family.number} at " + describe_position(
             np.asarray(eq.position) / scene.unit_scale, scene.units, scene_size(scene))
         force = escape.force_N
-        if weight > 0 and force is not None and np.isfinite(force) and force < FORCE_MARGIN * weight:
+        small = force is not None and np.isfinite(force) and force < FORCE_MARGIN * weight
+        if weight > 0 and small:
             warnings.append(
-                f"Warning: {label} is held by {describe_force(force)}, only {force / weight:.3g} x "
-                f"the probe's weight of {describe_force(weight)}; below {FORCE_MARGIN:g} x (common "
-                "practice) a knock, vibration or a heavier probe may dislodge it.")
+                f"Warning: {label} is held by {describe_force(force)}, only "
+                f"{multiple(force / weight)} x the probe's weight of {describe_force(weight)}; "
+                f"below {FORCE_MARGIN:g} x (common practice) a knock, vibration or a heavier "
+                "probe may dislodge it.")
         barrier = escape.energy_J
         if barrier is not None and np.isfinite(barrier) and barrier < THERMAL_MARGIN * thermal:
             warnings.append(

@@ -21,7 +21,9 @@ from trapscape.scene.shapes import shape_of
 
 MAX_ORDER = 128  # largest n of an n-fold axis looked for (a 64-gon's 64 fits)
 FIELD_TOLERANCE = 1e-4  # |B(Rx) - s det(R) R B(x)| below this share of |B|: the field agrees
-CLEARANCE_TOLERANCE = 1e-3  # of a grid step: the parts' surfaces agree
+# of a grid step: the parts' surfaces agree to what the search resolves (family_grouping's
+# POSITION_TOLERANCE), so a fine polygon from CAD counts as round, as its equilibria do
+CLEARANCE_TOLERANCE = 0.05
 TEST_ANGLES = (2.0 * np.pi * 0.1234567, 2.0 * np.pi * 0.3819660)  # no n-fold axis has both
 
 

@@ -95,7 +95,8 @@ def format_table(report, scene) -> str:
                  f"({report.constraint_kind} constraint) in {len(families)} families; "
                  f"symmetry of the scene: {symmetry_words(report.symmetry, scene)}.")
     lines.append("A family is one answer: equilibria that are images of each other under that "
-                 "symmetry, points of one ring, or neighbouring points of one contact curve; "
+                 "symmetry, points of one circle (a contact ring), or neighbouring points of one "
+                 "contact curve; "
                  "'count' says how many, the JSON lists each.")
     header = (f"{'#':>2}  {'count':>5}  {'class':<8} {'position of one member (' + unit + ')':<30} "
               f"{'escape force N':>14} {'x weight':>8} {'escape energy J':>15} {'|B| mT':>7}  "
@@ -122,9 +123,9 @@ def format_table(report, scene) -> str:
         lines += [f"  #{f.number} {describe_family(f, report, scene)}" for f in families]
         lines += ["", "Stiffness (N/m) of the member shown, softest first, with its direction "
                   "and its frequency of small oscillations (Hz):"]
-        lines += [f"  #{f.number} " + _stiffness_words(report.equilibria[f.representative],
-                                                        _ring_frame(f, report.equilibria[f.representative]))
-                  for f in families]
+        for f in families:
+            shown = report.equilibria[f.representative]
+            lines.append(f"  #{f.number} " + _stiffness_words(shown, _ring_frame(f, shown)))
     if report.earnshaw_note:
         lines += ["", report.earnshaw_note]
     exits = []
@@ -139,9 +140,9 @@ def format_table(report, scene) -> str:
     for f in families:
         eq = report.equilibria[f.representative]
         if eq.rule_check is not None:
-            checks.append(f"  #{f.number} stiffness to within "
-                          f"{' '.join(_number(v) for v in eq.rule_check.stiffness_difference_N_per_m)}"
-                          f" N/m, energy to {_number(eq.rule_check.energy_difference_J)} J")
+            spread = " ".join(_number(v) for v in eq.rule_check.stiffness_difference_N_per_m)
+            checks.append(f"  #{f.number} stiffness to within {spread} N/m, energy to "
+                          f"{_number(eq.rule_check.energy_difference_J)} J")
     if checks:
         lines += ["", "Finite-size rule error (the rule against a coarser one):", *checks]
     lines += ["", report.finite_probe.note, *report.notes, "", report.caution]
