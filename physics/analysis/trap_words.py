@@ -17,6 +17,8 @@ BOLTZMANN_J_PER_K = 1.380649e-23  # exact (SI, 2019)
 ROOM_TEMPERATURE_K = 300.0
 
 AXIS_WORDS = ("x", "y", "z")
+EXIT_WORDS = {"well": "over a pass into a neighbouring well",
+              "lower ground": "over a pass to lower ground"}  # else "to <box face or part>"
 
 
 def describe_force(newtons) -> str:
@@ -253,7 +255,8 @@ def headline_sentence(report, scene) -> str:
         weight = probe_weight_N(scene)
         times = f" ({multiple(escape.force_N / weight)} x its weight)" if weight > 0 else ""
         hold = f"and it takes {describe_force(escape.force_N)}{along}{times} to pull it out"
-        exit_words = f"; it escapes to {escape.exit_at}" if escape.exit_at else ""
+        exit_words = f"; it escapes {EXIT_WORDS.get(escape.exit_at, 'to ' + str(escape.exit_at))}" \
+            if escape.exit_at else ""
     else:
         hold, exit_words = "with no escape figure", ""
     return f"{probe} is caught{path} at {where}{on}{among}, {hold}{exit_words}."

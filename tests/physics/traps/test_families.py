@@ -127,3 +127,29 @@ def test_a_guide_line_off_the_axis_leaves_only_the_mirror():
     assert symmetry.axis is None and symmetry.mirror_planes == 1
     mirror = next(R for R in symmetry.operations if np.linalg.det(R) < 0)
     assert mirror == pytest.approx(np.diag([1.0, -1.0, 1.0]), abs=1e-9)
+
+
+def _resting(position, energy, surface):
+    from trapscape.physics.traps.report import Contact, Equilibrium
+
+    return Equilibrium(position=np.asarray(position, float), coordinate_m=None, energy_J=energy,
+                       classification="stable", stable_directions=2, free_directions=2,
+                       stiffness_N_per_m=(1e-4, 7.5), directions=np.eye(3)[:2],
+                       frequency_Hz=(1.0, 2.0), B_T=np.zeros(3), force_N=np.zeros(3),
+                       contact=Contact(surface, 0.28, np.array([0.0, 0.0, 1.0])))
+
+
+def test_neighbouring_points_of_one_flat_contact_curve_are_one_family():
+    from trapscape.physics.traps.family_grouping import trap_families
+    from trapscape.physics.traps.symmetry import Symmetry
+
+    none = Symmetry(np.zeros(3), None, 1, (np.eye(3),), (1,), 0)
+    spacing = 2.8e-3
+    # as on the separator grate's end rods: one energy, 0.07 to 3 mm apart along the rod
+    rod = [_resting((0.0, y, 0.012), -1.206e-3, "rod-1") for y in (0.0, 2.41e-3, -3.19e-3)]
+    other = _resting((0.0, 1e-3, 0.012), -1.206e-3, "rod-2")  # another part: another family
+    far = _resting((0.0, 20e-3, 0.012), -1.206e-3, "rod-1")  # beyond the reach
+    numbered, families = trap_families([*rod, other, far], none, spacing)
+    assert [e.family for e in numbered] == [1, 1, 1, 2, 3]
+    assert families[0].kind == "contact curve" and len(families[0].members) == 3
+    assert [f.kind for f in families[1:]] == ["single", "single"]
