@@ -82,8 +82,8 @@ def _stiffness_words(eq, frame) -> str:
 def format_table(report, scene) -> str:
     """The headline, the margin warnings, one row per family, and what each family is."""
     from trapscape.physics.analysis.trap_words import (describe_family, headline_sentence,
-                                                       margin_warnings, probe_weight_N,
-                                                       symmetry_words)
+                                                       margin_warnings, multiple,
+                                                       probe_weight_N, symmetry_words)
 
     unit = scene.units
     box = scene.search_box
@@ -99,7 +99,7 @@ def format_table(report, scene) -> str:
                  "contact curve; "
                  "'count' says how many, the JSON lists each.")
     header = (f"{'#':>2}  {'count':>5}  {'class':<8} {'position of one member (' + unit + ')':<30} "
-              f"{'escape force N':>14} {'x weight':>8} {'escape energy J':>15} {'|B| mT':>7}  "
+              f"{'escape force N':>14} {'x weight':>11} {'escape energy J':>15} {'|B| mT':>7}  "
               "resting on")
     lines.append(header)
     for family in families:
@@ -107,13 +107,15 @@ def format_table(report, scene) -> str:
         position = ", ".join(f"{v:.4g}" for v in _tidy(np.asarray(eq.position, float)
                                                        / scene.unit_scale, size))
         force = family.escape_force_N
-        ratio = _range(None if force is None or weight <= 0 else
-                       (force[0] / weight, force[1] / weight), 2)
+        ratio = "-"
+        if force is not None and weight > 0:
+            low, high = multiple(force[0] / weight), multiple(force[1] / weight)
+            ratio = low if low == high else f"{low}-{high}"
         escape = eq.escape
         contact = ", ".join(family.surfaces) or "- (free)"
         lines.append(
             f"{family.number:>2}  {len(family.members):>5}  {family.classification:<8} "
-            f"{position:<30} {_range(force):>14} {ratio:>8} "
+            f"{position:<30} {_range(force):>14} {ratio:>11} "
             f"{_number(escape.energy_J if escape else None):>15} "
             f"{_number(1e3 * np.linalg.norm(eq.B_T)):>7}  {contact}")
     if not report.equilibria:
