@@ -7,6 +7,8 @@ import math
 
 import numpy as np
 
+from trapscape.physics.analysis.trap_words import (describe_family, headline_sentence,
+                                                   margin_warnings, symmetry_words)
 from trapscape.scene.measures import mass, moment_world, scene_bounding_box, volume
 
 HOLD_NOTES = (
@@ -202,12 +204,74 @@ def equilibrium_json(eq, scene) -> dict:
         "contact": None if eq.contact is None else {
             "surface": eq.contact.surface, "normal_force_N": eq.contact.normal_force_N},
         "family_size": eq.family_size,
+        "family": eq.family,
         "finite_probe_correction": eq.finite_probe_correction,
         "finite_probe_rule": None if eq.rule_check is None else {
             "rule": eq.rule_check.rule, "check_rule": eq.rule_check.check_rule,
             "energy_error_estimate_J": eq.rule_check.energy_difference_J,
             "stiffness_error_estimate_N_per_m": list(eq.rule_check.stiffness_difference_N_per_m)},
         "note": eq.note or None,
+    }
+
+
+def symmetry_json(symmetry, scene) -> dict | None:
+    """The scene's symmetry as the `traps` JSON gives it.
+
+    Parameters
+    ----------
+    symmetry : trapscape.physics.traps.symmetry.Symmetry or None
+    scene : trapscape.scene.model.Scene
+        For the length unit.
+
+    Returns
+    -------
+    dict or None
+        description (words), rotation_order (0: every angle, 1: none), axis, centre (scene
+        unit), mirror_planes, alternating (an operation reverses every polarity).
+    """
+    if symmetry is None:
+        return None
+    return {"description": symmetry_words(symmetry, scene),
+            "rotation_order": symmetry.order,
+            "axis": None if symmetry.axis is None else symmetry.axis,
+            "centre": _length(scene, symmetry.centre),
+            "mirror_planes": symmetry.mirror_planes,
+            "alternating": symmetry.alternating}
+
+
+def family_json(family, report, scene) -> dict:
+    """One family of the `traps` JSON.
+
+    Parameters
+    ----------
+    family : trapscape.physics.traps.report.Family
+    report : trapscape.physics.traps.search.TrapReport
+    scene : trapscape.scene.model.Scene
+        For the length unit.
+
+    Returns
+    -------
+    dict
+        number, class, count, kind, members and representative (1-based numbers of the
+        equilibria), circle (radius, centre, axis in the scene's unit) or null, the escape
+        force's and the energy's range, the surfaces, and the words of `describe_family`.
+    """
+    circle = family.circle
+    force = family.escape_force_N
+    return {
+        "number": family.number,
+        "class": family.classification,
+        "count": len(family.members),
+        "kind": family.kind,
+        "members": [i + 1 for i in family.members],
+        "representative": family.representative + 1,
+        "circle": None if circle is None else {"radius": _length(scene, circle.radius_m),
+                                               "centre": _length(scene, circle.centre),
+                                               "axis": circle.axis},
+        "escape_force_N": None if force is None else {"min": force[0], "max": force[1]},
+        "energy_J": {"min": family.energy_J[0], "max": family.energy_J[1]},
+        "surfaces": list(family.surfaces),
+        "description": describe_family(family, report, scene),
     }
 
 
@@ -224,14 +288,19 @@ def traps_json(report, scene) -> dict:
     Returns
     -------
     dict
-        constraint, probe, equilibria (see `equilibrium_json`), earnshaw_note, finite_probe,
-        notes and caution.
+        constraint, probe, symmetry (`symmetry_json`), families (`family_json`), warnings
+        (small margins, `trap_words.margin_warnings`), equilibria (see `equilibrium_json`;
+        each names its family), headline, earnshaw_note, finite_probe, notes and caution.
     """
     finite = report.finite_probe
     return {
         "constraint": report.constraint_kind,
         "probe": report.probe_kind,
+        "symmetry": symmetry_json(report.symmetry, scene),
+        "families": [family_json(f, report, scene) for f in report.families],
+        "warnings": margin_warnings(report, scene),
         "equilibria": [equilibrium_json(e, scene) for e in report.equilibria],
+        "headline": headline_sentence(report, scene),
         "earnshaw_note": report.earnshaw_note,
         "finite_probe": {"used": finite.used, "model": finite.model,
                          "threshold": finite.threshold,

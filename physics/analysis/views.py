@@ -3,10 +3,11 @@ and force where it fits, and the equilibria as markers. Views only lay the numbe
 pictures; nothing here knows pyvista."""
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
+from trapscape.physics.analysis.trap_words import describe_family
 from trapscape.physics.probe.laws import ProbeLaw, allowed_basis, projected_force
 from trapscape.scene.measures import centroid, radial_sign
 from trapscape.scene.shapes import shape_of
@@ -26,6 +27,8 @@ class ViewEquilibrium:
     contact: str | None  # the surface it is pressed against, or None
     source: object  # the physics record it came from
     closed_in: bool = False  # a well with no way out inside the search box
+    count: int = 1  # members of its family (one marker stands for them all)
+    family: str = ""  # the family in words (physics.analysis.trap_words.describe_family)
 
 
 @dataclass(frozen=True)
@@ -224,6 +227,31 @@ def trap_markers(report, scene) -> list:
             closed_in=escape is not None and escape.exit is None,
         ))
     return result
+
+
+def family_markers(report, scene) -> list:
+    """One marker per family of a trap report: its representative, numbered by the family.
+
+    Parameters
+    ----------
+    report : trapscape.physics.traps.search.TrapReport or None
+    scene : trapscape.scene.model.Scene
+        For the length unit.
+
+    Returns
+    -------
+    list of ViewEquilibrium
+        In the order of the families (their numbers, as `traps` prints them), each with the
+        family's member count and description; empty without a report. A report without
+        families (none formed) gives one marker per equilibrium.
+    """
+    if report is None:
+        return []
+    if not report.families:
+        return trap_markers(report, scene)
+    every = trap_markers(report, scene)
+    return [replace(every[f.representative], number=f.number, count=len(f.members),
+                    family=describe_family(f, report, scene)) for f in report.families]
 
 
 def headline_of(equilibria):

@@ -164,8 +164,50 @@ def free_equilibria(problem, grid) -> list:
     return found
 
 
+def balanced_at_field_zero(problem, points) -> np.ndarray:
+    """Which field zeros are equilibria: the cone -m|B| can balance the other forces there.
+
+    At B = 0 the energy -m|B| has no gradient; its generalised gradient is the set
+    {-m J^T n : |n| <= 1} with J = dB/dq along the allowed directions (Clarke, Optimization and
+    Nonsmooth Analysis, 1983, 2.5.1), so the point is an equilibrium when m J^T n = -F_q (F_q
+    the weight along the allowed directions) has a solution with |n| <= 1. Where the zeros
+    form a curve (J of rank 2, its null vector t along the curve) this needs F_q . t = 0: a
+    point of the curve where gravity pulls along it is no equilibrium (the probe, pushed away
+    from B = 0 on every side, could not rest there either), only its highest and lowest points
+    are; the Gauss-Newton of field_zeros lands anywhere on such a curve.
+
+    Parameters
+    ----------
+    problem : TrapProblem
+    points : ndarray, shape (M, 3)
+        Field zeros, m.
+
+    Returns
+    -------
+    ndarray of bool, shape (M,)
+    """
+    points = np.asarray(points, float).reshape(-1, 3)
+    if len(points) == 0:
+        return np.zeros(0, bool)
+    law, basis = problem.law, problem.basis
+    slope = -float(law.magnetic_energy(np.array([[1.0, 0.0, 0.0]]))[0])  # m: U = -m|B| at 1 T
+    weight = law.gravity_force() @ basis.T  # (k,) N
+    _, G = problem.point_model.applied_field(points)
+    J = G @ basis.T  # (M, 3, k) T/m
+    keep = np.zeros(len(points), bool)
+    for i in range(len(points)):  # few points: one small least-squares problem each
+        A = slope * J[i].T  # (k, 3) N
+        n = -np.linalg.pinv(A, rcond=1e-14) @ weight
+        residual = np.linalg.norm(A @ n + weight)
+        keep[i] = (np.linalg.norm(n) <= 1.0
+                   and residual <= 1e-6 * (np.linalg.norm(weight) + 1e-30))
+    return keep
+
+
 def field_zero_equilibria(problem, grid) -> list:
     """A magnet probe's equilibria at B = 0 (unstable by rule), from the grid's minima of |B|.
+
+    Only the zeros where the cone balances the weight (balanced_at_field_zero).
 
     Parameters
     ----------
@@ -182,6 +224,7 @@ def field_zero_equilibria(problem, grid) -> list:
         return []
     points, zero = field_zeros(problem, grid.points[cells])
     points = unique_points(points[zero], 1e-2 * problem.spacing)
+    points = points[balanced_at_field_zero(problem, points)]
     if len(points) == 0:
         return []
     U, F = problem.point_model.energy_and_force(points)

@@ -139,6 +139,9 @@ class Equilibrium:
     note : str
     rule_check : RuleCheck or None
         The finite-size model's rule there and its error estimate (None: point model).
+    family : int
+        The number of the family it belongs to (TrapReport.families), 0 before families are
+        formed.
     """
 
     position: np.ndarray
@@ -160,6 +163,68 @@ class Equilibrium:
     finite_probe_shift_m: float | None = None
     note: str = ""
     rule_check: RuleCheck | None = None
+    family: int = 0
+
+
+@dataclass(frozen=True, eq=False)
+class Circle:
+    """A circle of equilibria about the scene's axis of rotation.
+
+    Attributes
+    ----------
+    radius_m : float
+        Distance of the members from the axis, m (their mean).
+    centre : ndarray, shape (3,)
+        The circle's centre on the axis, m.
+    axis : ndarray, shape (3,)
+        Unit vector along the axis.
+    """
+
+    radius_m: float
+    centre: np.ndarray
+    axis: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class Family:
+    """Equilibria that are one answer: images of each other under the scene's symmetry, points
+    of one ring about its axis, or neighbouring points of one contact curve.
+
+    Attributes
+    ----------
+    number : int
+        1-based, in the order of the report's equilibria (the lowest member first).
+    classification : str
+        The members' class (all equal).
+    members : tuple of int
+        0-based indices into TrapReport.equilibria.
+    representative : int
+        0-based index of the member shown for the family: the firmest (largest escape force),
+        else the first.
+    kind : str
+        single | circle | symmetric set | contact curve.
+    circle : Circle or None
+        For kind circle: the circle of contact (or of equilibria) about the axis.
+    escape_force_N : tuple of two floats or None
+        (smallest, largest) escape force over the members, N.
+    energy_J : tuple of two floats
+        (lowest, highest) energy over the members, J.
+    surfaces : tuple of str
+        The parts or plates the members rest on (empty for free equilibria).
+    by_symmetry : bool
+        Some members are images of others under the scene's symmetry.
+    """
+
+    number: int
+    classification: str
+    members: tuple
+    representative: int
+    kind: str
+    circle: Circle | None
+    escape_force_N: tuple | None
+    energy_J: tuple
+    surfaces: tuple
+    by_symmetry: bool = False
 
 
 @dataclass(frozen=True, eq=False)
@@ -260,6 +325,10 @@ class TrapReport:
     earnshaw_note : str or None
     notes : tuple of str
     caution : str
+    families : tuple of Family
+        One per family, in the order of their first members.
+    symmetry : physics.traps.symmetry.Symmetry or None
+        The scene's symmetry the families were formed with.
     """
 
     probe_kind: str
@@ -271,3 +340,5 @@ class TrapReport:
     earnshaw_note: str | None
     notes: tuple
     caution: str = CAUTION
+    families: tuple = ()
+    symmetry: object = None

@@ -7,7 +7,9 @@ magnet probe free to turn the minima of |B|, refined by Newton's method), contac
 (the probe resting on a magnet or plate, followed along the surface from the grid's lowest cells
 next to it), families (duplicates and circles of marginal equilibria merged), finite size (a
 probe not small against the field's variation re-solved with physics.probe.finite), wells and
-escape (priority flood, physics.traps.escape) and the notes. Deterministic: no random numbers.
+escape (priority flood, physics.traps.escape), the notes, and last the families of equilibria
+that are one answer (physics.traps.family_grouping, with the scene's symmetry of
+physics.traps.symmetry). Deterministic: no random numbers.
 
 The names other modules import from here (the report's dataclasses, classify, CAUTION,
 levitation_threshold, scan_grid_geometry, ...) live in the stage modules and are re-exported.
@@ -17,6 +19,7 @@ from __future__ import annotations
 from trapscape.physics.traps.classify import classify
 from trapscape.physics.traps.contact_equilibria import contact_equilibria, starts_were_capped
 from trapscape.physics.traps.families import merge_families
+from trapscape.physics.traps.family_grouping import trap_families
 from trapscape.physics.traps.finite_size import finite_probe_model, with_finite_size
 from trapscape.physics.traps.notes import (CAUTION, EARNSHAW_NOTE, NO_LEVITATION_NOTE,
                                            contact_limit_note, earnshaw_note)
@@ -28,6 +31,7 @@ from trapscape.physics.traps.refine import free_equilibria, local_field_scale
 from trapscape.physics.traps.report import (Contact, Equilibrium, Escape, FiniteProbe, ScanGrid,
                                             TrapReport, Well)
 from trapscape.physics.traps.scan import scan, scan_grid_geometry
+from trapscape.physics.traps.symmetry import scene_symmetry
 from trapscape.physics.traps.wells import with_escapes
 
 __all__ = [
@@ -77,11 +81,13 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
                                                                            equilibria)
     equilibria = _sorted(problem, with_escapes(problem, grid, equilibria, final_model,
                                                flood_grid))
+    symmetry = scene_symmetry(problem)
+    equilibria, families = trap_families(equilibria, symmetry, problem.spacing)
     return TrapReport(
         probe_kind=problem.law.kind, constraint_kind=problem.constraint_kind,
         free_directions=problem.free_directions, equilibria=tuple(equilibria), grid=grid,
         finite_probe=finite_summary, earnshaw_note=earnshaw_note(problem, equilibria),
-        notes=notes)
+        notes=notes, families=tuple(families), symmetry=symmetry)
 
 
 def _sorted(problem, equilibria) -> list:

@@ -73,6 +73,10 @@ def run(args) -> int:
     written.append(("polarity map", write_polarity(ctx, out / "polarity.png", size)))
     for what, path in written:
         print(f"{what:>12}: {path}")
+    from trapscape.physics.analysis.trap_words import margin_warnings
+
+    for warning in margin_warnings(ctx.trap_report, ctx.scene):
+        print(warning)
     print(headline_sentence(ctx))
     print(analysis.traps().caution)
     return 0
@@ -101,28 +105,8 @@ def write_polarity(ctx, path: Path, size) -> Path:
 
 
 def headline_sentence(ctx) -> str:
-    """The trap a reader asks about first, in one plain sentence."""
-    from trapscape.viewers.layers.traps_data import describe_force, describe_position
+    """The trap a reader asks about first, in one plain sentence (the same as `traps` prints:
+    physics.analysis.trap_words.headline_sentence)."""
+    from trapscape.physics.analysis.trap_words import headline_sentence as sentence
 
-    scene = ctx.scene
-    from trapscape.physics.analysis.views import probe_words
-
-    probe = probe_words(scene).subject
-    headline = ctx.headline
-    if headline is None:
-        return f"{probe} finds no equilibrium in the search box."
-    where = describe_position(headline.position, ctx.unit, ctx.size)
-    path = {"line": " on its guide line", "plane": " on its guide plane"}.get(
-        scene.constraint.kind, "")
-    if headline.kind != "stable":
-        return (f"{probe} has no stable rest point{path}; the closest to one is a "
-                f"{headline.kind} equilibrium at {where}.")
-    on = f", resting on {headline.contact}" if headline.contact else ""
-    if headline.closed_in:
-        hold = "and cannot get out of its well inside the search box"
-    elif headline.escape_force_N is not None:
-        along = {"line": " along the line", "plane": " in the plane"}.get(scene.constraint.kind, "")
-        hold = f"and it takes {describe_force(headline.escape_force_N)}{along} to pull it out"
-    else:
-        hold = "with no escape figure"
-    return f"{probe} is caught{path} at {where}{on}, {hold}."
+    return sentence(ctx.trap_report, ctx.scene)

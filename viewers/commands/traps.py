@@ -47,8 +47,11 @@ def _number(value, digits=3):
     return f"{value:.{digits}g}"
 
 
-def _numbers(values, digits=3):
-    return " ".join(_number(v, digits) for v in values) if len(values) else "-"
+def _range(pair, digits=3):
+    if pair is None:
+        return "-"
+    low, high = (_number(v, digits) for v in pair)
+    return low if low == high else f"{low}-{high}"
 
 
 def _tidy(values, size):
@@ -57,38 +60,91 @@ def _tidy(values, size):
     return np.where(np.abs(values) < 1e-9 * size, 0.0, values)
 
 
+def _ring_frame(family, eq):
+    ring = family.circle
+    return None if ring is None else (ring.centre, ring.axis, eq.position)
+
+
+def _stiffness_words(eq, frame) -> str:
+    from trapscape.physics.analysis.trap_words import direction_words
+
+    if eq.stiffness_N_per_m and eq.stiffness_N_per_m[0] is None:
+        return "undefined (B = 0)"
+    if not len(eq.stiffness_N_per_m):
+        return "none (no free direction)"
+    parts = []
+    for k, direction, f in zip(eq.stiffness_N_per_m, eq.directions, eq.frequency_Hz):
+        freq = f", {_number(f)} Hz" if f is not None else ""
+        parts.append(f"{_number(k)} along {direction_words(direction, frame)}{freq}")
+    return "; ".join(parts)
+
+
 def format_table(report, scene) -> str:
+    """The headline, the margin warnings, one row per family, and what each family is."""
+    from trapscape.physics.analysis.trap_words import (describe_family, headline_sentence,
+                                                       margin_warnings, multiple,
+                                                       probe_weight_N, symmetry_words)
+
     unit = scene.units
-    header = (f"{'#':>2}  {'position (' + unit + ')':<26} {'class':<9} {'stiffness N/m':<24} "
-              f"{'freq Hz':<18} {'escape J':>9} {'escape N':>9} {'|B| mT':>8}  contact")
-    lines = [f"{len(report.equilibria)} equilibria of the {report.probe_kind} probe "
-             f"({report.constraint_kind} constraint)", header]
     box = scene.search_box
     size = float(np.max(np.asarray(box.max) - np.asarray(box.min))) / scene.unit_scale
-    for i, eq in enumerate(report.equilibria, 1):
-        position = ", ".join(f"{v:.4g}" for v in _tidy(np.asarray(eq.position, float) / scene.unit_scale, size))
+    weight = probe_weight_N(scene)
+    lines = [headline_sentence(report, scene), *margin_warnings(report, scene), ""]
+    families = report.families
+    lines.append(f"{len(report.equilibria)} equilibria of the {report.probe_kind} probe "
+                 f"({report.constraint_kind} constraint) in {len(families)} families; "
+                 f"symmetry of the scene: {symmetry_words(report.symmetry, scene)}.")
+    lines.append("A family is one answer: equilibria that are images of each other under that "
+                 "symmetry, points of one circle (a contact ring), or neighbouring points of one "
+                 "contact curve; "
+                 "'count' says how many, the JSON lists each.")
+    header = (f"{'#':>2}  {'count':>5}  {'class':<8} {'position of one member (' + unit + ')':<30} "
+              f"{'escape force N':>14} {'x weight':>11} {'escape energy J':>15} {'|B| mT':>7}  "
+              "resting on")
+    lines.append(header)
+    for family in families:
+        eq = report.equilibria[family.representative]
+        position = ", ".join(f"{v:.4g}" for v in _tidy(np.asarray(eq.position, float)
+                                                       / scene.unit_scale, size))
+        force = family.escape_force_N
+        ratio = "-"
+        if force is not None and weight > 0:
+            low, high = multiple(force[0] / weight), multiple(force[1] / weight)
+            ratio = low if low == high else f"{low}-{high}"
         escape = eq.escape
-        contact = "-" if eq.contact is None else (
-            f"{eq.contact.surface} ({_number(eq.contact.normal_force_N)} N)")
-        family = f" x{eq.family_size}" if eq.family_size > 1 else ""
+        contact = ", ".join(family.surfaces) or "- (free)"
         lines.append(
-            f"{i:>2}  {position:<26} {eq.classification + family:<9} "
-            f"{_numbers(eq.stiffness_N_per_m):<24} {_numbers(eq.frequency_Hz):<18} "
-            f"{_number(escape.energy_J if escape else None):>9} "
-            f"{_number(escape.force_N if escape else None):>9} "
-            f"{_number(1e3 * np.linalg.norm(eq.B_T)):>8}  {contact}")
+            f"{family.number:>2}  {len(family.members):>5}  {family.classification:<8} "
+            f"{position:<30} {_range(force):>14} {ratio:>11} "
+            f"{_number(escape.energy_J if escape else None):>15} "
+            f"{_number(1e3 * np.linalg.norm(eq.B_T)):>7}  {contact}")
     if not report.equilibria:
         lines.append("    (none found in the search box)")
+    if families:
+        lines += ["", "What each family is:"]
+        lines += [f"  #{f.number} {describe_family(f, report, scene)}" for f in families]
+        lines += ["", "Stiffness (N/m) of the member shown, softest first, with its direction "
+                  "and its frequency of small oscillations (Hz):"]
+        for f in families:
+            shown = report.equilibria[f.representative]
+            lines.append(f"  #{f.number} " + _stiffness_words(shown, _ring_frame(f, shown)))
     if report.earnshaw_note:
         lines += ["", report.earnshaw_note]
-    exits = [f"  #{i} leaves over {_number(eq.escape.energy_J)} J to {eq.escape.exit_at}"
-             for i, eq in enumerate(report.equilibria, 1)
-             if eq.escape is not None and eq.escape.exit_at]
+    exits = []
+    for f in families:
+        eq = report.equilibria[f.representative]
+        if eq.escape is not None and eq.escape.exit_at:
+            exits.append(f"  #{f.number} leaves over {_number(eq.escape.energy_J)} J to "
+                         f"{eq.escape.exit_at}")
     if exits:
         lines += ["", "Ways out (box face, part, or over a pass to another well):", *exits]
-    checks = [f"  #{i} stiffness to within {_numbers(eq.rule_check.stiffness_difference_N_per_m)}"
-              f" N/m, energy to {_number(eq.rule_check.energy_difference_J)} J"
-              for i, eq in enumerate(report.equilibria, 1) if eq.rule_check is not None]
+    checks = []
+    for f in families:
+        eq = report.equilibria[f.representative]
+        if eq.rule_check is not None:
+            spread = " ".join(_number(v) for v in eq.rule_check.stiffness_difference_N_per_m)
+            checks.append(f"  #{f.number} stiffness to within {spread} N/m, energy to "
+                          f"{_number(eq.rule_check.energy_difference_J)} J")
     if checks:
         lines += ["", "Finite-size rule error (the rule against a coarser one):", *checks]
     lines += ["", report.finite_probe.note, *report.notes, "", report.caution]

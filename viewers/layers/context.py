@@ -12,7 +12,8 @@ from functools import cached_property
 import numpy as np
 
 from trapscape.physics.analysis.run import Analysis
-from trapscape.physics.analysis.views import field_samples, headline_of, trap_markers
+from trapscape.physics.analysis.views import field_samples, headline_of
+from trapscape.viewers.layers.traps_data import family_entries
 from trapscape.viewers.layers.magnets import world_meshes
 
 AXIS_NAMES = ("x", "y", "z")
@@ -160,8 +161,8 @@ class ViewContext:
 
     @cached_property
     def equilibria(self) -> list:
-        """The trap report's equilibria as markers (physics.analysis.views.trap_markers)."""
-        return trap_markers(self.trap_report, self.scene)
+        """One marker per family of the trap report (viewers.layers.traps_data.family_entries)."""
+        return family_entries(self.trap_report, self.scene)
 
     @property
     def headline(self):

@@ -1,24 +1,26 @@
-"""Words for the trap markers: a holding force and a position as a reader takes them in. The
-markers themselves come from physics.analysis.views."""
+"""The trap data the views get: one entry per family (its representative member, numbered by
+the family, with the count of members it stands for), and words for a holding force and a
+position as a reader takes them in (from physics.analysis.trap_words, so views, `traps` and
+`demo` say the same)."""
 from __future__ import annotations
 
-import numpy as np
+from trapscape.physics.analysis.trap_words import describe_force, describe_position
+from trapscape.physics.analysis.views import family_markers
+
+__all__ = ["describe_force", "describe_position", "family_entries"]
 
 
-def describe_force(newtons) -> str:
-    """A force in the unit a reader grasps: 3.2 mN, 0.41 N, 12 uN."""
-    if newtons is None:
-        return "no finite holding force"
-    magnitude = abs(newtons)
-    for factor, unit in ((1.0, "N"), (1e-3, "mN"), (1e-6, "µN"), (1e-9, "nN")):
-        if magnitude >= factor or unit == "nN":
-            return f"{newtons / factor:.2g} {unit}" if newtons / factor < 10 else f"{newtons / factor:.0f} {unit}"
-    return f"{newtons:.2g} N"
+def family_entries(report, scene) -> list:
+    """One marker per family: the representative member plus the count (ViewEquilibrium.count).
 
+    Parameters
+    ----------
+    report : trapscape.physics.traps.search.TrapReport or None
+    scene : trapscape.scene.model.Scene
 
-def describe_position(position, unit: str, scale: float | None = None) -> str:
-    """'(21.0, 0, -0.2) mm': decimals enough for a thousandth of `scale` (the scene's size)."""
-    decimals = 1 if not scale else int(np.clip(np.ceil(2.0 - np.log10(scale)), 0, 4))
-    tiny = 0.5 * 10.0**-decimals
-    text = ", ".join(f"{v:.{decimals}f}" if abs(v) >= tiny else "0" for v in position)
-    return f"({text}) {unit}"
+    Returns
+    -------
+    list of physics.analysis.views.ViewEquilibrium
+        Numbered by family, as `traps` prints them.
+    """
+    return family_markers(report, scene)

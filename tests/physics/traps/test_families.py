@@ -1,0 +1,155 @@
+"""Trap families: equilibria that are one answer are reported once (issue 13). The scene's
+symmetry is found from its parts; the holding plate's contact ring on the rim's outer face is
+one family at the radius the geometry gives; on a pattern of five blocks every family is one
+orbit of the pattern's symmetry, checked with operations the test builds itself."""
+from __future__ import annotations
+
+import json
+import tomllib
+
+import numpy as np
+import pytest
+from repo_paths import SAMPLES
+
+from trapscape.physics.analysis.run import load_analysis
+from trapscape.physics.traps.problem import TrapProblem
+from trapscape.physics.traps.symmetry import scene_symmetry
+from trapscape.viewers.cli import main
+
+PENTA = """
+title = "five blocks on a circle"
+units = "mm"
+[[magnet]]
+name = "block"
+shape = "box"
+size = [4, 4, 3]
+position = [10, 0, 0]
+north = "+z"
+grade = "N42"
+pattern = { kind = "circular", count = 5, axis = [0, 0, 1], center = [0, 0, 0] }
+[probe]
+kind = "soft"
+diameter = 1.5
+density = 7850
+[search_box]
+margin = 4
+resolution = 30
+"""
+
+
+@pytest.fixture(scope="module")
+def holding_plate(tmp_path_factory):
+    out = tmp_path_factory.mktemp("plate") / "traps.json"
+    assert main(["traps", str(SAMPLES / "holding_plate.toml"), "-o", str(out), "--quiet"]) == 0
+    return json.loads(out.read_text())
+
+
+def test_the_rims_outer_contact_ring_is_one_family_at_the_geometric_radius(holding_plate):
+    scene = tomllib.loads((SAMPLES / "holding_plate.toml").read_text())
+    rim = next(m for m in scene["magnet"] if m["name"] == "rim")
+    # a sphere of diameter d touching a cylinder face of radius R from outside has its centre
+    # at R + d/2 from the axis (geometry; the rim's axis is the scene's z axis through 0, 0)
+    expected = rim["size"][0] / 2 + scene["probe"]["diameter"] / 2
+    equilibria = holding_plate["equilibria"]
+    on_ring = [e for e in equilibria if e["contact"] and e["contact"]["surface"] == "rim"
+               and abs(np.hypot(*e["position"][:2]) - expected) < 0.05]
+    assert on_ring, "the search finds the probe resting against the rim's outer face"
+    ids = {e["family"] for e in on_ring}
+    assert len(ids) == 1
+    family = next(f for f in holding_plate["families"] if f["number"] in ids)
+    assert family["kind"] == "circle" and family["count"] == len(on_ring)
+    assert family["circle"]["radius"] == pytest.approx(expected, abs=1e-3)  # mm
+    assert family["circle"]["centre"][:2] == pytest.approx([0, 0], abs=1e-9)
+    assert abs(family["circle"]["axis"][2]) == pytest.approx(1.0)
+    forces = [e["escape_force_N"] for e in on_ring]
+    assert family["escape_force_N"]["min"] == pytest.approx(min(forces))
+    assert family["escape_force_N"]["max"] == pytest.approx(max(forces))
+
+
+def test_each_top_face_contact_ring_is_one_family(holding_plate):
+    for part in ("core", "rim"):
+        top = [e for e in holding_plate["equilibria"] if e["contact"]
+               and e["contact"]["surface"] == part and e["position"][2] > 6.0]
+        assert len(top) > 4
+        assert len({e["family"] for e in top}) == 1
+        radii = [np.hypot(*e["position"][:2]) for e in top]
+        family = next(f for f in holding_plate["families"] if f["number"] == top[0]["family"])
+        assert min(radii) - 0.05 < family["circle"]["radius"] < max(radii) + 0.05
+    # every member is kept, each naming a family that lists it
+    listed = sorted(n for f in holding_plate["families"] for n in f["members"])
+    assert listed == list(range(1, len(holding_plate["equilibria"]) + 1))
+    assert len(holding_plate["families"]) < len(holding_plate["equilibria"]) / 5
+
+
+def _pentagon_operations():
+    """C5v about z through the origin, built here: 5 rotations and 5 mirror planes."""
+    operations = []
+    for k in range(5):
+        a = 2 * np.pi * k / 5
+        c, s = np.cos(a), np.sin(a)
+        rotation = np.array([[c, -s, 0], [s, c, 0], [0, 0, 1]])
+        mirror_y = np.diag([1.0, -1.0, 1.0])  # the plane through the first block's centre
+        operations += [rotation, rotation @ mirror_y]
+    return operations
+
+
+def test_a_five_fold_pattern_gives_families_that_are_its_orbits(tmp_path):
+    path = tmp_path / "penta.toml"
+    path.write_text(PENTA)
+    analysis = load_analysis(str(path), [])
+    report = analysis.traps()
+    symmetry = report.symmetry
+    assert symmetry.order == 5 and symmetry.mirror_planes == 5
+    assert abs(symmetry.axis[2]) == pytest.approx(1.0)
+    assert np.linalg.norm(symmetry.centre) < 1e-9
+    operations = _pentagon_operations()
+    tolerance = 0.05 * analysis.scene.search_box.spacing
+
+    def related(a, b):
+        return any(np.linalg.norm(R @ a.position - b.position) < tolerance for R in operations)
+
+    equilibria = report.equilibria
+    assert max(len(f.members) for f in report.families) >= 5
+    for family in report.families:
+        members = [equilibria[i] for i in family.members]
+        assert all(related(members[0], m) for m in members)
+        assert {m.family for m in members} == {family.number}
+    for i, a in enumerate(equilibria):  # no orbit split over two families
+        for b in equilibria[i + 1:]:
+            if a.family != b.family and a.classification == b.classification:
+                assert not related(a, b)
+
+
+def test_a_guide_line_off_the_axis_leaves_only_the_mirror():
+    analysis = load_analysis(str(SAMPLES / "level_gauge.toml"), [])
+    symmetry = scene_symmetry(TrapProblem.from_scene(analysis.model, analysis.scene))
+    # the 8-fold ring of blocks, seen from a tube at y = 0: only the plane y = 0 is kept
+    assert symmetry.axis is None and symmetry.mirror_planes == 1
+    mirror = next(R for R in symmetry.operations if np.linalg.det(R) < 0)
+    assert mirror == pytest.approx(np.diag([1.0, -1.0, 1.0]), abs=1e-9)
+
+
+def _resting(position, energy, surface):
+    from trapscape.physics.traps.report import Contact, Equilibrium
+
+    return Equilibrium(position=np.asarray(position, float), coordinate_m=None, energy_J=energy,
+                       classification="stable", stable_directions=2, free_directions=2,
+                       stiffness_N_per_m=(1e-4, 7.5), directions=np.eye(3)[:2],
+                       frequency_Hz=(1.0, 2.0), B_T=np.zeros(3), force_N=np.zeros(3),
+                       contact=Contact(surface, 0.28, np.array([0.0, 0.0, 1.0])))
+
+
+def test_neighbouring_points_of_one_flat_contact_curve_are_one_family():
+    from trapscape.physics.traps.family_grouping import trap_families
+    from trapscape.physics.traps.symmetry import Symmetry
+
+    none = Symmetry(np.zeros(3), None, 1, (np.eye(3),), (1,), 0)
+    spacing = 2.8e-3
+    # as on the separator grate's end rods: one energy, 0.07 to 3 mm apart along the rod
+    rod = [_resting((0.0, y, 0.012), -1.206e-3, "rod-1") for y in (0.0, 2.41e-3, -3.19e-3)]
+    other = _resting((0.0, 1e-3, 0.012), -1.206e-3, "rod-2")  # another part: another family
+    far = _resting((0.0, 20e-3, 0.012), -1.206e-3, "rod-1")  # beyond the reach
+    numbered, families = trap_families([*rod, other, far], none, spacing)
+    assert [e.family for e in numbered] == [1, 1, 1, 2, 3]
+    assert families[0].kind == "contact curve" and len(families[0].members) == 3
+    assert [f.kind for f in families[1:]] == ["single", "single"]
