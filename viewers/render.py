@@ -22,7 +22,8 @@ from trapscape.viewers.layers.annotations import (
     text_width,
     title_lines,
 )
-from trapscape.viewers.layers.cutaway import hidden_parts
+from trapscape.viewers.layers import style
+from trapscape.viewers.layers.cutaway import active, hidden_parts, outline_parts_behind
 from trapscape.viewers.layers.magnets import world_meshes
 from trapscape.viewers.layers.markers import draw_labels
 from trapscape.viewers.layers.section import choose_section
@@ -112,6 +113,7 @@ class Picture:
     layout: object = None
     world_per_pixel: float | None = None
     overlay: object = None
+    labels: list = field(default_factory=list)  # [(actor, anchor, box)] of the marker labels
 
 
 def build_picture(ctx, options: RenderOptions, off_screen: bool = True, overlay: bool = True,
@@ -128,7 +130,8 @@ def build_picture(ctx, options: RenderOptions, off_screen: bool = True, overlay:
     plotter.set_background(BACKGROUND)
     plotter.enable_parallel_projection()
     legend, scale = Legend(), colour_scale(ctx, options)
-    marker_layer = _overlay(plotter) if overlay and "markers" in options.layers else None
+    wants_overlay = overlay and ("markers" in options.layers or "section" in options.layers)
+    marker_layer = _overlay(plotter) if wants_overlay else None
     hidden = hidden_parts(ctx, world_meshes(ctx)) if "section" in options.layers else set()
     for name in options.layers:
         module = layer_module(name)
@@ -140,18 +143,24 @@ def build_picture(ctx, options: RenderOptions, off_screen: bool = True, overlay:
             module.draw(plotter, ctx, legend, overlay=marker_layer)
         else:
             module.draw(plotter, ctx, legend)
+    if "section" in options.layers and "magnets" in options.layers and ctx.section is not None:
+        outline_parts_behind(marker_layer or plotter, ctx, legend, hidden)
+    if ctx.section is not None and active(ctx):
+        legend.add(f"cutaway: parts in front of the section ({ctx.section.name} {ctx.unit}) "
+                   "taken away, cut faces grey", style.GHOST, "rectangle")
     picture = Picture(plotter, legend, overlay=marker_layer)
     layout = plan_layout(plotter, ctx, options, legend)
     if annotations == "html":  # a page of any size: centre the content, the text is HTML
         layout.legend_width, layout.title_band = 0.0, 0.0
     picture.world_per_pixel = _frame(plotter, ctx, options, layout)
     picture.layout = layout
-    if "markers" in options.layers:
-        draw_labels(plotter, ctx, picture.world_per_pixel, layout.content[1])
     if annotations == "html":
         _annotate_html(plotter, ctx, options, legend, scale)
     else:
         _annotate(plotter, ctx, options, legend, scale, layout, picture.world_per_pixel)
+        if "markers" in options.layers:  # last: placed clear of every text drawn before
+            x0, x1, y0, y1 = layout.content
+            picture.labels = draw_labels(plotter, ctx, (x0, y0, x1, y1), renderer=marker_layer)
     # no depth peeling: with Mesa's EGL it drops every translucent actor (seen with VTK 9.7)
     return picture
 
@@ -187,7 +196,7 @@ def content_bounds(plotter, ctx, options) -> np.ndarray:
     return np.array([points.min(axis=0), points.max(axis=0)])
 
 
-def visible_points(plotter, per_actor: int = 4000) -> np.ndarray:
+def visible_points(plotter, per_actor: int = 4000, directions=()) -> np.ndarray:
     """Points of every 3D actor drawn (a deterministic subsample of each): framing on them, not
     on bounding boxes, keeps thin planes and rings from being framed too loosely."""
     gathered = []
@@ -204,6 +213,13 @@ def visible_points(plotter, per_actor: int = 4000) -> np.ndarray:
         array = vtk_to_numpy(vtk_points.GetData())
         step = max(1, len(array) // per_actor)
         gathered.append(array[::step])
+        if step > 1:  # a subsample can miss a plane's corners: keep the extreme points too
+            extremes = [array[:, axis].argmin() for axis in range(3)] + [
+                array[:, axis].argmax() for axis in range(3)]
+            for direction in directions:
+                along = array @ direction
+                extremes += [along.argmin(), along.argmax()]
+            gathered.append(array[extremes])
     return np.concatenate(gathered) if gathered else np.zeros((0, 3))
 
 
@@ -252,7 +268,7 @@ def _frame(plotter, ctx, options, layout: Layout) -> float:
         corners = np.array([[x, y, z] for x in (lower[0], upper[0]) for y in (lower[1], upper[1])
                             for z in (lower[2], upper[2])])
     else:
-        corners = visible_points(plotter)
+        corners = visible_points(plotter, directions=(right, up, right + up, right - up))
     centre = corners.mean(axis=0)
     u = (corners - centre) @ right
     v = (corners - centre) @ up
