@@ -36,6 +36,7 @@ CAMERAS = {  # preset -> (direction from the focal point to the camera, view up)
     "top": ((0.0, 0.0, 1.0), (0.0, 1.0, 0.0)),
     "fit": ((1.0, -1.0, 0.8), (0.0, 0.0, 1.0)),
 }
+HTML_MARKER_SCALE = 1.8  # a web view is seen smaller than a picture: bigger markers
 
 
 
@@ -88,6 +89,7 @@ def prepare(ctx, options: RenderOptions) -> None:
     ctx.font_size = max(4, int(round(min(options.size[1] / 95, options.size[0] / 125))))
     ctx.iso_levels_T = options.iso_levels_T
     ctx.cutaway = options.cutaway
+    ctx.marker_scale = 1.0
     if "section" in options.layers:
         ctx.section = choose_section(ctx, direction, options.section_axis, options.section_level)
     else:
@@ -130,6 +132,10 @@ def build_picture(ctx, options: RenderOptions, off_screen: bool = True, overlay:
     plotter.set_background(BACKGROUND)
     plotter.enable_parallel_projection()
     legend, scale = Legend(), colour_scale(ctx, options)
+    if annotations == "html":
+        # vtk.js maps colours linearly: hand it log10 |B| so it colours as the picture does
+        scale.values_as_log10 = scale.log
+        ctx.marker_scale = HTML_MARKER_SCALE
     wants_overlay = overlay and ("markers" in options.layers or "section" in options.layers)
     marker_layer = _overlay(plotter) if wants_overlay else None
     hidden = hidden_parts(ctx, world_meshes(ctx)) if "section" in options.layers else set()
@@ -143,8 +149,8 @@ def build_picture(ctx, options: RenderOptions, off_screen: bool = True, overlay:
             module.draw(plotter, ctx, legend, overlay=marker_layer)
         else:
             module.draw(plotter, ctx, legend)
-    if "section" in options.layers and "magnets" in options.layers and ctx.section is not None:
-        outline_parts_behind(marker_layer or plotter, ctx, legend, hidden)
+    if marker_layer is not None and "section" in options.layers and "magnets" in options.layers:
+        outline_parts_behind(marker_layer, ctx, legend, hidden)  # drawn over the section
     if ctx.section is not None and active(ctx):
         legend.add(f"cutaway: parts in front of the section ({ctx.section.name} {ctx.unit}) "
                    "taken away, cut faces grey", style.GHOST, "rectangle")
@@ -155,7 +161,7 @@ def build_picture(ctx, options: RenderOptions, off_screen: bool = True, overlay:
     picture.world_per_pixel = _frame(plotter, ctx, options, layout)
     picture.layout = layout
     if annotations == "html":
-        _annotate_html(plotter, ctx, options, legend, scale)
+        _annotate_html(plotter, ctx, options, legend, scale, picture.world_per_pixel)
     else:
         _annotate(plotter, ctx, options, legend, scale, layout, picture.world_per_pixel)
         if "markers" in options.layers:  # last: placed clear of every text drawn before
@@ -230,6 +236,7 @@ class Layout:
     width: int
     height: int
     font: int  # pyvista font size of body text (glyphs are about 2 font pixels tall)
+    frame: dict | None = None  # what the camera framed: focal point, extents (scene unit)
     title_band: float = 0.0
     legend_left: float = 0.0
     legend_font: int = 0
@@ -283,6 +290,9 @@ def _frame(plotter, ctx, options, layout: Layout) -> float:
     mid = centre + right * (u.max() + u.min()) / 2 + up * (v.max() + v.min()) / 2
     focal = mid - right * offset_x - up * offset_y
     distance = 4.0 * float(np.linalg.norm(upper - lower)) + 1.0
+    layout.frame = {"focal": [float(c) for c in mid], "direction": [float(c) for c in direction],
+                    "up": [float(c) for c in up], "distance": distance,
+                    "width": float(u.max() - u.min()), "height": float(v.max() - v.min())}
     camera = plotter.camera
     camera.focal_point = tuple(focal)
     camera.position = tuple(focal + direction * distance)
@@ -338,9 +348,26 @@ def _annotate(plotter, ctx, options, legend, scale, layout: Layout, world_per_pi
         plotter.add_text("\n".join(ctx.notes), position="lower_right", font_size=font)
 
 
-def _annotate_html(plotter, ctx, options, legend, scale) -> None:
+def _annotate_html(plotter, ctx, options, legend, scale, world_per_pixel) -> None:
     """A web view rotates, so no scale bar; the title, legend and colour scale go into the page
-    as HTML (viewers.export), as vtk.js draws no text and labels a log colour bar wrongly."""
+    as HTML (viewers.export), as vtk.js draws no text and labels a log colour bar wrongly. The
+    markers' numbers are drawn as flat 3D text facing the starting view, beside each marker."""
+    if "markers" not in options.layers or not ctx.pending_labels:
+        return
+    import pyvista as pv
+
+    from trapscape.viewers.layers.markers import marker_radius
+
+    right, up, towards = ctx.view_right, ctx.view_up, ctx.view_direction
+    height = 2.2 * marker_radius(ctx)
+    frame = np.column_stack([right, up, towards])
+    for equilibrium, _ in ctx.pending_labels:
+        text = pv.Text3D(str(equilibrium.number), depth=0.0)
+        points = np.asarray(text.points, float)
+        points = (points - points.min(axis=0)) * (height / max(np.ptp(points[:, 1]), 1e-12))
+        corner = equilibrium.position + right * 1.3 * marker_radius(ctx) + up * 0.6 * marker_radius(ctx)
+        text.points = corner + points @ frame.T
+        plotter.add_mesh(text, color=TEXT, lighting=False)
 
 
 def _draw_table(plotter, rows, left, top, font, floor) -> None:

@@ -24,7 +24,8 @@ CLASS_LEGEND = {
 def marker_radius(ctx) -> float:
     """The probe's own radius, kept between 0.8 % and 1.8 % of the box diagonal to be seen."""
     probe = float(ctx.to_units(ctx.scene.probe.diameter)) / 2.0
-    return float(np.clip(probe, 0.008 * ctx.size, 0.018 * ctx.size))
+    scale = getattr(ctx, "marker_scale", 1.0)  # a web view's markers are drawn bigger
+    return float(np.clip(probe, 0.008 * ctx.size, 0.018 * ctx.size)) * scale
 
 
 def _ball(centre, radius, view_direction):
