@@ -98,7 +98,9 @@ def meshes(ctx) -> dict:
 def draw(plotter, ctx, legend) -> None:
     wells = well_meshes(ctx)
     if not wells:
-        if ctx.trap_report is not None and any(e.kind == "stable" for e in ctx.equilibria):
+        thin_noted = any(note.startswith("wells:") for note in ctx.notes)
+        if (ctx.trap_report is not None and not thin_noted
+                and any(e.kind == "stable" for e in ctx.equilibria)):
             ctx.note("wells: the stable equilibria have no well extent in the trap report.")
         return
     for _, mesh in wells:
