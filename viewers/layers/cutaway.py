@@ -92,4 +92,4 @@ def outline_parts_behind(target, ctx, legend, hidden=()) -> None:
             actor.prop.line_width = width
             actor.prop.lighting = False
             target.add_actor(actor, reset_camera=False)
-    legend.add("magnet behind the section (outline; dark edges: north face)", "#5a5a5a", "line")
+    legend.add("magnet behind the section (outline)", "#5a5a5a", "line")
