@@ -96,7 +96,14 @@ def prepare(ctx, options: RenderOptions) -> None:
         ctx.section = None
 
 
+FIELD_COLOURED = ("section", "fieldlines")  # the layers coloured by |B| (and its colour bar)
+
+
 def colour_scale(ctx, options):
+    """The |B| colour scale; its range is read off the 3D field grid, so a view without a
+    field-coloured layer does not sample the field for it."""
+    if not any(name in FIELD_COLOURED for name in options.layers):
+        return ColourScale(low_mT=1.0, high_mT=10.0, log=options.log_scale)
     low, high = ctx.B_range_mT
     if not options.log_scale:
         low = 0.0
@@ -334,7 +341,7 @@ def _annotate(plotter, ctx, options, legend, scale, layout: Layout, world_per_pi
         bottom = top - legend.height(layout.legend_font)
     left = layout.legend_left if legend.entries else 0.80 * width
     lf = layout.legend_font or font
-    if scale.used or "isosurfaces" in options.layers or "fieldlines" in options.layers:
+    if scale.used or "fieldlines" in options.layers:
         bar_top = bottom - 3.5 * lf
         rows = len(ctx.equilibria_table)
         bar_height = min(0.42 * height, bar_top - 0.06 * height - (rows > 0) * 0.2 * height)
