@@ -38,7 +38,7 @@ class Section:
 @dataclass
 class ViewContext:
     analysis: object  # physics.analysis.run.Analysis
-    find_traps: bool = False  # whether the view marks traps: the search runs on first need
+    marks_traps: bool = False  # whether the view marks traps: the search runs on first need
     grid_resolution: int = 64  # points on the longest side of the 3D field grid
     section_resolution: int = 220  # points on the longest side of the section map
     progress: object = None  # callable(done, total, stage=None) or None
@@ -55,12 +55,12 @@ class ViewContext:
         a view of the magnets alone runs no trap search."""
         if not isinstance(analysis, Analysis):
             analysis = Analysis(analysis)
-        return cls(analysis, find_traps=traps, **options)
+        return cls(analysis, marks_traps=traps, **options)
 
     @cached_property
     def trap_report(self):
         """What the analysis found (None: the view marks no traps)."""
-        if not self.find_traps:
+        if not self.marks_traps:
             return None
         return self.analysis.traps(progress=self.progress)
 
