@@ -157,7 +157,7 @@ def build_picture(ctx, options: RenderOptions, off_screen: bool = True, overlay:
         else:
             module.draw(plotter, ctx, legend)
     if marker_layer is not None and "section" in options.layers and "magnets" in options.layers:
-        outline_parts_behind(marker_layer, ctx, legend, hidden)  # drawn over the section
+        outline_parts_behind(marker_layer, ctx, legend, world_meshes(ctx), hidden)  # over the map
     if ctx.section is not None and active(ctx):
         legend.add(f"cutaway: parts in front of the section ({ctx.section.name} {ctx.unit}) "
                    "taken away, cut faces grey", style.GHOST, "rectangle")

@@ -60,16 +60,14 @@ def parts_behind(ctx, meshes) -> list:
     return [i for i, mesh in enumerate(meshes) if np.all(kept_side(ctx, mesh.points) > tolerance)]
 
 
-def outline_parts_behind(target, ctx, legend, hidden=()) -> None:
-    """The edges of the parts behind the section, drawn on `target` (the overlay renderer
+def outline_parts_behind(target, ctx, legend, meshes, hidden=()) -> None:
+    """The edges of the parts (`meshes`, world) behind the section, drawn on `target` (the overlay renderer
     over the picture, or the plotter), north-face edges dark and the rest mid grey, so that no
     magnet disappears behind the map."""
     import pyvista as pv
 
     from trapscape.viewers.layers import style
-    from trapscape.viewers.layers.magnets import world_meshes
 
-    meshes = world_meshes(ctx)
     behind = [i for i in parts_behind(ctx, meshes) if i not in hidden]
     if not behind:
         return
