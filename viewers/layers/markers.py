@@ -189,4 +189,5 @@ def draw_labels(plotter, ctx, area, obstacles=(), renderer=None) -> list:
 def _marker_pixels(plotter, ctx) -> float:
     """The marker's radius on the picture, pixels."""
     camera = plotter.camera
-    return float(marker_radius(ctx) * 1.25 * plotter.window_size[1] / (2 * camera.parallel_scale))
+    # 1.6: a diamond (1.25 radii) seen obliquely reaches past the sphere it stands for
+    return float(marker_radius(ctx) * 1.6 * plotter.window_size[1] / (2 * camera.parallel_scale))
