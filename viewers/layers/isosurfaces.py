@@ -171,11 +171,12 @@ def _shell(ctx, grid, energy, mask, equilibrium):
 
 
 def _chosen(ctx):
-    """[(legend text, [surfaces])] the layer shows: --iso shells, else the wells' catchments
+    """[(legend text, ASCII name, [surfaces])] the layer shows: --iso shells, else the wells' catchments
     (wells at one level, as symmetric traps have, share a colour and a line), else (no well to
     take a level from) |B| shells across the box."""
     if getattr(ctx, "iso_levels_T", None):
-        return [(label(level), [shell]) for level, shell in surfaces(ctx, ctx.iso_levels_T)]
+        return [(label(level), f"{level * 1e3:.4g} mT", [shell])
+                for level, shell in surfaces(ctx, ctx.iso_levels_T)]
     wells = well_shells(ctx)
     if wells:
         groups = []
@@ -187,16 +188,21 @@ def _chosen(ctx):
                     break
             else:
                 groups.append([level, [equilibrium.number], [shell]])
-        return [(f"edge of the catchment of trap{'s' if len(numbers) > 1 else ''} "
-                 f"{', '.join(str(n) for n in numbers)} (probe energy {describe_energy(level)})",
-                 shells) for level, numbers, shells in groups]
+        result = []
+        for level, numbers, shells in groups:
+            traps = f"trap{'s' if len(numbers) > 1 else ''} {', '.join(str(n) for n in numbers)}"
+            result.append((f"edge of the catchment of {traps} (probe energy "
+                           f"{describe_energy(level)})", f"catchment of {traps}", shells))
+        return result
     levels = auto_levels_T(ctx)
-    return [(label(level), [shell]) for level, shell in surfaces(ctx, levels)] if levels else []
+    return [(label(level), f"{level * 1e3:.4g} mT", [shell])
+            for level, shell in surfaces(ctx, levels)] if levels else []
 
 
 def meshes(ctx) -> dict:
-    return {f"isosurface {text}" + (f" part {i + 1}" if len(shells) > 1 else ""): shell
-            for text, shells in _chosen(ctx) for i, shell in enumerate(shells)}
+    """Geometry for exports, named in ASCII (VTK's string arrays take nothing else)."""
+    return {f"isosurface {name}" + (f" part {i + 1}" if len(shells) > 1 else ""): shell
+            for _, name, shells in _chosen(ctx) for i, shell in enumerate(shells)}
 
 
 def draw(plotter, ctx, legend, colour_scale=None) -> None:
@@ -204,7 +210,7 @@ def draw(plotter, ctx, legend, colour_scale=None) -> None:
     if not chosen:
         ctx.note("isosurfaces: no level crosses the search box.")
         return
-    for index, (text, shells) in enumerate(chosen):
+    for index, (text, _, shells) in enumerate(chosen):
         colour = COLOURS[index % len(COLOURS)]
         for shell in shells:
             if active(ctx):
