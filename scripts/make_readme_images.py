@@ -1,7 +1,7 @@
-"""Regenerate the README's pictures in docs/images/: the default view of two samples (the level
-gauge and the bead-capture chip) and the gauge's polarity map.
+"""Regenerate the README's pictures in docs/images/: the default view of every sample and the
+level gauge's polarity map.
 
-    python scripts/make_readme_images.py [--size 1200x900]
+    python scripts/make_readme_images.py [--size 1200x900] [--out FOLDER] [SAMPLE ...]
 """
 from __future__ import annotations
 
@@ -20,6 +20,10 @@ PICTURES = (  # (sample, file, what)
     ("level_gauge", "level_gauge.png", "scene"),
     ("bead_chip", "bead_chip.png", "scene"),
     ("level_gauge", "level_gauge_polarity.png", "polarity"),
+    ("holding_plate", "holding_plate.png", "scene"),
+    ("separator_grate", "separator_grate.png", "scene"),
+    ("graphite_stage", "graphite_stage.png", "scene"),
+    ("arc_rotor", "arc_rotor.png", "scene"),
 )
 
 
@@ -33,11 +37,16 @@ def main() -> int:
 
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--size", default="1200x900")
-    size = parse_size(parser.parse_args().size)
-    out = ROOT / "docs" / "images"
+    parser.add_argument("--out", default=str(ROOT / "docs" / "images"))
+    parser.add_argument("samples", nargs="*", help="only these samples (default: all)")
+    args = parser.parse_args()
+    size = parse_size(args.size)
+    out = Path(args.out).resolve()
     out.mkdir(parents=True, exist_ok=True)
     contexts = {}
     for sample, name, what in PICTURES:
+        if args.samples and sample not in args.samples:
+            continue
         if sample not in contexts:
             contexts[sample] = ViewContext.of(load_scene(str(ROOT / "samples" / f"{sample}.toml")))
         ctx = contexts[sample]
@@ -46,7 +55,9 @@ def main() -> int:
             draw_polarity_map(ctx, str(path), size=(size[0] * 3 // 4, size[1] * 3 // 4))
         else:
             render_png(ctx, RenderOptions(layers=default_layers(ctx.scene), size=size), str(path))
-        print(f"wrote {path.relative_to(ROOT)}")
+        print(f"wrote {path}")
+        for note in ctx.notes:
+            print(f"  note: {note}")
     return 0
 
 

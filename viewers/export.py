@@ -27,6 +27,78 @@ GEOMETRY_DEFAULTS = ("magnets", "markers", "wells", "isosurfaces", "hover")
 MAX_GRID_POINTS = 2_000_000  # beyond this the .vti grid is coarsened (said on stderr)
 FORMATS = (".vti", ".vtp", ".stl", ".html")
 SIDEBAR_EM = 22  # width of the HTML page's text column
+FILL = 0.92  # share of the view's width or height the content fills on load
+# once vtk.js has built the scene (global.renderWindow), frame it as the picture is framed: a
+# parallel view along the picture's direction, scaled to the viewport's own shape (vtk.js's
+# own reset frames a sphere round everything, which fills about a third of the view)
+FRAME_SCRIPT = """<script>
+(function () {
+  const frame = FRAME;
+  function fit() {
+    const win = window.global && window.global.renderWindow;
+    if (!win) return false;
+    const drawn = win.getRenderers().filter(function (r) { return r.getActors().length > 0; });
+    if (!drawn.length) return false;
+    const renderer = drawn[0];
+    const size = win.getViews()[0].getSize();  // the canvas as drawn
+    if (!size[0] || !size[1]) return false;
+    const camera = renderer.getActiveCamera();
+    const f = frame.focal, d = frame.direction;
+    camera.setParallelProjection(true);
+    camera.setFocalPoint(f[0], f[1], f[2]);
+    camera.setPosition(f[0] + d[0] * frame.distance, f[1] + d[1] * frame.distance,
+                       f[2] + d[2] * frame.distance);
+    camera.setViewUp(frame.up[0], frame.up[1], frame.up[2]);
+    // the extent across and up the view of every actor's bounding box
+    const right = [d[1] * frame.up[2] - d[2] * frame.up[1], d[2] * frame.up[0] - d[0] * frame.up[2],
+                   d[0] * frame.up[1] - d[1] * frame.up[0]].map(function (c) { return -c; });
+    let u0 = Infinity, u1 = -Infinity, v0 = Infinity, v1 = -Infinity;
+    drawn.forEach(function (r) {
+      r.getActors().forEach(function (actor) {
+        if (!actor.getVisibility()) return;
+        const b = actor.getBounds();
+        if (!b || !isFinite(b[0]) || b[0] > b[1]) return;
+        for (let i = 0; i < 8; i++) {
+          const p = [b[i & 1 ? 1 : 0] - f[0], b[i & 2 ? 3 : 2] - f[1], b[i & 4 ? 5 : 4] - f[2]];
+          const u = p[0] * right[0] + p[1] * right[1] + p[2] * right[2];
+          const v = p[0] * frame.up[0] + p[1] * frame.up[1] + p[2] * frame.up[2];
+          u0 = Math.min(u0, u); u1 = Math.max(u1, u); v0 = Math.min(v0, v); v1 = Math.max(v1, v);
+        }
+      });
+    });
+    if (!isFinite(u0)) return false;
+    const centre = [f[0] + right[0] * (u0 + u1) / 2 + frame.up[0] * (v0 + v1) / 2,
+                    f[1] + right[1] * (u0 + u1) / 2 + frame.up[1] * (v0 + v1) / 2,
+                    f[2] + right[2] * (u0 + u1) / 2 + frame.up[2] * (v0 + v1) / 2];
+    camera.setFocalPoint(centre[0], centre[1], centre[2]);
+    camera.setPosition(centre[0] + d[0] * frame.distance, centre[1] + d[1] * frame.distance,
+                       centre[2] + d[2] * frame.distance);
+    const aspect = size[0] / size[1];
+    camera.setParallelScale(Math.max((v1 - v0) / 2, (u1 - u0) / (2 * aspect)) / FILL_SHARE);
+    drawn.forEach(function (r) { r.resetCameraClippingRange(); });
+    win.render();
+    return true;
+  }
+  // framed again whenever the view changes shape or the scene's own camera state arrives
+  // late, until the reader first turns or zooms the view
+  let framed = "", scale = null, touched = false;
+  ["mousedown", "wheel", "touchstart", "keydown"].forEach(function (name) {
+    window.addEventListener(name, function () { touched = true; }, true);
+  });
+  setInterval(function () {
+    const win = window.global && window.global.renderWindow;
+    if (touched || !win || !win.getViews().length) return;
+    const shape = String(win.getViews()[0].getSize());
+    const drawn = win.getRenderers().filter(function (r) { return r.getActors().length > 0; });
+    const now = drawn.length ? drawn[0].getActiveCamera().getParallelScale() : null;
+    if ((shape !== framed || now !== scale) && fit()) {
+      framed = shape;
+      scale = drawn[0].getActiveCamera().getParallelScale();
+    }
+  }, 100);
+})();
+</script>
+""".replace("FILL_SHARE", str(FILL))
 
 
 def check_writable(path: str) -> None:
@@ -181,7 +253,7 @@ def export_html(ctx, path: str, options) -> list:
                 plotter.export_html(temporary)
         finally:
             plotter.close()
-        _add_page_text(ctx, temporary, options, legend)
+        _add_page_text(ctx, temporary, options, legend, picture.layout.frame)
     return [path]
 
 
@@ -202,9 +274,11 @@ def _without_wasm_download():
         vtklocal.initialize = initialize
 
 
-def _add_page_text(ctx, path: str, options, legend) -> None:
-    """Title, legend and equilibria as plain HTML over the 3D view (vtk.js draws no text)."""
+def _add_page_text(ctx, path: str, options, legend, frame=None) -> None:
+    """Title, legend and equilibria as plain HTML beside the 3D view (vtk.js draws no text),
+    and the camera framed to fill the view once the scene has loaded."""
     import html
+    import json
 
 
     title, subtitle = title_lines(ctx.scene, ctx.section)
@@ -230,8 +304,10 @@ def _add_page_text(ctx, path: str, options, legend) -> None:
     # the viewer empties the element it draws in (the first `.content`, else <body>): give it
     # its own, so that the panel stays
     viewport = (f'<div class="content" style="position:absolute;top:0;left:{SIDEBAR_EM}em;right:0;'
-                'bottom:0"></div>')
+                'bottom:0;font-size:13px"></div>')  # the panel's em: no gap between the two
     page = page.replace("<body>", "<body>" + viewport + panel, 1)
+    if frame is not None:
+        page = page.replace("</body>", FRAME_SCRIPT.replace("FRAME", json.dumps(frame)) + "</body>", 1)
     Path(path).write_text(page, encoding="utf-8")
 
 
@@ -244,8 +320,10 @@ def _css_colour_bar(ctx, options) -> str:
     values = low * (high / low) ** t if scale.log else low + (high - low) * t
     stops = ", ".join(f"{_css(scale.colour_of(v))} {100 * f:.0f}%" for v, f in
                       zip(np.concatenate([values, [high]]), np.concatenate([t, [1.0]])))
-    labels = "".join(f'<span style="position:absolute;left:{100 * f:.0f}%;transform:translateX(-50%)">'
-                     f"{v:.3g}</span>" for v, f in zip(values, t))
+    # the end labels are aligned inward, so the first and last are not cut by the panel's edges
+    shifts = ["0%"] + ["-50%"] * (len(t) - 2) + ["-100%"]
+    labels = "".join(f'<span style="position:absolute;left:{100 * f:.0f}%;transform:translateX({shift})">'
+                     f"{v:.3g}</span>" for v, f, shift in zip(values, t, shifts))
     kind = "log scale" if scale.log else "linear"
     return ('<div style="margin-top:0.6em">field strength B on the section, mT (' + kind + ')'
             f'<div style="height:0.9em;width:18em;margin-top:0.2em;border:1px solid #444;'

@@ -22,7 +22,8 @@ from trapscape.viewers.layers.annotations import (
     text_width,
     title_lines,
 )
-from trapscape.viewers.layers.cutaway import hidden_parts
+from trapscape.viewers.layers import style
+from trapscape.viewers.layers.cutaway import active, hidden_parts, outline_parts_behind
 from trapscape.viewers.layers.magnets import world_meshes
 from trapscape.viewers.layers.markers import draw_labels
 from trapscape.viewers.layers.section import choose_section
@@ -35,6 +36,7 @@ CAMERAS = {  # preset -> (direction from the focal point to the camera, view up)
     "top": ((0.0, 0.0, 1.0), (0.0, 1.0, 0.0)),
     "fit": ((1.0, -1.0, 0.8), (0.0, 0.0, 1.0)),
 }
+HTML_MARKER_SCALE = 1.8  # a web view is seen smaller than a picture: bigger markers
 
 
 
@@ -87,13 +89,21 @@ def prepare(ctx, options: RenderOptions) -> None:
     ctx.font_size = max(4, int(round(min(options.size[1] / 95, options.size[0] / 125))))
     ctx.iso_levels_T = options.iso_levels_T
     ctx.cutaway = options.cutaway
+    ctx.marker_scale = 1.0
     if "section" in options.layers:
         ctx.section = choose_section(ctx, direction, options.section_axis, options.section_level)
     else:
         ctx.section = None
 
 
+FIELD_COLOURED = ("section", "fieldlines")  # the layers coloured by |B| (and its colour bar)
+
+
 def colour_scale(ctx, options):
+    """The |B| colour scale; its range is read off the 3D field grid, so a view without a
+    field-coloured layer does not sample the field for it."""
+    if not any(name in FIELD_COLOURED for name in options.layers):
+        return ColourScale(low_mT=1.0, high_mT=10.0, log=options.log_scale)
     low, high = ctx.B_range_mT
     if not options.log_scale:
         low = 0.0
@@ -112,6 +122,7 @@ class Picture:
     layout: object = None
     world_per_pixel: float | None = None
     overlay: object = None
+    labels: list = field(default_factory=list)  # [(actor, anchor, box)] of the marker labels
 
 
 def build_picture(ctx, options: RenderOptions, off_screen: bool = True, overlay: bool = True,
@@ -128,7 +139,12 @@ def build_picture(ctx, options: RenderOptions, off_screen: bool = True, overlay:
     plotter.set_background(BACKGROUND)
     plotter.enable_parallel_projection()
     legend, scale = Legend(), colour_scale(ctx, options)
-    marker_layer = _overlay(plotter) if overlay and "markers" in options.layers else None
+    if annotations == "html":
+        # vtk.js maps colours linearly: hand it log10 |B| so it colours as the picture does
+        scale.values_as_log10 = scale.log
+        ctx.marker_scale = HTML_MARKER_SCALE
+    wants_overlay = overlay and ("markers" in options.layers or "section" in options.layers)
+    marker_layer = _overlay(plotter) if wants_overlay else None
     hidden = hidden_parts(ctx, world_meshes(ctx)) if "section" in options.layers else set()
     for name in options.layers:
         module = layer_module(name)
@@ -140,18 +156,24 @@ def build_picture(ctx, options: RenderOptions, off_screen: bool = True, overlay:
             module.draw(plotter, ctx, legend, overlay=marker_layer)
         else:
             module.draw(plotter, ctx, legend)
+    if marker_layer is not None and "section" in options.layers and "magnets" in options.layers:
+        outline_parts_behind(marker_layer, ctx, legend, world_meshes(ctx), hidden)  # over the map
+    if ctx.section is not None and active(ctx):
+        legend.add(f"cutaway: parts in front of the section ({ctx.section.name} {ctx.unit}) "
+                   "taken away, cut faces grey", style.GHOST, "rectangle")
     picture = Picture(plotter, legend, overlay=marker_layer)
     layout = plan_layout(plotter, ctx, options, legend)
     if annotations == "html":  # a page of any size: centre the content, the text is HTML
         layout.legend_width, layout.title_band = 0.0, 0.0
     picture.world_per_pixel = _frame(plotter, ctx, options, layout)
     picture.layout = layout
-    if "markers" in options.layers:
-        draw_labels(plotter, ctx, picture.world_per_pixel, layout.content[1])
     if annotations == "html":
-        _annotate_html(plotter, ctx, options, legend, scale)
+        _annotate_html(plotter, ctx, options, legend, scale, picture.world_per_pixel)
     else:
         _annotate(plotter, ctx, options, legend, scale, layout, picture.world_per_pixel)
+        if "markers" in options.layers:  # last: placed clear of every text drawn before
+            x0, x1, y0, y1 = layout.content
+            picture.labels = draw_labels(plotter, ctx, (x0, y0, x1, y1), renderer=marker_layer)
     # no depth peeling: with Mesa's EGL it drops every translucent actor (seen with VTK 9.7)
     return picture
 
@@ -187,7 +209,7 @@ def content_bounds(plotter, ctx, options) -> np.ndarray:
     return np.array([points.min(axis=0), points.max(axis=0)])
 
 
-def visible_points(plotter, per_actor: int = 4000) -> np.ndarray:
+def visible_points(plotter, per_actor: int = 4000, directions=()) -> np.ndarray:
     """Points of every 3D actor drawn (a deterministic subsample of each): framing on them, not
     on bounding boxes, keeps thin planes and rings from being framed too loosely."""
     gathered = []
@@ -204,6 +226,13 @@ def visible_points(plotter, per_actor: int = 4000) -> np.ndarray:
         array = vtk_to_numpy(vtk_points.GetData())
         step = max(1, len(array) // per_actor)
         gathered.append(array[::step])
+        if step > 1:  # a subsample can miss a plane's corners: keep the extreme points too
+            extremes = [array[:, axis].argmin() for axis in range(3)] + [
+                array[:, axis].argmax() for axis in range(3)]
+            for direction in directions:
+                along = array @ direction
+                extremes += [along.argmin(), along.argmax()]
+            gathered.append(array[extremes])
     return np.concatenate(gathered) if gathered else np.zeros((0, 3))
 
 
@@ -214,6 +243,7 @@ class Layout:
     width: int
     height: int
     font: int  # pyvista font size of body text (glyphs are about 2 font pixels tall)
+    frame: dict | None = None  # what the camera framed: focal point, extents (scene unit)
     title_band: float = 0.0
     legend_left: float = 0.0
     legend_font: int = 0
@@ -252,7 +282,7 @@ def _frame(plotter, ctx, options, layout: Layout) -> float:
         corners = np.array([[x, y, z] for x in (lower[0], upper[0]) for y in (lower[1], upper[1])
                             for z in (lower[2], upper[2])])
     else:
-        corners = visible_points(plotter)
+        corners = visible_points(plotter, directions=(right, up, right + up, right - up))
     centre = corners.mean(axis=0)
     u = (corners - centre) @ right
     v = (corners - centre) @ up
@@ -267,6 +297,9 @@ def _frame(plotter, ctx, options, layout: Layout) -> float:
     mid = centre + right * (u.max() + u.min()) / 2 + up * (v.max() + v.min()) / 2
     focal = mid - right * offset_x - up * offset_y
     distance = 4.0 * float(np.linalg.norm(upper - lower)) + 1.0
+    layout.frame = {"focal": [float(c) for c in mid], "direction": [float(c) for c in direction],
+                    "up": [float(c) for c in up], "distance": distance,
+                    "width": float(u.max() - u.min()), "height": float(v.max() - v.min())}
     camera = plotter.camera
     camera.focal_point = tuple(focal)
     camera.position = tuple(focal + direction * distance)
@@ -308,7 +341,7 @@ def _annotate(plotter, ctx, options, legend, scale, layout: Layout, world_per_pi
         bottom = top - legend.height(layout.legend_font)
     left = layout.legend_left if legend.entries else 0.80 * width
     lf = layout.legend_font or font
-    if scale.used or "isosurfaces" in options.layers or "fieldlines" in options.layers:
+    if scale.used or "fieldlines" in options.layers:
         bar_top = bottom - 3.5 * lf
         rows = len(ctx.equilibria_table)
         bar_height = min(0.42 * height, bar_top - 0.06 * height - (rows > 0) * 0.2 * height)
@@ -322,9 +355,26 @@ def _annotate(plotter, ctx, options, legend, scale, layout: Layout, world_per_pi
         plotter.add_text("\n".join(ctx.notes), position="lower_right", font_size=font)
 
 
-def _annotate_html(plotter, ctx, options, legend, scale) -> None:
+def _annotate_html(plotter, ctx, options, legend, scale, world_per_pixel) -> None:
     """A web view rotates, so no scale bar; the title, legend and colour scale go into the page
-    as HTML (viewers.export), as vtk.js draws no text and labels a log colour bar wrongly."""
+    as HTML (viewers.export), as vtk.js draws no text and labels a log colour bar wrongly. The
+    markers' numbers are drawn as flat 3D text facing the starting view, beside each marker."""
+    if "markers" not in options.layers or not ctx.pending_labels:
+        return
+    import pyvista as pv
+
+    from trapscape.viewers.layers.markers import marker_radius
+
+    right, up, towards = ctx.view_right, ctx.view_up, ctx.view_direction
+    height = 2.2 * marker_radius(ctx)
+    frame = np.column_stack([right, up, towards])
+    for equilibrium, _ in ctx.pending_labels:
+        text = pv.Text3D(str(equilibrium.number), depth=0.0)
+        points = np.asarray(text.points, float)
+        points = (points - points.min(axis=0)) * (height / max(np.ptp(points[:, 1]), 1e-12))
+        corner = equilibrium.position + right * 1.3 * marker_radius(ctx) + up * 0.6 * marker_radius(ctx)
+        text.points = corner + points @ frame.T
+        plotter.add_mesh(text, color=TEXT, lighting=False)
 
 
 def _draw_table(plotter, rows, left, top, font, floor) -> None:

@@ -9,6 +9,7 @@ from trapscape.viewers.commands.common import (
     add_scene_arguments,
     analysis_from_args,
     check_output_path,
+    progress,
 )
 from trapscape.viewers.commands.render import (
     add_view_arguments,
@@ -35,8 +36,7 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    from trapscape.viewers.export import GEOMETRY_DEFAULTS, export, format_of
-    from trapscape.viewers.layers import parse_layers
+    from trapscape.viewers.export import format_of
 
     kind = format_of(args.output)
     check_output_path(args.output)
@@ -44,8 +44,16 @@ def run(args) -> int:
         raise SceneError(f"--spacing {args.spacing!r}: the grid step is a positive finite length "
                          "in the scene's unit.")
     analysis = analysis_from_args(args)
+    with progress(args, desc="export") as update:
+        return _export(analysis, kind, args, update)
+
+
+def _export(analysis, kind, args, update) -> int:
+    from trapscape.viewers.export import GEOMETRY_DEFAULTS, export
+    from trapscape.viewers.layers import parse_layers
+
     scene = analysis.scene
-    ctx = view_context(analysis, args, traps=kind != ".vti")  # a field grid marks no trap
+    ctx = view_context(analysis, args, traps=kind != ".vti", update=update)
     layers = None
     if kind in (".vtp", ".stl"):
         layers = parse_layers(args.layers, scene) if args.layers else GEOMETRY_DEFAULTS

@@ -15,7 +15,7 @@ from trapscape.viewers.commands.common import (
     analysis_from_args,
     check_output_path,
     parse_section,
-    show_progress,
+    progress,
 )
 
 DEFAULT_RESOLUTION = 64
@@ -79,31 +79,17 @@ def parse_size(text: str) -> tuple[int, int]:
 
 
 
-def view_context(analysis, args, traps: bool = True):
-    """The view's context; with traps, the analysis finds them first (every scene view marks
-    them, and the section passes through the headline trap)."""
+def view_context(analysis, args, traps: bool = True, update=None):
+    """The view's context; with traps, the analysis finds them when a layer first needs them
+    (markers, wells, the section through the main trap), not for a view of the magnets alone.
+    `update`: the command's progress callback (viewers.commands.common.progress)."""
     from trapscape.viewers.layers.context import ViewContext
 
     resolution = args.resolution or DEFAULT_RESOLUTION
     if not 8 <= resolution <= MAX_GRID_RESOLUTION:
         raise SceneError(f"--resolution must be 8 to {MAX_GRID_RESOLUTION} for a 3D view "
                          f"({MAX_GRID_RESOLUTION}^3 field points).")
-    return ViewContext.of(analysis, traps=traps, grid_resolution=resolution,
-                          progress=_progress(args) if show_progress(args) else None)
-
-
-def _progress(args):
-    from tqdm import tqdm
-
-    bar = tqdm(file=sys.stderr, unit="pt", leave=False, desc="field")
-
-    def update(done, total):
-        bar.total = total
-        bar.update(done - bar.n)
-        if done >= total:
-            bar.close()
-
-    return update
+    return ViewContext.of(analysis, traps=traps, grid_resolution=resolution, progress=update)
 
 
 def render_options(scene, args, size=(1600, 1200), transparent=False, cutaway=False):
@@ -133,7 +119,12 @@ def run(args) -> int:
     analysis = analysis_from_args(args)
     scene = analysis.scene
     size = parse_size(args.size)
-    ctx = view_context(analysis, args, traps=args.view != "polarity")
+    with progress(args, desc="render") as update:
+        return _render(analysis, scene, size, args, update)
+
+
+def _render(analysis, scene, size, args, update) -> int:
+    ctx = view_context(analysis, args, traps=args.view != "polarity", update=update)
     if args.view == "polarity":
         from trapscape.viewers.polarity import draw_polarity_map
 
@@ -147,6 +138,8 @@ def run(args) -> int:
     options = render_options(scene, args, size, args.transparent, args.cutaway)
     if args.output:
         render_png(ctx, options, args.output)
+        if update is not None:
+            update(1, 1, "done")
         print(f"wrote {args.output} ({size[0]}x{size[1]}; layers: {', '.join(options.layers)})")
     if args.show:
         show_window(ctx, options)

@@ -12,7 +12,8 @@ LAYERS = {  # drawing order
     "plates": "steel plates",
     "section": "|B| in mT on a section plane through the traps, with its field lines",
     "fieldlines": "3D field lines seeded around the magnets",
-    "isosurfaces": "surfaces of equal energy density B^2/2mu0, labelled with |B| too",
+    "isosurfaces": "the probe-energy surface bounding each stable trap's catchment (with --iso: "
+                   "surfaces of equal energy density B^2/2mu0 at those |B|)",
     "forces": "the force on the probe on a lattice of points",
     "guide": "the guide line or plane the probe is held to",
     "wells": "the capture regions of the stable traps",
@@ -25,16 +26,24 @@ BASE_DEFAULTS = ("magnets", "plates", "section", "guide", "wells", "markers")
 
 def default_layers(scene) -> tuple:
     """What a customer reads at a glance; for a free diamagnetic probe under gravity the hover
-    sheet is where it floats, so it is part of the default picture too."""
+    sheet is where it floats, and the surfaces bounding its wells where it is caught, so they
+    are part of the default picture too."""
     chosen = set(BASE_DEFAULTS)
     from trapscape.physics.analysis.views import probe_words  # lazy: the parser starts fast
 
     constraint = scene.constraint
     gravity = float((scene.gravity**2).sum()) > 0
-    if probe_words(scene).hovers and constraint.kind == "free" and gravity:
+    floats = probe_words(scene).hovers
+    if floats and constraint.kind == "free" and gravity:
         chosen.add("hover")
     if constraint.kind == "free":
         chosen.discard("guide")
+    if floats and constraint.kind == "free":
+        # a probe that can float free has wells in open space: the energy surface bounding each
+        # well's catchment shows them smoothly (a probe that can only be caught against a
+        # magnet keeps the wells layer)
+        chosen.add("isosurfaces")
+        chosen.discard("wells")
     return tuple(name for name in LAYERS if name in chosen)
 
 

@@ -39,10 +39,10 @@ class Section:
 @dataclass
 class ViewContext:
     analysis: object  # physics.analysis.run.Analysis
-    trap_report: object = None  # what the command's analysis found (None: no traps to draw)
+    marks_traps: bool = False  # whether the view marks traps: the search runs on first need
     grid_resolution: int = 64  # points on the longest side of the 3D field grid
     section_resolution: int = 220  # points on the longest side of the section map
-    progress: object = None  # callable(done, total) or None
+    progress: object = None  # callable(done, total, stage=None) or None
     section: Section | None = None  # set by viewers.render.prepare with the view's vectors
     # pyvista geometry the layers made from the analysis's numbers, by name, so a render and an
     # export of one context make it once
@@ -52,10 +52,18 @@ class ViewContext:
     @classmethod
     def of(cls, analysis, traps: bool = True, **options) -> "ViewContext":
         """The context of a view of `analysis` (an Analysis, or a Scene to analyse); with
-        traps, the analysis finds them first (once: it keeps the report)."""
+        traps, the analysis finds them when a layer first asks (once: it keeps the report), so
+        a view of the magnets alone runs no trap search."""
         if not isinstance(analysis, Analysis):
             analysis = Analysis(analysis)
-        return cls(analysis, trap_report=analysis.traps() if traps else None, **options)
+        return cls(analysis, marks_traps=traps, **options)
+
+    @cached_property
+    def trap_report(self):
+        """What the analysis found (None: the view marks no traps)."""
+        if not self.marks_traps:
+            return None
+        return self.analysis.traps(progress=self.progress)
 
     @property
     def scene(self):
@@ -135,7 +143,11 @@ class ViewContext:
 
     def _fill_field(self, dataset) -> None:
         points_m = np.asarray(dataset.points, dtype=float) * self.scale
-        for name, values in field_samples(self.analysis, points_m, self.progress).items():
+        report = None
+        if self.progress is not None:
+            def report(done, total):
+                self.progress(done, total, "field")
+        for name, values in field_samples(self.analysis, points_m, report).items():
             dataset.point_data[name] = values
 
     def field_on(self, dataset):

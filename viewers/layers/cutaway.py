@@ -49,3 +49,45 @@ def cut_part(ctx, mesh):
         cap.cell_data["part"] = np.full(cap.n_cells, int(mesh.cell_data["part"][0]), np.int32)
         kept = kept.extract_surface(algorithm=None) + cap
     return kept
+
+
+def parts_behind(ctx, meshes) -> list:
+    """Indices of the parts wholly behind the section plane as the camera sees it: an opaque
+    section map would hide them."""
+    if ctx.section is None:
+        return []
+    tolerance = 1e-9 * ctx.size
+    return [i for i, mesh in enumerate(meshes) if np.all(kept_side(ctx, mesh.points) > tolerance)]
+
+
+def outline_parts_behind(target, ctx, legend, meshes, hidden=()) -> None:
+    """The edges of the parts (`meshes`, world) behind the section, drawn on `target` (the overlay renderer
+    over the picture, or the plotter), north-face edges dark and the rest mid grey, so that no
+    magnet disappears behind the map."""
+    import pyvista as pv
+
+    from trapscape.viewers.layers import style
+
+    behind = [i for i in parts_behind(ctx, meshes) if i not in hidden]
+    if not behind:
+        return
+    width = max(2.0, getattr(ctx, "font_size", 8) / 4)
+    for index in behind:
+        mesh = meshes[index]
+        for value, colour in ((0, "#5a5a5a"), (1, style.NORTH_FACE), (-1, "#8a7f5c")):
+            pick = np.flatnonzero(np.asarray(mesh.cell_data["polarity"]) == value)
+            if not pick.size:
+                continue
+            edges = mesh.extract_cells(pick).extract_surface(algorithm=None).extract_feature_edges(
+                feature_angle=30, boundary_edges=True, non_manifold_edges=False,
+                manifold_edges=False)
+            if edges.n_points == 0:
+                continue
+            mapper = pv.DataSetMapper(edges)
+            mapper.scalar_visibility = False
+            actor = pv.Actor(mapper=mapper)
+            actor.prop.color = colour
+            actor.prop.line_width = width
+            actor.prop.lighting = False
+            target.add_actor(actor, reset_camera=False)
+    legend.add("magnet behind the section (outline)", "#5a5a5a", "line")

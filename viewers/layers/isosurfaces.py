@@ -1,9 +1,13 @@
-"""Layer "isosurfaces": surfaces of equal magnetic energy density u = B^2 / (2 mu0) (J/m^3), each
+"""Layer "isosurfaces": by default, the surface of equal probe energy that bounds each stable
+trap's catchment (the level its flood stops at, from the trap report's scan grid: the level of
+the way out); with --iso, surfaces of equal field energy density u = B^2 / (2 mu0) (J/m^3), each
 also labelled with the |B| it corresponds to (Jackson, Classical Electrodynamics 3rd ed.,
-eq. 5.148, in vacuum)."""
+eq. 5.148, in vacuum). Each surface has its own colour, apart from the magnets' greys and the
+field map, and is drawn translucent so the magnets show through."""
 from __future__ import annotations
 
 import numpy as np
+from scipy import ndimage
 
 from trapscape.scene.errors import SceneError
 from trapscape.scene.units import MU0
@@ -11,6 +15,10 @@ from trapscape.viewers.layers.cutaway import active, towards_camera
 
 NICE = (1.0, 2.0, 5.0)
 QUANTILES = (0.8, 0.93, 0.985)  # of |B| over the free part of the box: wide, middle, close shells
+COLOURS = ("#009988", "#ee3377", "#33bbee", "#aa3377")  # Tol's vibrant: not grey, not cividis
+OPACITY = 0.3
+MAX_WELLS = 4  # catchments drawn, the firmest traps first
+MIN_CELLS = 8  # a well of fewer scan cells is too small to draw as a surface
 
 
 def energy_density(B_tesla):
@@ -87,26 +95,129 @@ def label(level_T) -> str:
     return f"u = {energy} J/m³ (B = {level_T * 1e3:.3g} mT)"
 
 
+def describe_energy(joules: float) -> str:
+    magnitude = abs(joules)
+    for factor, unit in ((1.0, "J"), (1e-3, "mJ"), (1e-6, "µJ"), (1e-9, "nJ"), (1e-12, "pJ")):
+        if magnitude >= factor or unit == "pJ":
+            return f"{joules / factor:.3g} {unit}"
+    return f"{joules:.3g} J"
+
+
+def well_shells(ctx) -> list:
+    """[(equilibrium, level J, surface)]: for the firmest stable traps of a free probe, the
+    surface of the probe's energy at the level where its flooded well stops (between the
+    highest flooded cell and the lowest unflooded neighbour: the way out), closed around that
+    well only. Interpolated on the trap report's scan grid, so the surface is smooth where
+    the well's cells are a staircase."""
+    cache = ctx.made.get("well shells")
+    if cache is not None:
+        return cache
+    report = ctx.trap_report
+    result = []
+    if report is not None and report.grid.kind == "free":
+        from trapscape.viewers.layers.markers import ranked
+
+        grid = report.grid
+        shape = tuple(int(n) for n in grid.shape)
+        energy = _filled(np.asarray(grid.energy_J, float).reshape(shape),
+                         np.asarray(grid.admissible, bool).reshape(shape))
+        for equilibrium in ranked(ctx.equilibria):
+            well = getattr(equilibrium.source, "well", None)
+            if equilibrium.kind != "stable" or well is None or len(result) >= MAX_WELLS:
+                continue
+            mask = np.asarray(well.cells, bool).reshape(shape)
+            if mask.sum() < MIN_CELLS:
+                continue
+            shell, level = _shell(ctx, grid, energy, mask, equilibrium)
+            if shell is not None:
+                result.append((equilibrium, level, shell))
+    ctx.made["well shells"] = result
+    return result
+
+
+def _filled(energy, admissible):
+    """Energies where the probe does not fit taken from the nearest cell where it does, so
+    the contour does not jump at the magnets' skin."""
+    if admissible.all() or not admissible.any():
+        return energy
+    _, nearest = ndimage.distance_transform_edt(~admissible, return_indices=True)
+    return energy[tuple(nearest)]
+
+
+def _shell(ctx, grid, energy, mask, equilibrium):
+    import pyvista as pv
+
+    rim = ndimage.binary_dilation(mask) & ~mask
+    inside_top = float(energy[mask].max())
+    level = inside_top if not rim.any() else 0.5 * (inside_top + float(energy[rim].min()))
+    if not np.isfinite(level):
+        return None, None
+    near = ndimage.binary_dilation(mask, iterations=2)
+    # away from this well the field is lifted above the level, so the surface closes round it
+    span = float(np.ptp(energy[near])) + 1e-30
+    values = np.where(near, energy, level + span)
+    padded = np.pad(values, 1, constant_values=level + span)
+    spacing = float(ctx.to_units(grid.spacing))
+    image = pv.ImageData(dimensions=padded.shape, spacing=(spacing,) * 3,
+                         origin=(-spacing,) * 3)
+    image.point_data["U"] = padded.ravel(order="F")  # VTK: first axis fastest
+    shell = image.contour([level], scalars="U")
+    if shell.n_points == 0:
+        return None, None
+    shell = shell.smooth_taubin(n_iter=15, pass_band=0.1)
+    shell.points = ctx.to_units(grid.origin) + np.asarray(shell.points) @ np.asarray(grid.axes, float)
+    shell.point_data.clear()
+    return shell.clean(), level
+
+
+def _chosen(ctx):
+    """[(legend text, ASCII name, [surfaces])] the layer shows: --iso shells, else the wells' catchments
+    (wells at one level, as symmetric traps have, share a colour and a line), else (no well to
+    take a level from) |B| shells across the box."""
+    if getattr(ctx, "iso_levels_T", None):
+        return [(label(level), f"{level * 1e3:.4g} mT", [shell])
+                for level, shell in surfaces(ctx, ctx.iso_levels_T)]
+    wells = well_shells(ctx)
+    if wells:
+        groups = []
+        for equilibrium, level, shell in wells:
+            for group in groups:
+                if abs(level - group[0]) <= 0.02 * abs(group[0]):
+                    group[1].append(equilibrium.number)
+                    group[2].append(shell)
+                    break
+            else:
+                groups.append([level, [equilibrium.number], [shell]])
+        result = []
+        for level, numbers, shells in groups:
+            traps = f"trap{'s' if len(numbers) > 1 else ''} {', '.join(str(n) for n in numbers)}"
+            result.append((f"edge of the catchment of {traps} (probe energy "
+                           f"{describe_energy(level)})", f"catchment of {traps}", shells))
+        return result
+    levels = auto_levels_T(ctx)
+    return [(label(level), f"{level * 1e3:.4g} mT", [shell])
+            for level, shell in surfaces(ctx, levels)] if levels else []
+
+
 def meshes(ctx) -> dict:
-    levels = getattr(ctx, "iso_levels_T", None) or auto_levels_T(ctx)
-    return {f"isosurface {level * 1e3:.4g} mT": shell for level, shell in surfaces(ctx, levels)}
+    """Geometry for exports, named in ASCII (VTK's string arrays take nothing else)."""
+    return {f"isosurface {name}" + (f" part {i + 1}" if len(shells) > 1 else ""): shell
+            for _, name, shells in _chosen(ctx) for i, shell in enumerate(shells)}
 
 
-def draw(plotter, ctx, legend, colour_scale) -> None:
-    levels = getattr(ctx, "iso_levels_T", None) or auto_levels_T(ctx)
-    shells = surfaces(ctx, levels)
-    if not shells:
+def draw(plotter, ctx, legend, colour_scale=None) -> None:
+    chosen = _chosen(ctx)
+    if not chosen:
         ctx.note("isosurfaces: no level crosses the search box.")
         return
-    opacities = np.linspace(0.15, 0.4, len(shells))  # outer shells fainter: the inner ones show
-    for (level, shell), opacity in zip(shells, opacities):
-        if active(ctx):
-            shell = shell.clip(normal=towards_camera(ctx), origin=ctx.section.normal * ctx.section.level,
-                               invert=True)
-            if shell.n_points == 0:
-                continue
-        colour = colour_scale.colour_of(level * 1e3)
-        plotter.add_mesh(shell, color=colour, opacity=float(opacity), smooth_shading=True,
-                         specular=0.2)
-        legend.add(label(level), colour, "rectangle")
-
+    for index, (text, _, shells) in enumerate(chosen):
+        colour = COLOURS[index % len(COLOURS)]
+        for shell in shells:
+            if active(ctx):
+                shell = shell.clip(normal=towards_camera(ctx),
+                                   origin=ctx.section.normal * ctx.section.level, invert=True)
+                if shell.n_points == 0:
+                    continue
+            plotter.add_mesh(shell, color=colour, opacity=OPACITY, smooth_shading=True,
+                             specular=0.2, ambient=0.2)
+        legend.add(text, colour, "rectangle")

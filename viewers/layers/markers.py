@@ -7,7 +7,7 @@ import numpy as np
 
 from trapscape.scene.shapes.frames import frame_along
 from trapscape.viewers.layers import style
-from trapscape.viewers.layers.annotations import text_width
+from trapscape.viewers.layers.labels import place_labels, text_boxes
 from trapscape.viewers.layers.screen import world_to_pixels
 from trapscape.viewers.layers.traps_data import describe_force, describe_position
 
@@ -24,7 +24,8 @@ CLASS_LEGEND = {
 def marker_radius(ctx) -> float:
     """The probe's own radius, kept between 0.8 % and 1.8 % of the box diagonal to be seen."""
     probe = float(ctx.to_units(ctx.scene.probe.diameter)) / 2.0
-    return float(np.clip(probe, 0.008 * ctx.size, 0.018 * ctx.size))
+    scale = getattr(ctx, "marker_scale", 1.0)  # a web view's markers are drawn bigger
+    return float(np.clip(probe, 0.008 * ctx.size, 0.018 * ctx.size)) * scale
 
 
 def _ball(centre, radius, view_direction):
@@ -158,28 +159,35 @@ def draw(plotter, ctx, legend, overlay=None) -> None:
             legend.add(CLASS_LEGEND[kind], style.MARKER[kind], style.MARKER_SHAPE[kind])
 
 
-def draw_labels(plotter, ctx, world_per_pixel: float, right_edge_px: float) -> None:
-    """After the camera is set: labels to the right of their markers, or to the left where the
-    label would run past the content's right edge (into the legend)."""
+def draw_labels(plotter, ctx, area, obstacles=(), renderer=None) -> list:
+    """After the camera is set and the text around the picture drawn: every chosen label placed
+    in screen space (viewers.layers.labels) inside `area` (x0, y0, x1, y1 display pixels), clear
+    of `obstacles`, of the other labels and of the markers. Returns what was placed."""
     pending = getattr(ctx, "pending_labels", [])
     if not pending:
-        return
-    font = int(1.7 * ctx.font_size)
-    up = np.asarray(ctx.view_up, float)
-    right = np.asarray(ctx.view_right, float)
-    gap = marker_radius(ctx) * 1.2
-    points, texts = [], []
-    for equilibrium, text in pending:
-        anchor = equilibrium.position + up * gap
-        width = max(text_width(plotter, line, font // 2) for line in text.split("\n"))
-        column = world_to_pixels(plotter, [equilibrium.position])[0, 0]
-        if column + gap / world_per_pixel + width + 12 > right_edge_px:
-            anchor = anchor - right * (gap + (width + 12) * world_per_pixel)
-        else:
-            anchor = anchor + right * gap
-        points.append(anchor)
-        texts.append(text)
-    plotter.add_point_labels(np.array(points), texts, font_size=font, text_color=style.TEXT,
-                             shape_color="#ffffff", shape_opacity=0.8, show_points=False,
-                             always_visible=True, margin=4, justification_horizontal="left",
-                             bold=False)
+        return []
+    height = plotter.window_size[1]
+    font = max(5, int(round(0.9 * ctx.font_size)))
+    pixels = world_to_pixels(plotter, [e.position for e in ctx.equilibria])
+    every = [(col, height - 1 - row) for col, row in pixels]
+    where = {e.number: xy for e, xy in zip(ctx.equilibria, every)}
+    anchors = [where[e.number] for e, _ in pending]
+    marker_px = _marker_pixels(plotter, ctx)
+    items = []
+    for (equilibrium, text), anchor in zip(pending, anchors):
+        texts = [text] + [t for t in (text.split("\n")[0], str(equilibrium.number)) if t != text]
+        items.append((anchor, list(dict.fromkeys(texts))))
+    obstacles = list(obstacles) + [box for _, box in text_boxes(plotter.renderer, labels=False)]
+    placed = place_labels(plotter, items, font, area, obstacles, marker_px, markers=every,
+                          renderer=renderer)
+    if len(placed) < len(items):
+        ctx.note(f"markers: {len(items) - len(placed)} of {len(items)} labels found no free "
+                 "place in the picture; the table lists every equilibrium.")
+    return placed
+
+
+def _marker_pixels(plotter, ctx) -> float:
+    """The marker's radius on the picture, pixels."""
+    camera = plotter.camera
+    # 1.6: a diamond (1.25 radii) seen obliquely reaches past the sphere it stands for
+    return float(marker_radius(ctx) * 1.6 * plotter.window_size[1] / (2 * camera.parallel_scale))

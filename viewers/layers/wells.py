@@ -16,15 +16,36 @@ def well_meshes(ctx) -> list:
         return cache
     report = ctx.trap_report
     result = []
+    thin = 0
     for equilibrium in ctx.equilibria:
         well = getattr(equilibrium.source, "well", None)
         if well is None or report is None:
             continue
+        if report.grid.kind != "line" and not resolved(report.grid, well):
+            thin += 1
+            continue
         mesh = _line_well(ctx, well) if report.grid.kind == "line" else _region_well(ctx, report.grid, well)
         if mesh is not None and mesh.n_points:
             result.append((equilibrium, mesh))
+    if thin:
+        ctx.note(f"wells: {thin} wells span fewer than {MIN_SPAN} scan cells across and are not "
+                 "drawn (a surface of them would be a ragged flake); a finer search-box spacing "
+                 "resolves them.")
     ctx.made["wells"] = result
     return result
+
+
+MIN_SPAN = 3  # scan cells a drawn well spans along each axis of its grid
+
+
+def resolved(grid, well) -> bool:
+    """Whether the scan grid resolves the well: it spans MIN_SPAN cells along every axis."""
+    mask = np.asarray(well.cells, bool).reshape(tuple(int(n) for n in grid.shape))
+    if not mask.any():
+        return False
+    spans = [np.ptp(np.flatnonzero(mask.any(axis=tuple(a for a in range(mask.ndim) if a != k)))) + 1
+             for k in range(mask.ndim)]
+    return min(spans) >= MIN_SPAN
 
 
 def _line_well(ctx, well):
@@ -77,7 +98,9 @@ def meshes(ctx) -> dict:
 def draw(plotter, ctx, legend) -> None:
     wells = well_meshes(ctx)
     if not wells:
-        if ctx.trap_report is not None and any(e.kind == "stable" for e in ctx.equilibria):
+        thin_noted = any(note.startswith("wells:") for note in ctx.notes)
+        if (ctx.trap_report is not None and not thin_noted
+                and any(e.kind == "stable" for e in ctx.equilibria)):
             ctx.note("wells: the stable equilibria have no well extent in the trap report.")
         return
     for _, mesh in wells:
