@@ -11,6 +11,8 @@ from typing import NamedTuple, Protocol
 
 import numpy as np
 
+from trapscape.scene.shapes.axes import intent_axes
+
 
 class Dim(NamedTuple):
     """One dimension of a shape: its key in a scene file and its kind, which says how it is read
@@ -239,3 +241,9 @@ class BaseShape:
     def reference_point(self, part) -> np.ndarray:
         """Body point (3,) torques are taken about: the body origin (a primitive's centre)."""
         return np.zeros(3)
+
+    def intent_axes(self, part) -> dict:
+        """{"axial" | "diametral" | "thickness": unit body vector (3,)} for the magnetisation
+        intents this part's shape decides (here from its tessellation's principal axes; an
+        intent the shape leaves open is missing)."""
+        return intent_axes(*self.tessellation(part))

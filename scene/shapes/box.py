@@ -33,6 +33,10 @@ class Box(BaseShape):
         """max over the corners of d . x, (K,) m (a box is the hull of its corners)."""
         return (self.corners(part) @ as_directions(directions).T).max(axis=0)
 
+    def intent_axes(self, part) -> dict:
+        """Thickness along the shortest edge (the first of equal ones); a block has no axis."""
+        return {"thickness": np.eye(3)[int(np.argmin(part.dims))]}
+
     def smallest(self, part) -> float:
         return float(min(part.dims))
 

@@ -1,0 +1,182 @@
+"""The closed bodies of a CAD export: a multi-body mesh file split by connected component, a 3MF
+file by object, a STEP file by solid (step.py). Numbers stay in the file's unit here; the unit is
+decided once for the whole file (units.py)."""
+from __future__ import annotations
+
+import re
+import xml.etree.ElementTree as ElementTree
+import zipfile
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from trapscape.scene.errors import SceneError
+from trapscape.scene.files import MAX_MESH_BYTES, regular_file
+from trapscape.scene.meshes import REPAIR_HINT, _3mf_transform, _short, _tag
+from trapscape.scene.shapes.meshops import mesh_volume
+from trapscape.scene.units import METRES_PER_3MF_UNIT
+
+MESH_SUFFIXES = (".stl", ".obj", ".ply", ".3mf")
+STEP_SUFFIXES = (".step", ".stp")
+MAX_BODIES = 2000  # more bodies than an assembly we model; bounds the pairwise checks
+
+
+@dataclass
+class Body:
+    """One closed body: vertices (V, 3) in metres once `scale` is applied, outward faces."""
+
+    name: str
+    vertices: np.ndarray
+    faces: np.ndarray
+    source: str  # the file it came from, as the user named it
+    exact_volume: float | None = None  # m^3 from the CAD solid (STEP), else None
+
+
+@dataclass
+class FileBodies:
+    bodies: list
+    metres_per_unit: float | None  # what the file says; None: the file does not say
+    unit_source: str  # "the file's LENGTH_UNIT", "the 3MF unit attribute", ""
+
+
+def read_bodies(path: Path, shown: str) -> FileBodies:
+    """The bodies of one CAD file, each closed and outward-oriented (a SceneError otherwise)."""
+    suffix = path.suffix.lower()
+    if suffix not in MESH_SUFFIXES + STEP_SUFFIXES:
+        raise SceneError(f"{shown}: not a CAD export trapscape imports; export the assembly as "
+                         f"STEP, 3MF, STL, OBJ or PLY.")
+    if not path.exists():
+        raise SceneError(f"{shown}: file not found; check the path.")
+    regular_file(path, f"{shown}: the file", "give a CAD export file or a folder of them")
+    if path.stat().st_size > MAX_MESH_BYTES:
+        raise SceneError(f"{shown} is larger than {MAX_MESH_BYTES >> 20} MB; export the magnets "
+                         f"alone or with coarser tessellation.")
+    if path.stat().st_size == 0:
+        raise SceneError(f"{shown} is empty (0 bytes); export the assembly again.")
+    if suffix in STEP_SUFFIXES:
+        from trapscape.scene.cad.step import read_step
+
+        return read_step(path, shown)
+    if suffix == ".3mf":
+        return _read_3mf(path, shown)
+    return FileBodies(_split(_load_mesh(path, shown), path.stem, shown), None, "")
+
+
+def _load_mesh(path: Path, shown: str):
+    import trimesh
+
+    try:
+        loaded = trimesh.load(str(path), file_type=path.suffix.lower()[1:], force="mesh",
+                              process=True)
+    except Exception as error:  # any reader failure is the file's fault, not ours
+        raise SceneError(f"{shown}: cannot read it ({_short(error)}); export it again from "
+                         f"CAD.") from None
+    if not isinstance(loaded, trimesh.Trimesh) or len(loaded.faces) == 0:
+        raise SceneError(f"{shown}: no triangles found in it (damaged, or not that format); "
+                         f"export the solid bodies again.")
+    return loaded
+
+
+def _split(mesh, stem: str, shown: str, names=None) -> list:
+    """One Body per connected component, ordered by position (x, then y, then z) so the names
+    stem-1, stem-2, ... are the same on every run."""
+    pieces = mesh.split(only_watertight=False)
+    if len(pieces) > MAX_BODIES:
+        raise SceneError(f"{shown} holds {len(pieces)} bodies, more than {MAX_BODIES}; export "
+                         f"the magnets alone.")
+    pieces = sorted(pieces, key=lambda p: tuple(np.round(p.bounds.mean(axis=0), 9)))
+    bodies = []
+    for k, piece in enumerate(pieces, start=1):
+        name = names or (stem if len(pieces) == 1 else f"{stem}-{k}")
+        if names and len(pieces) > 1:
+            name = f"{names}-{k}"
+        bodies.append(closed_body(piece, name, shown))
+    return bodies
+
+
+def closed_body(mesh, name: str, shown: str, exact_volume=None) -> Body:
+    """A Body from a trimesh piece, or a SceneError (one sentence) when it is open."""
+    if not mesh.is_watertight or not mesh.is_winding_consistent:
+        raise SceneError(f"{shown}: body '{name}' is not closed (it has holes, open edges or "
+                         f"faces wound both ways, so it has no inside); {REPAIR_HINT}.")
+    vertices = np.asarray(mesh.vertices, float)
+    faces = np.asarray(mesh.faces, np.int64)
+    volume = mesh_volume(vertices, faces)
+    if volume == 0.0:
+        raise SceneError(f"{shown}: body '{name}' encloses zero volume; export solids, not "
+                         f"surfaces.")
+    if volume < 0:
+        faces = faces[:, ::-1].copy()  # inside-out: reverse every face (exact when closed)
+    return Body(name, vertices, faces, shown, exact_volume)
+
+
+def _read_3mf(path: Path, shown: str) -> FileBodies:
+    """Each build item's object (with its components) is a body, named by the object's name
+    attribute (3MF Core Specification 1.x); a multi-body object is split by component."""
+    import trimesh
+
+    try:
+        with zipfile.ZipFile(path) as package:
+            names = [n for n in package.namelist() if n.lower().endswith(".model")]
+            if not names:
+                raise ValueError("no 3D model part in the package")
+            if package.getinfo(names[0]).file_size > MAX_MESH_BYTES:
+                raise ValueError(f"its model unpacks to more than {MAX_MESH_BYTES >> 20} MB")
+            root = ElementTree.fromstring(package.read(names[0]))
+        unit = root.get("unit", "millimeter")
+        if unit not in METRES_PER_3MF_UNIT:
+            raise ValueError(f"unknown unit {unit!r}")
+        items = _3mf_items(root)
+    except (zipfile.BadZipFile, ElementTree.ParseError, ValueError, KeyError, IndexError,
+            OSError) as error:
+        raise SceneError(f"{shown}: cannot read it as 3MF ({_short(error)}); export it again "
+                         f"from CAD.") from None
+    bodies = []
+    for k, (label, soup) in enumerate(items, start=1):
+        mesh = trimesh.Trimesh(vertices=soup.reshape(-1, 3),
+                               faces=np.arange(len(soup) * 3).reshape(-1, 3), process=True)
+        bodies.extend(_split(mesh, path.stem, shown, names=label or f"{path.stem}-{k}"))
+    unit_word = "the 3MF unit attribute" if root.get("unit") else "the 3MF default (millimetre)"
+    return FileBodies(bodies, METRES_PER_3MF_UNIT[unit], unit_word)
+
+
+def _3mf_items(root) -> list:
+    """[(object name, triangle soup (T, 3, 3))] per build item."""
+    objects = {e.get("id"): e for e in root.iter() if _tag(e) == "object"}
+
+    def triangles(object_id, transform, depth=0):
+        if depth > 16:
+            raise ValueError("components nest too deeply")
+        pieces = []
+        for child in objects[object_id]:
+            if _tag(child) == "mesh":
+                vertices = np.array([[float(v.get(a)) for a in "xyz"] for v in child.iter()
+                                     if _tag(v) == "vertex"])
+                faces = np.array([[int(t.get(a)) for a in ("v1", "v2", "v3")]
+                                  for t in child.iter() if _tag(t) == "triangle"], np.int64)
+                if len(vertices) == 0 or len(faces) == 0 or faces.max() >= len(vertices):
+                    raise ValueError("a mesh object without valid triangles")
+                pieces.append((vertices @ transform[:3, :3].T + transform[:3, 3])[faces])
+            elif _tag(child) == "components":
+                for component in child:
+                    inner = transform @ _3mf_transform(component.get("transform"))
+                    pieces.extend(triangles(component.get("objectid"), inner, depth + 1))
+        return pieces
+
+    items = []
+    for item in root.iter():
+        if _tag(item) == "item":
+            found = triangles(item.get("objectid"), _3mf_transform(item.get("transform")))
+            if found:
+                items.append((clean_name(objects[item.get("objectid")].get("name", "")),
+                              np.vstack(found)))
+    if not items:
+        raise ValueError("no build items with triangles")
+    return items
+
+
+def clean_name(text: str) -> str:
+    """A part name from a CAD label: letters, digits, '-', '_' and '.', no leading or trailing
+    separators ('' when nothing is left)."""
+    return re.sub(r"[^A-Za-z0-9_.-]+", "-", text.strip()).strip("-.")[:60]
