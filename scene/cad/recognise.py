@@ -16,6 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.optimize import minimize_scalar
 
+from trapscape.scene.patterns import axis_angle_matrix
 from trapscape.scene.shapes.axes import positive, principal_axes
 from trapscape.scene.shapes.frames import frame_along
 from trapscape.scene.shapes.meshops import mesh_sdf, mesh_volume
@@ -66,10 +67,15 @@ def recognise(vertices, faces, exact_volume=None) -> Primitive | None:
     corners = v[f]
     normals = np.cross(corners[:, 1] - corners[:, 0], corners[:, 2] - corners[:, 0])
     normals /= np.maximum(np.linalg.norm(normals, axis=1), 1e-300)[:, None]
-    for k, axis in enumerate(directions):
+    wall_sets = []
+    for axis in directions:
         walls = np.zeros(len(v), bool)
         walls[f[np.abs(normals @ axis) < 0.5].ravel()] = True
-        found.extend(_round(v, centroid, axis, axes, walls, arcs=k < 3))
+        wall_sets.append(walls)
+        found.extend(_round(v, centroid, axis, axes, walls, arcs=False))
+    if not _passing(found, volume, size):  # arcs cost a search: only when nothing else fits
+        for k in range(3):
+            found.extend(_round(v, centroid, directions[k], axes, wall_sets[k], arcs=True))
     ranked = []
     for shape, dims, position, rotation, distance in (c for c in found if c is not None):
         deviation = abs(_volume(shape, dims) - volume) / volume
@@ -82,6 +88,11 @@ def recognise(vertices, faces, exact_volume=None) -> Primitive | None:
         if cover <= COVER_TOLERANCE * size:
             return Primitive(shape, dims, position, rotation, deviation, distance, cover)
     return None
+
+
+def _passing(found, volume, size) -> bool:
+    return any(c is not None and c[-1] <= SURFACE_TOLERANCE * size
+               and abs(_volume(c[0], c[1]) - volume) <= VOLUME_TOLERANCE * volume for c in found)
 
 
 def _cover(v, f, shape, dims, position, rotation) -> float:
@@ -159,7 +170,7 @@ def _round(v, centroid, axis, axes, walls, arcs: bool) -> list:
     on a line of symmetry through the centroid. Every vertex must lie on a cap or a wall, and
     every vertex of a wall facet (`walls`) on a wall: an extruded mesh has all its vertices on
     the caps."""
-    rotation = frame_along(axis)
+    rotation = _tilt(axis)
     local = (v - centroid) @ rotation
     z = local[:, 2]
     low, high = z.min(), z.max()
@@ -168,21 +179,35 @@ def _round(v, centroid, axis, axes, walls, arcs: bool) -> list:
     position = centroid + axis * (low + high) / 2.0
     r = np.hypot(local[:, 0], local[:, 1])
     outer, inner = float(r.max()), float(r.min())
-    found = [("cylinder", (2 * outer, height), position, rotation,
-              float(np.minimum(caps, np.abs(r - outer)).max()))]
     size = float(np.ptp(v, axis=0).max())
-    if inner > SURFACE_TOLERANCE * size:
-        found.append(("ring", (2 * outer, 2 * inner, height), position, rotation,
-                      float(np.minimum(caps, np.minimum(np.abs(r - outer), np.abs(r - inner)))
-                            .max())))
-    if arcs:  # an extruded mesh's vertices all lie on the caps: only the volume tells
+    if arcs:
+        found = []
         for k in range(3):
             across = axes[:, k] - (axes[:, k] @ axis) * axis
             if np.linalg.norm(across) > 0.5:
                 for sign in (1.0, -1.0):
                     found.append(_arc(local, caps, walls, rotation, axis, position,
                                       sign * across / np.linalg.norm(across)))
+        return found
+    on_wall = np.abs(r - outer)
+    found = [("cylinder", (2 * outer, height), position, rotation,
+              float(max(np.minimum(caps, on_wall).max(), on_wall[walls].max(initial=0.0))))]
+    if inner > SURFACE_TOLERANCE * size:
+        on_wall = np.minimum(on_wall, np.abs(r - inner))
+        found.append(("ring", (2 * outer, 2 * inner, height), position, rotation,
+                      float(max(np.minimum(caps, on_wall).max(),
+                                on_wall[walls].max(initial=0.0)))))
     return found
+
+
+def _tilt(axis) -> np.ndarray:
+    """The rotation turning body z onto the axis about z x axis (no turn about z): the
+    smallest angles to write for a round part."""
+    z = np.array([0.0, 0.0, 1.0])
+    turn = np.cross(z, axis)
+    if np.linalg.norm(turn) < 1e-12:
+        return np.eye(3) if axis[2] > 0 else frame_along(axis)
+    return axis_angle_matrix(turn, float(np.arccos(np.clip(axis[2], -1.0, 1.0))))
 
 
 def _arc(local, caps, walls, rotation, axis, position, middle):
