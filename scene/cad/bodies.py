@@ -81,7 +81,7 @@ def _load_mesh(path: Path, shown: str):
 def _split(mesh, stem: str, shown: str, names=None) -> list:
     """One Body per connected component, ordered by position (x, then y, then z) so the names
     stem-1, stem-2, ... are the same on every run."""
-    pieces = mesh.split(only_watertight=False)
+    pieces = _components(mesh)
     if len(pieces) > MAX_BODIES:
         raise SceneError(f"{shown} holds {len(pieces)} bodies, more than {MAX_BODIES}; export "
                          f"the magnets alone.")
@@ -93,6 +93,28 @@ def _split(mesh, stem: str, shown: str, names=None) -> list:
             name = f"{names}-{k}"
         bodies.append(closed_body(piece, name, shown))
     return bodies
+
+
+def _components(mesh) -> list:
+    """The connected pieces of a mesh (faces joined through shared vertices), found with
+    scipy's graph components (trimesh's split needs networkx for open meshes)."""
+    import trimesh
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
+    faces = np.asarray(mesh.faces, np.int64)
+    edges = np.vstack([faces[:, [0, 1]], faces[:, [1, 2]]])
+    count = len(mesh.vertices)
+    graph = coo_matrix((np.ones(len(edges)), (edges[:, 0], edges[:, 1])), shape=(count, count))
+    _, labels = connected_components(graph, directed=False)
+    face_labels = labels[faces[:, 0]]
+    pieces = []
+    for label in np.unique(face_labels):
+        chosen = faces[face_labels == label]
+        used, inverse = np.unique(chosen, return_inverse=True)
+        pieces.append(trimesh.Trimesh(vertices=np.asarray(mesh.vertices)[used],
+                                      faces=inverse.reshape(-1, 3), process=False))
+    return pieces
 
 
 def closed_body(mesh, name: str, shown: str, exact_volume=None) -> Body:

@@ -178,6 +178,13 @@ def _round(v, centroid, axis, axes, walls, arcs: bool) -> list:
     caps = np.minimum(np.abs(z - low), np.abs(z - high))
     position = centroid + axis * (low + high) / 2.0
     r = np.hypot(local[:, 0], local[:, 1])
+    outer = float(r.max())
+    rim = walls & (np.abs(r - outer) < 0.05 * outer)
+    if rim.sum() >= 3:  # a tessellation's centroid is a little off the axis: fit the rim
+        centre = _circle_centre(local[rim, :2])
+        local[:, :2] -= centre
+        position = position + rotation @ np.array([centre[0], centre[1], 0.0])
+        r = np.hypot(local[:, 0], local[:, 1])
     outer, inner = float(r.max()), float(r.min())
     size = float(np.ptp(v, axis=0).max())
     if arcs:
@@ -198,6 +205,14 @@ def _round(v, centroid, axis, axes, walls, arcs: bool) -> list:
                       float(max(np.minimum(caps, on_wall).max(),
                                 on_wall[walls].max(initial=0.0)))))
     return found
+
+
+def _circle_centre(points) -> np.ndarray:
+    """Least-squares circle centre (2,) of points (K, 2): x^2 + y^2 = 2 a x + 2 b y + c
+    (I. Kasa, IEEE Trans. Instrum. Meas. 25 (1976) 8-14)."""
+    matrix = np.column_stack([2.0 * points, np.ones(len(points))])
+    solution = np.linalg.lstsq(matrix, (points ** 2).sum(axis=1), rcond=None)[0]
+    return solution[:2]
 
 
 def _tilt(axis) -> np.ndarray:
