@@ -3,41 +3,20 @@ file by object, a STEP file by solid (step.py). Numbers stay in the file's unit 
 decided once for the whole file (units.py)."""
 from __future__ import annotations
 
-import re
 import xml.etree.ElementTree as ElementTree
 import zipfile
-from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
+from trapscape.scene.cad.body import MAX_BODIES, FileBodies, clean_name, closed_body
 from trapscape.scene.errors import SceneError
 from trapscape.scene.files import MAX_MESH_BYTES, regular_file
-from trapscape.scene.meshes import REPAIR_HINT, _3mf_transform, _short, _tag
-from trapscape.scene.shapes.meshops import mesh_volume
+from trapscape.scene.meshes import MESH_ELEMENT, _3mf_transform, _short, _tag
 from trapscape.scene.units import METRES_PER_3MF_UNIT
 
 MESH_SUFFIXES = (".stl", ".obj", ".ply", ".3mf")
 STEP_SUFFIXES = (".step", ".stp")
-MAX_BODIES = 2000  # more bodies than an assembly we model; bounds the pairwise checks
-
-
-@dataclass
-class Body:
-    """One closed body: vertices (V, 3) in metres once `scale` is applied, outward faces."""
-
-    name: str
-    vertices: np.ndarray
-    faces: np.ndarray
-    source: str  # the file it came from, as the user named it
-    exact_volume: float | None = None  # m^3 from the CAD solid (STEP), else None
-
-
-@dataclass
-class FileBodies:
-    bodies: list
-    metres_per_unit: float | None  # what the file says; None: the file does not say
-    unit_source: str  # "the file's LENGTH_UNIT", "the 3MF unit attribute", ""
 
 
 def read_bodies(path: Path, shown: str) -> FileBodies:
@@ -117,22 +96,6 @@ def _components(mesh) -> list:
     return pieces
 
 
-def closed_body(mesh, name: str, shown: str, exact_volume=None) -> Body:
-    """A Body from a trimesh piece, or a SceneError (one sentence) when it is open."""
-    if not mesh.is_watertight or not mesh.is_winding_consistent:
-        raise SceneError(f"{shown}: body '{name}' is not closed (it has holes, open edges or "
-                         f"faces wound both ways, so it has no inside); {REPAIR_HINT}.")
-    vertices = np.asarray(mesh.vertices, float)
-    faces = np.asarray(mesh.faces, np.int64)
-    volume = mesh_volume(vertices, faces)
-    if volume == 0.0:
-        raise SceneError(f"{shown}: body '{name}' encloses zero volume; export solids, not "
-                         f"surfaces.")
-    if volume < 0:
-        faces = faces[:, ::-1].copy()  # inside-out: reverse every face (exact when closed)
-    return Body(name, vertices, faces, shown, exact_volume)
-
-
 def _read_3mf(path: Path, shown: str) -> FileBodies:
     """Each build item's object (with its components) is a body, named by the object's name
     attribute (3MF Core Specification 1.x); a multi-body object is split by component."""
@@ -172,7 +135,7 @@ def _3mf_items(root) -> list:
             raise ValueError("components nest too deeply")
         pieces = []
         for child in objects[object_id]:
-            if _tag(child) == "mesh":
+            if _tag(child) == MESH_ELEMENT:
                 vertices = np.array([[float(v.get(a)) for a in "xyz"] for v in child.iter()
                                      if _tag(v) == "vertex"])
                 faces = np.array([[int(t.get(a)) for a in ("v1", "v2", "v3")]
@@ -196,9 +159,3 @@ def _3mf_items(root) -> list:
     if not items:
         raise ValueError("no build items with triangles")
     return items
-
-
-def clean_name(text: str) -> str:
-    """A part name from a CAD label: letters, digits, '-', '_' and '.', no leading or trailing
-    separators ('' when nothing is left)."""
-    return re.sub(r"[^A-Za-z0-9_.-]+", "-", text.strip()).strip("-.")[:60]

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from types import SimpleNamespace
 
 import numpy as np
 from scipy.optimize import minimize_scalar
@@ -98,8 +99,6 @@ def _passing(found, volume, size) -> bool:
 def _cover(v, f, shape, dims, position, rotation) -> float:
     """The largest distance from the primitive's surface (its tessellation's vertices, which
     lie on it) to the body's facets, m: catches a flat or a notch that no body vertex shows."""
-    from types import SimpleNamespace
-
     from trapscape.scene.shapes import SHAPES
 
     points, _ = SHAPES[shape].tessellation(SimpleNamespace(dims=dims), 64)
@@ -107,16 +106,9 @@ def _cover(v, f, shape, dims, position, rotation) -> float:
 
 
 def _volume(shape, dims) -> float:
-    """Closed-form volumes (textbook)."""
-    if shape == "sphere":
-        return math.pi * dims[0] ** 3 / 6.0
-    if shape == "box":
-        return float(np.prod(dims))
-    if shape == "cylinder":
-        return math.pi * dims[0] ** 2 * dims[1] / 4.0
-    if shape == "ring":
-        return math.pi * (dims[0] ** 2 - dims[1] ** 2) * dims[2] / 4.0
-    return dims[3] / 2.0 * ((dims[0] / 2) ** 2 - (dims[1] / 2) ** 2) * dims[2]  # arc
+    from trapscape.scene.shapes import SHAPES
+
+    return SHAPES[shape].volume(SimpleNamespace(dims=dims))
 
 
 def _directions(v, f, axes) -> list:

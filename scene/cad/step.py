@@ -10,7 +10,7 @@ from pathlib import Path
 
 import numpy as np
 
-from trapscape.scene.cad.bodies import MAX_BODIES, Body, FileBodies, clean_name, closed_body
+from trapscape.scene.cad.body import MAX_BODIES, FileBodies, clean_name, closed_body
 from trapscape.scene.errors import SceneError
 
 ELEMENTS_PER_TURN = 48  # gmsh Mesh.MeshSizeFromCurvature: facets per full turn of a curved face
@@ -21,8 +21,10 @@ def read_step(path: Path, shown: str) -> FileBodies:
     """The solids of a STEP file in metres, named by their product names."""
     try:
         import gmsh
-    except ImportError:
-        raise SceneError(f"{shown}: reading STEP needs gmsh; install the extra with "
+    except (ImportError, OSError) as error:  # OSError: its wheel's X11/OpenGL libraries missing
+        missing = "" if isinstance(error, ImportError) else f" (its library failed to load: " \
+            f"{str(error)[:80]}; install libglu1-mesa, libxcursor1, libxft2, libxinerama1)"
+        raise SceneError(f"{shown}: reading STEP needs gmsh{missing}; install the extra with "
                          f"pip install -e '.[cad]' (or export the assembly as 3MF or STL).") \
             from None
     import trimesh

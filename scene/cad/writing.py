@@ -7,6 +7,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from trapscape.scene.shapes import SHAPES
+
 SCENE_UNIT = 1e-3  # metres per unit of the written scene (millimetres)
 RESOLUTION = 1e-6  # written lengths round to this fraction of the part's size (angles: 360)
 
@@ -98,9 +100,9 @@ def _magnet(part) -> list:
     if p is None:
         lines += ["shape = \"mesh\"", f"file = \"{part.mesh_file}\"", "file_units = \"mm\""]
     else:
-        size = [d / SCENE_UNIT for d in p.dims]
-        if p.shape == "arc":
-            size[3] = math.degrees(p.dims[3])
+        kinds = [dim.kind for dim in SHAPES[p.shape].dims]
+        size = [math.degrees(d) if kind == "angle" else d / SCENE_UNIT
+                for d, kind in zip(p.dims, kinds)]
         scale = max(size[:3])
         lines += [f"shape = \"{p.shape}\"", f"size = {_vector(size, scale)}",
                   f"position = {_vector(np.asarray(p.position) / SCENE_UNIT, scale)}",

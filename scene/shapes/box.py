@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.scene.shapes.axes import EQUAL
 from trapscape.scene.shapes.base import BaseShape, Dim, as_directions, as_points
 from trapscape.scene.shapes.frames import box_corners
 from trapscape.scene.shapes.patches import box_faces
@@ -34,7 +35,11 @@ class Box(BaseShape):
         return (self.corners(part) @ as_directions(directions).T).max(axis=0)
 
     def intent_axes(self, part) -> dict:
-        """Thickness along the shortest edge (the first of equal ones); a block has no axis."""
+        """Thickness along the shortest edge, unless two are shortest (a cube leaves it open);
+        a block has no axis."""
+        edges = np.sort(part.dims)
+        if edges[1] - edges[0] <= EQUAL * edges[2]:
+            return {}
         return {"thickness": np.eye(3)[int(np.argmin(part.dims))]}
 
     def smallest(self, part) -> float:
