@@ -143,7 +143,8 @@ def _part(body, row, defaults, result) -> Part:
     wanted = (row.magnetization if row is not None and row.magnetization else None) or \
         defaults.get("magnetization")
     polarity = row.polarity if row is not None else "+"
-    part = Part(body.name, body, primitive, grade or DEFAULT_GRADE, grade is None)
+    part = Part(body.name, body, primitive, grade or DEFAULT_GRADE,
+                not (row is not None and row.grade))
     _magnetization(part, wanted, polarity, row)
     return part
 

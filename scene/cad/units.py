@@ -38,7 +38,7 @@ def decide_unit(raw_sizes, stated, stated_by: str, option: str | None, shown: st
         return METRES_PER_UNIT[unit], note, None
     others = ", ".join(f"{UNIT_WORDS[u]} ({middle * METRES_PER_UNIT[u] * 1e3:.3g} mm)"
                        for u in ranked[1:] if u in fits)
-    warning = (f"UNIT GUESSED for {shown}: it states no unit and read as {UNIT_WORDS[unit]} its "
+    warning = (f"UNIT GUESSED for {shown}: it states no unit; read as {UNIT_WORDS[unit]}, its "
                f"median body is {middle * METRES_PER_UNIT[unit] * 1e3:.3g} mm across"
                + (f", but {others} would be plausible too" if others else
                   ", yet no unit makes every body a plausible magnet size")
