@@ -68,15 +68,17 @@ def recognise(vertices, faces, exact_volume=None) -> Primitive | None:
     corners = v[f]
     normals = np.cross(corners[:, 1] - corners[:, 0], corners[:, 2] - corners[:, 0])
     normals /= np.maximum(np.linalg.norm(normals, axis=1), 1e-300)[:, None]
-    wall_sets = []
+    def walls(axis):
+        on = np.zeros(len(v), bool)
+        on[f[np.abs(normals @ axis) < 0.5].ravel()] = True
+        return on
+
     for axis in directions:
-        walls = np.zeros(len(v), bool)
-        walls[f[np.abs(normals @ axis) < 0.5].ravel()] = True
-        wall_sets.append(walls)
-        found.extend(_round(v, centroid, axis, axes, walls, arcs=False))
+        found.extend(_round(v, centroid, axis, axes, walls(axis), arcs=False))
     if not _passing(found, volume, size):  # arcs cost a search: only when nothing else fits
         for k in range(3):
-            found.extend(_round(v, centroid, directions[k], axes, wall_sets[k], arcs=True))
+            axis = positive(axes[:, k])
+            found.extend(_round(v, centroid, axis, axes, walls(axis), arcs=True))
     ranked = []
     for shape, dims, position, rotation, distance in (c for c in found if c is not None):
         deviation = abs(_volume(shape, dims) - volume) / volume
@@ -112,8 +114,8 @@ def _volume(shape, dims) -> float:
 
 
 def _directions(v, f, axes) -> list:
-    """Principal axes and the normals of the three largest flat faces, signed by `positive`,
-    without repeats."""
+    """The normals of the three largest flat faces and the principal axes, signed by
+    `positive`, without repeats."""
     corners = v[f]
     cross = np.cross(corners[:, 1] - corners[:, 0], corners[:, 2] - corners[:, 0])
     area = np.linalg.norm(cross, axis=1)
@@ -122,10 +124,11 @@ def _directions(v, f, axes) -> list:
     _, inverse = np.unique(np.round(normals, 3), axis=0, return_inverse=True)
     inverse = inverse.ravel()
     totals = np.bincount(inverse, weights=area[keep])
-    found = [positive(axes[:, k]) for k in range(3)]
+    found = []  # flat faces' normals first: exact, where a tessellation's axes are not quite
     for k in np.argsort(totals)[::-1][:3]:
         members = inverse == k  # the cluster's area-weighted mean normal, not its rounded key
         found.append(positive((normals[members] * area[keep][members, None]).sum(axis=0)))
+    found += [positive(axes[:, k]) for k in range(3)]
     unique = []
     for d in found:
         if all(abs(abs(d @ u) - 1.0) > 1e-9 for u in unique):
