@@ -138,6 +138,10 @@ class Shape(Protocol):
     def reference_point(self, part) -> np.ndarray:
         """(3,) body point, m, that torques are taken about."""
 
+    def intent_axes(self, part) -> dict:
+        """{"axial" | "diametral" | "thickness": unit body vector (3,)} the shape decides
+        (magnetization = "axial" etc. in a scene; scene.shapes.axes)."""
+
 
 def check_positive(shape, values, zero=None) -> None:
     """Raise DimError for the first value that is not positive. zero: {dim name: None (zero is

@@ -242,3 +242,24 @@ def test_a_multi_body_mesh_part_points_to_import_which_splits_it(tmp_path):
     magnets = load_scene(tmp_path / "s.toml").magnets
     assert [m.shape for m in magnets] == ["box", "box"]
     assert [m.name for m in magnets] == ["two-1", "two-2"]
+
+
+def test_a_body_that_is_no_primitive_is_written_as_a_mesh_where_it_was(tmp_path):
+    import trimesh
+
+    from trapscape.scene.shapes import shape_of
+
+    cone = trimesh.creation.cone(radius=4, height=6, sections=48)
+    cone.apply_translation([20, 5, 0])
+    disc = trimesh.creation.cylinder(radius=3, height=4, sections=48)
+    make_assembly.write_3mf(tmp_path / "mix.3mf", {"cone": cone, "disc": disc})
+    assert run_import(tmp_path / "mix.3mf", "-o", tmp_path / "mix.toml", "--set",
+                      "magnetization=+z") == 0
+    assert (tmp_path / "mix-meshes" / "cone.stl").is_file()
+    parts = {m.name: m for m in load_scene(tmp_path / "mix.toml").magnets}
+    assert parts["cone"].shape == "mesh" and parts["disc"].shape == "cylinder"
+    assert shape_of(parts["cone"]).volume(parts["cone"]) == pytest.approx(cone.volume * 1e-9,
+                                                                           rel=1e-9)
+    lower, upper = shape_of(parts["cone"]).bounds(parts["cone"])
+    assert (lower + upper) / 2 == pytest.approx(cone.bounds.mean(axis=0) * 1e-3, abs=1e-9)
+    assert parts["cone"].north_world == pytest.approx([0, 0, 1])
