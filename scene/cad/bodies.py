@@ -57,21 +57,16 @@ def _load_mesh(path: Path, shown: str):
     return loaded
 
 
-def _split(mesh, stem: str, shown: str, names=None) -> list:
+def _split(mesh, name: str, shown: str) -> list:
     """One Body per connected component, ordered by position (x, then y, then z) so the names
-    stem-1, stem-2, ... are the same on every run."""
+    name-1, name-2, ... are the same on every run (a single body keeps the name)."""
     pieces = _components(mesh)
     if len(pieces) > MAX_BODIES:
         raise SceneError(f"{shown} holds {len(pieces)} bodies, more than {MAX_BODIES}; export "
                          f"the magnets alone.")
     pieces = sorted(pieces, key=lambda p: tuple(np.round(p.bounds.mean(axis=0), 9)))
-    bodies = []
-    for k, piece in enumerate(pieces, start=1):
-        name = names or (stem if len(pieces) == 1 else f"{stem}-{k}")
-        if names and len(pieces) > 1:
-            name = f"{names}-{k}"
-        bodies.append(closed_body(piece, name, shown))
-    return bodies
+    return [closed_body(piece, name if len(pieces) == 1 else f"{name}-{k}", shown)
+            for k, piece in enumerate(pieces, start=1)]
 
 
 def _components(mesh) -> list:
@@ -121,7 +116,7 @@ def _read_3mf(path: Path, shown: str) -> FileBodies:
     for k, (label, soup) in enumerate(items, start=1):
         mesh = trimesh.Trimesh(vertices=soup.reshape(-1, 3),
                                faces=np.arange(len(soup) * 3).reshape(-1, 3), process=True)
-        bodies.extend(_split(mesh, path.stem, shown, names=label or f"{path.stem}-{k}"))
+        bodies.extend(_split(mesh, label or f"{path.stem}-{k}", shown))
     unit_word = "the 3MF unit attribute" if root.get("unit") else "the 3MF default (millimetre)"
     return FileBodies(bodies, METRES_PER_3MF_UNIT[unit], unit_word)
 

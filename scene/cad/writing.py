@@ -71,8 +71,8 @@ def summary_lines(parts) -> list:
     if recognised:
         worst_volume = max(recognised, key=lambda p: p.primitive.volume_deviation)
         worst_surface = max(recognised, key=lambda p: p.primitive.cover_deviation)
-        lines.append(f"largest deviation: volume {100 * worst_volume.primitive.volume_deviation:.3g}"
-                     f" % ({worst_volume.name}), surface "
+        volume = 100 * worst_volume.primitive.volume_deviation
+        lines.append(f"largest deviation: volume {volume:.3g} % ({worst_volume.name}), surface "
                      f"{worst_surface.primitive.cover_deviation * 1e3:.2g} mm "
                      f"({worst_surface.name}).")
     return lines + [describe(p) for p in parts]
