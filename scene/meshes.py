@@ -74,8 +74,10 @@ def read_mesh(path: Path, shown: str, scale: float | None, where: str):
     if mesh.body_count > 1:
         warnings.warn(SceneWarning(
             f"{where}: {shown} holds {mesh.body_count} separate closed bodies; they are one part "
-            f"here (one name, one grade, one north). Export each magnet as its own file to give "
-            f"them their own."), stacklevel=2)
+            f"here (one name, one grade, one north). To give each its own, run `trapscape import "
+            f"{shown} -o parts.toml` (one [[magnet]] per body, with a parts list for grades and "
+            f"directions) and copy its [[magnet]] tables, or export each magnet as its own "
+            f"file."), stacklevel=2)
     vertices = np.asarray(mesh.vertices, float) * scale
     faces = np.array(mesh.faces, dtype=np.int64)
     vertices.setflags(write=False)

@@ -20,12 +20,15 @@ from trapscape.scene.units import unit_scale
 
 MAX_PARTS = 10000  # more parts than any assembly we model; also bounds the pairwise checks
 
-COMMON_KEYS = ("name", "shape", "position", "rotation", "north", "grade", "remanence",
+COMMON_KEYS = ("name", "shape", "position", "rotation", "north", "magnetization", "grade",
+               "remanence",
                "pattern", "method", "cell_size", "density")
 SHAPE_KEYS = {name: shape.keys for name, shape in SHAPES.items()}
 AXIS_WORDS = {f"{sign}{axis}": (1.0 if sign != "-" else -1.0) * np.eye(3)[k]
               for k, axis in enumerate("xyz") for sign in ("+", "-", "")}
 RADIAL = ("radial-out", "radial-in")
+INTENTS = ("axial", "diametral", "thickness")  # found from the shape (scene.shapes.axes)
+INTENT_WORDS = INTENTS + tuple(f"-{word}" for word in INTENTS) + RADIAL
 PATTERN_KEYS = {
     "circular": ("kind", "count", "axis", "center", "polarity"),
     "linear": ("kind", "count", "step", "polarity"),
@@ -65,7 +68,7 @@ def _read_entry(ctx, entry, index, grades, base_dir, mesh_files, meshes) -> list
         vertices, faces = _mesh(ctx, entry, where, base_dir, mesh_files, meshes)
     else:
         dims, vertices, faces = _dims(ctx, entry, SHAPES[shape], where), None, None
-    north, radial = _north(ctx, entry, shape, where)
+    north, radial = _north(ctx, entry, shape, where, _Solid(dims, vertices, faces))
     remanence, grade, density = _material(ctx, entry, grades, where)
     method = reading.word(entry, "method", where, ("auto", "exact", "dipoles"), default="auto")
     cell_size = reading.number(ctx, entry, "cell_size", where, default=None, length=True,
@@ -172,8 +175,42 @@ def _mesh(ctx, entry, where, base_dir, mesh_files, meshes):
     return meshes[key]
 
 
-def _north(ctx, entry, shape, where):
+class _Solid:
+    """What a shape needs to find its axes before the Magnet exists."""
+
+    def __init__(self, dims, vertices, faces):
+        self.dims, self.mesh_vertices, self.mesh_faces = dims, vertices, faces
+
+
+def _intent(entry, shape, where, solid):
+    """magnetization = "axial" | "diametral" | "thickness" (a leading "-" reverses it) |
+    "radial-out" | "radial-in": (north in the body frame or None, radial word or None)."""
+    key_where = f"{where}, magnetization"
+    if "north" in entry:
+        raise SceneError(f"{where}: both north and magnetization are given; keep one (north is "
+                         f"a direction, magnetization names it by intent such as \"axial\").")
+    value = entry["magnetization"]
+    word = value.strip().lower() if isinstance(value, str) else ""
+    if word not in INTENT_WORDS:
+        hint = did_you_mean(word, list(INTENT_WORDS)) if word else ""
+        raise SceneError(f"{key_where}: {value!r} is not a magnetisation intent{hint}; write "
+                         f"\"axial\", \"diametral\", \"thickness\" (\"-axial\" etc. for the "
+                         f"reverse), \"radial-out\" or \"radial-in\", or give north instead.")
+    if word in RADIAL:
+        return _north(None, {"north": word}, shape, where, solid)
+    sign, intent = (-1.0, word[1:]) if word.startswith("-") else (1.0, word)
+    found = SHAPES[shape].intent_axes(solid)
+    if intent not in found:
+        raise SceneError(f"{key_where}: a {shape} of this shape has no single {intent} direction"
+                         f" (its proportions leave it open); give north = \"+z\" or a vector "
+                         f"instead.")
+    return sign * np.asarray(found[intent], float) + 0.0, None  # + 0.0: no -0 in outputs
+
+
+def _north(ctx, entry, shape, where, solid):
     """(unit north in the body frame or None, radial word or None)."""
+    if "magnetization" in entry:
+        return _intent(entry, shape, where, solid)
     value = entry.get("north", "+z")
     key_where = f"{where}, north"
     if isinstance(value, str):

@@ -22,7 +22,9 @@ COMMANDS = {
     "render": "the 3D view, off-screen to a PNG or in a window",
     "export": "open-format data (.vti, .vtp, .stl) and an offline interactive view (.html)",
     "demo": "the whole job on a bundled sample",
+    "import": "a scene from CAD exports (STEP, 3MF, STL, OBJ, PLY): one magnet per body",
 }
+MODULES = {"import": "import_cad"}  # `import` is a Python keyword
 
 
 class _Parser(argparse.ArgumentParser):
@@ -48,7 +50,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"trapscape {tool_version}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     for name, help_text in COMMANDS.items():
-        module = importlib.import_module(f"trapscape.viewers.commands.{name}")
+        module = importlib.import_module(f"trapscape.viewers.commands.{MODULES.get(name, name)}")
         command_parser = sub.add_parser(
             name, help=help_text, description=help_text, epilog="examples:\n" + module.EXAMPLES,
             formatter_class=argparse.RawDescriptionHelpFormatter)

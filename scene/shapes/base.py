@@ -11,6 +11,8 @@ from typing import NamedTuple, Protocol
 
 import numpy as np
 
+from trapscape.scene.shapes.axes import intent_axes
+
 
 class Dim(NamedTuple):
     """One dimension of a shape: its key in a scene file and its kind, which says how it is read
@@ -136,6 +138,10 @@ class Shape(Protocol):
     def reference_point(self, part) -> np.ndarray:
         """(3,) body point, m, that torques are taken about."""
 
+    def intent_axes(self, part) -> dict:
+        """{"axial" | "diametral" | "thickness": unit body vector (3,)} the shape decides
+        (magnetization = "axial" etc. in a scene; scene.shapes.axes)."""
+
 
 def check_positive(shape, values, zero=None) -> None:
     """Raise DimError for the first value that is not positive. zero: {dim name: None (zero is
@@ -239,3 +245,9 @@ class BaseShape:
     def reference_point(self, part) -> np.ndarray:
         """Body point (3,) torques are taken about: the body origin (a primitive's centre)."""
         return np.zeros(3)
+
+    def intent_axes(self, part) -> dict:
+        """{"axial" | "diametral" | "thickness": unit body vector (3,)} for the magnetisation
+        intents this part's shape decides (here from its tessellation's principal axes; an
+        intent the shape leaves open is missing)."""
+        return intent_axes(*self.tessellation(part))

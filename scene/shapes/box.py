@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.scene.shapes.axes import EQUAL
 from trapscape.scene.shapes.base import BaseShape, Dim, as_directions, as_points
 from trapscape.scene.shapes.frames import box_corners
 from trapscape.scene.shapes.patches import box_faces
@@ -32,6 +33,14 @@ class Box(BaseShape):
     def support(self, part, directions) -> np.ndarray:
         """max over the corners of d . x, (K,) m (a box is the hull of its corners)."""
         return (self.corners(part) @ as_directions(directions).T).max(axis=0)
+
+    def intent_axes(self, part) -> dict:
+        """Thickness along the shortest edge, unless two are shortest (a cube leaves it open);
+        a block has no axis."""
+        edges = np.sort(part.dims)
+        if edges[1] - edges[0] <= EQUAL * edges[2]:
+            return {}
+        return {"thickness": np.eye(3)[int(np.argmin(part.dims))]}
 
     def smallest(self, part) -> float:
         return float(min(part.dims))

@@ -40,6 +40,13 @@ class RoundShape(BaseShape):
             d2 = annular_sector_sdf(p[:, 0], p[:, 1], r_out, r_in, 0.5 * angle)
         return extrude(d2, p[:, 2], height)
 
+    def intent_axes(self, part) -> dict:
+        """Axial is body z (the axis), diametral body x (through an arc's middle), thickness
+        the axis when the height is below the outer diameter, else body x."""
+        _, r_out, height, _ = self.sector(part)
+        z, x = np.array([0.0, 0.0, 1.0]), np.array([1.0, 0.0, 0.0])
+        return {"axial": z, "diametral": x, "thickness": z if height <= 2.0 * r_out else x}
+
     def smallest(self, part) -> float:
         """The smaller of the wall thickness and the height, m."""
         r_in, r_out, height, _ = self.sector(part)

@@ -55,6 +55,10 @@ class Sphere(BaseShape):
     def support(self, part, directions) -> np.ndarray:
         return part.dims[0] / 2.0 * np.linalg.norm(as_directions(directions), axis=1)
 
+    def intent_axes(self, part) -> dict:
+        """A sphere is magnetised across a diameter: body z (turn it with rotation)."""
+        return {"diametral": np.array([0.0, 0.0, 1.0])}
+
     def smallest(self, part) -> float:
         return float(part.dims[0])
 
