@@ -105,7 +105,7 @@ def test_the_known_trap_marker_is_where_the_camera_projects_it(gauge_picture):
 
 def test_picture_is_not_blank_and_has_a_legend(gauge_picture):
     image, _, _, layout = gauge_picture
-    assert not_blank(image) > 0.15
+    assert not_blank(image) > 0.1  # the same floor as every sample's render below
     height = image.shape[0]
     left = int(layout.legend_left)
     top = int(height - (layout.height - layout.title_band))  # display y is up, rows go down
