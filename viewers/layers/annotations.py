@@ -38,6 +38,7 @@ SYMBOL_OUTLINES = {
     "cube": lambda r: [(0.8 * r * np.array([[-1, -1], [1, -1], [1, 1], [-1, 1]]), True)],
     "line": lambda r: [(np.array([[-1.3 * r, 0], [1.3 * r, 0]]), False)],
     "rectangle": lambda r: [(r * np.array([[-1.3, -0.75], [1.3, -0.75], [1.3, 0.75], [-1.3, 0.75]]), True)],
+    "none": lambda r: [],  # a line of text only
 }
 HOLLOW_SYMBOLS = ("ring",)  # drawn as a band between their outlines, not filled
 

@@ -72,8 +72,16 @@ def _face(mesh, direction, centre):
     return mesh
 
 
+MULTIPLE = "\u00d7"  # the times sign before a family's member count
+
+
+def _times(equilibrium) -> str:
+    """' ×6' when the marker stands for a family of six equivalent points, else ''."""
+    return f" {MULTIPLE}{equilibrium.count}" if equilibrium.count > 1 else ""
+
+
 def label_text(equilibrium, unit: str, full: bool, scale: float | None = None) -> str:
-    head = f"{equilibrium.number} {equilibrium.kind}"
+    head = f"{equilibrium.number} {equilibrium.kind}{_times(equilibrium)}"
     if equilibrium.contact:
         head += f", on {equilibrium.contact}"
     if not full:
@@ -114,7 +122,7 @@ def table_rows(ctx) -> list:
     """One line per equilibrium for the picture's table (the firmest first)."""
     rows = []
     for e in ranked(ctx.equilibria):
-        text = f"{e.number} {e.kind} {describe_position(e.position, ctx.unit, ctx.size)}"
+        text = f"{e.number} {e.kind}{_times(e)} {describe_position(e.position, ctx.unit, ctx.size)}"
         if e.closed_in:
             text += ", closed in"
         elif e.escape_force_N is not None and e.kind in ("stable", "marginal"):
@@ -157,6 +165,8 @@ def draw(plotter, ctx, legend, overlay=None) -> None:
     for kind in style.MARKER:
         if kind in seen:
             legend.add(CLASS_LEGEND[kind], style.MARKER[kind], style.MARKER_SHAPE[kind])
+    if any(e.count > 1 for e in equilibria):
+        legend.add(f"{MULTIPLE}n: one marker for n equivalent points", style.TEXT, "none")
 
 
 def draw_labels(plotter, ctx, area, obstacles=(), renderer=None) -> list:
