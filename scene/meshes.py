@@ -21,6 +21,9 @@ from trapscape.scene.files import MAX_MESH_BYTES, regular_file
 from trapscape.scene.shapes.meshops import mesh_volume, winding_number
 from trapscape.scene.units import METRES_PER_3MF_UNIT
 
+# A laptop's share: about 1 KB a triangle across the mesh's tables and search index (2 GB here);
+# the exact field's time grows with the count too. A magnet's solid needs far fewer.
+MAX_TRIANGLES = 2_000_000
 WINDING_PAIR_BUDGET = 2e7  # point-triangle pairs for the enclosed-once test (about 1 s)
 FORMATS = {".stl": "stl", ".obj": "obj", ".ply": "ply", ".3mf": "3mf"}
 REPAIR_HINT = "repair it in CAD or a mesh tool (close the holes, export as a solid) and export again"
@@ -52,6 +55,10 @@ def read_mesh(path: Path, shown: str, scale: float | None, where: str):
             raise SceneError(f"{where}: {shown} is empty (0 bytes); export the part again.")
         raise SceneError(f"{where}: cannot read {shown} as {kind.upper()} (no triangles found in "
                          f"it: damaged, or not that format); export the solid body again.")
+    if len(mesh.faces) > MAX_TRIANGLES:
+        raise SceneError(f"{where}: {shown} has {len(mesh.faces):,} triangles, more than the "
+                         f"{MAX_TRIANGLES:,} trapscape handles; export it with a coarser "
+                         f"tolerance (a chord error of 0.01 mm is plenty for the field).")
     if not mesh.is_watertight:
         raise SceneError(f"{where}: {shown} is not closed (it has holes or open edges, so it "
                          f"has no inside); {REPAIR_HINT}.")

@@ -6,11 +6,12 @@ raises a SceneError that names the file, the table, the key and the fix.
 from __future__ import annotations
 
 import math
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
 
-from trapscape.scene.errors import SceneError
+from trapscape.scene.errors import SceneError, SceneWarning
 from trapscape.scene.expressions import evaluate, type_word
 from trapscape.scene.names import did_you_mean, listing
 
@@ -173,10 +174,16 @@ def text(table: dict, key: str, where: str, default=REQUIRED) -> str:
     if not isinstance(value, str) or not value.strip():
         raise SceneError(f"{where}, {key}: must be non-empty text in quotes, got "
                          f"{type_word(value)}.")
-    if any(ord(c) < 32 and c != "\t" or 127 <= ord(c) < 160 for c in value):
-        raise SceneError(f"{where}, {key}: the text holds control characters (invisible bytes "
-                         f"that would garble a terminal); retype it as plain text.")
+    if any(_is_control(c) for c in value):
+        value = "".join(f"\\x{ord(c):02x}" if _is_control(c) else c for c in value)
+        warnings.warn(SceneWarning(f"{where}, {key}: the text holds control characters (invisible "
+                                   f"bytes that would garble a terminal); they are kept escaped, "
+                                   f"as \"{value.strip()}\"."))
     return value.strip()
+
+
+def _is_control(character: str) -> bool:
+    return ord(character) < 32 and character != "\t" or 127 <= ord(character) < 160
 
 
 def table_list(document: dict, key: str, where: str) -> list:

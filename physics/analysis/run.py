@@ -8,6 +8,7 @@ from functools import cached_property
 import numpy as np
 
 from trapscape.physics.analysis.holding import hold_analysis
+from trapscape.physics.analysis.work_limits import check_search_work
 from trapscape.physics.analysis.scale_checks import small_magnet_notes, with_plane_limits
 from trapscape.physics.analysis.safety import (
     implant_surface,
@@ -141,6 +142,7 @@ class Analysis:
         trapscape.physics.traps.search.TrapReport
         """
         if self._traps is None:
+            check_search_work(self.scene)  # before the model: its dipole lattices take time too
             try:
                 report = find_traps(self.model, self.scene, progress=progress)
             except SearchSetupError as error:

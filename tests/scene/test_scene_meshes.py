@@ -140,3 +140,15 @@ def test_separate_bodies_in_one_file_are_one_part_with_a_warning(tmp_path):
     with pytest.warns(SceneWarning, match="holds 2 separate closed bodies"):
         scene = load_scene_text(_two_boxes(tmp_path, 14.0), base_dir=tmp_path)
     assert volume(scene.magnets[0]) == pytest.approx(2000e-9, rel=1e-9)  # 2 x 10^3 mm^3
+
+
+def test_a_mesh_past_the_triangle_limit_is_refused_by_its_count(tmp_path, monkeypatch):
+    import trapscape.scene.meshes as meshes
+
+    sphere = trimesh.creation.icosphere(subdivisions=3, radius=2.0)  # 1,280 triangles
+    sphere.export(tmp_path / "ball.stl")
+    load_mesh_scene(tmp_path, "ball.stl")  # within the limit
+    monkeypatch.setattr(meshes, "MAX_TRIANGLES", 1000)
+    with pytest.raises(SceneError, match=r"ball.stl has 1,280 triangles, more than the 1,000 .*"
+                                         r"coarser tolerance"):
+        load_mesh_scene(tmp_path, "ball.stl")
