@@ -7,6 +7,7 @@ import matplotlib
 
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt
+from matplotlib.ticker import MaxNLocator
 
 
 def sweep_figure(rows, folds, varies, unit, title):
@@ -29,7 +30,7 @@ def sweep_figure(rows, folds, varies, unit, title):
     """
     name = varies[0].name
     along_line = any(r["coordinate"] is not None for r in rows)
-    figure, axes = plt.subplots(3, 1, figsize=(7.5, 8.6), sharex=True)
+    figure, axes = plt.subplots(3, 1, figsize=(9.0, 8.6), sharex=True)
     panels = [
         (lambda r: r["coordinate"] if along_line else r["position"][2],
          f"{'position along the line' if along_line else 'height z'} ({unit})"),
@@ -57,7 +58,9 @@ def sweep_figure(rows, folds, varies, unit, title):
                  transform=axes[2].get_yaxis_transform())
     if folds:
         axes[0].plot([], [], color="tab:red", alpha=0.4, lw=8, label="fold: trap lost or born")
-    axes[0].legend(fontsize=8, loc="best")
+    axes[0].legend(fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0))  # beside the data
+    if all(float(r[name]).is_integer() for r in rows):  # a count: no ticks between whole values
+        axes[-1].xaxis.set_major_locator(MaxNLocator(integer=True))
     axes[-1].set_xlabel(f"{name} (as in the scene's [params])")
     other = f", one line per {varies[1].name}" if len(varies) > 1 else ""
     figure.suptitle(f"{title}\ntraps against {name}{other}", fontsize=11)

@@ -318,14 +318,18 @@ def narrowed(fold: Fold, search, match_distance: float, rounds: int) -> Fold:
     Returns
     -------
     Fold
-        With `between` narrowed (by 2**rounds) and `position` the pair's last midpoint.
+        With `between` narrowed (by 2**rounds, or less where the scene refuses a midpoint) and
+        `position` the pair's last midpoint.
     """
     lo, hi = fold.between
     exists_at_lo = fold.kind == "lost"  # a lost pair exists below the fold, a born one above
     position = np.asarray(fold.position, float)
     for _ in range(rounds):
         mid = 0.5 * (lo + hi)
-        pair = pair_near(search(mid), position, match_distance)
+        step = search(mid)
+        if "error" in step:  # e.g. a count that must be whole: the interval is as narrow as it gets
+            break
+        pair = pair_near(step, position, match_distance)
         if pair is not None:
             position = pair  # follow the pair as it closes
         if (pair is not None) == exists_at_lo:

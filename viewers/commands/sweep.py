@@ -210,13 +210,15 @@ def _print_summary(steps, tracks, folds, varies, unit, folder) -> None:
             first, last = steps[line[t.first]], steps[line[t.last]]
             kind = "stable" if t.stable else "unstable"
             label = _track_label(line, t, len(tracks) > 1)
+            steps_word = "step" if len(t.members) == 1 else "steps"
             print(f"trap {label} ({kind}): from {name} = {first['params'][name]:g} to "
-                  f"{last['params'][name]:g} ({len(t.members)} steps)")
+                  f"{last['params'][name]:g} ({len(t.members)} {steps_word})")
     for fixed, f in folds:
         where = ", ".join(f"{c:.3g}" for c in f.position)
-        verb = "lost" if f.kind == "lost" else "born"
+        event = ("meet and vanish (the trap is lost)" if f.kind == "lost"
+                 else "appear together (a new trap)")
         at = "".join(f" at {k} = {v:g}" for k, v in fixed.items())
-        print(f"fold{at}: traps {f.tracks[0]} and {f.tracks[1]} meet and are {verb} between "
+        print(f"fold{at}: traps {f.tracks[0]} and {f.tracks[1]} {event} between "
               f"{name} = {f.between[0]:.4g} and {f.between[1]:.4g}, near ({where}) {unit}")
     for s in failed:
         print(f"step {s['params']}: {s['error']}")

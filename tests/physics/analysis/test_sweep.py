@@ -141,7 +141,7 @@ def test_sweep_finds_the_fold_where_the_closed_form_puts_it(tmp_path):
     assert fold["kind"] == "lost" and hi - lo == pytest.approx(1 / 16)
     # tolerance chosen before looking: the finite probe and the search's Newton, 0.3 % of r
     assert lo - 0.003 * expected <= expected <= hi + 0.003 * expected
-    assert "meet and are lost between r = " in run.stdout
+    assert "meet and vanish (the trap is lost) between r = " in run.stdout
     rows = list(csv.DictReader((tmp_path / "out" / "sweep.csv").open()))
     stable = [row for row in rows if row["class"] == "stable"]
     assert [float(row["r"]) for row in stable] == [14, 15, 16]
