@@ -129,13 +129,16 @@ class Analysis:
         """The scene's probe as a point model on the field model (physics.probe.laws)."""
         return PointProbe(self.model, ProbeLaw.from_scene(self.scene))
 
-    def traps(self, progress=None):
+    def traps(self, progress=None, starts=None):
         """The trap report of the scene's probe, found on the first call.
 
         Parameters
         ----------
         progress : callable, optional
             ``progress(done, total, stage)`` during the scan of the first call.
+        starts : array_like, shape (M, 3), optional
+            Points (m) the search also refines from (a sweep's continuation); only the first
+            call's are used.
 
         Returns
         -------
@@ -144,7 +147,7 @@ class Analysis:
         if self._traps is None:
             check_search_work(self.scene)  # before the model: its dipole lattices take time too
             try:
-                report = find_traps(self.model, self.scene, progress=progress)
+                report = find_traps(self.model, self.scene, progress=progress, starts=starts)
             except SearchSetupError as error:
                 raise SceneError(str(error)) from None
             report = with_plane_limits(self.model, self.point_probe.law, report)
@@ -217,12 +220,12 @@ class Analysis:
         payload["shipping"] = shipping_json(self.scene, self.safety)
         return json_ready(stamp(self.scene, payload))
 
-    def traps_result(self, progress=None) -> dict:
+    def traps_result(self, progress=None, starts=None) -> dict:
         """The `traps` result (finds the traps if not done yet).
 
         Parameters
         ----------
-        progress : callable, optional
+        progress, starts : optional
             As for `traps`.
 
         Returns
@@ -230,7 +233,7 @@ class Analysis:
         dict
             physics.analysis.results.traps_json, stamped and JSON-ready.
         """
-        return json_ready(stamp(self.scene, traps_json(self.traps(progress), self.scene)))
+        return json_ready(stamp(self.scene, traps_json(self.traps(progress, starts), self.scene)))
 
     def hold_result(self, gaps_m, part=None, plate=None, friction=None, progress=None) -> dict:
         """The `hold` result (computes the pull curve if not done yet).

@@ -95,7 +95,7 @@ def grid_of(varies) -> list:
     return [{first.name: a, second.name: b} for b in second.values for a in first.values]
 
 
-def step_result(scene_path: str, params: dict, base_overrides=()) -> dict:
+def step_result(scene_path: str, params: dict, base_overrides=(), starts=None) -> dict:
     """The trap search at one step: its equilibria and the probe's weight.
 
     Parameters
@@ -105,6 +105,9 @@ def step_result(scene_path: str, params: dict, base_overrides=()) -> dict:
         {name: value} of the swept parameters (the scene's unit).
     base_overrides : sequence of str
         The user's other ``--set`` overrides.
+    starts : array_like, shape (M, 3), optional
+        Positions (the scene's unit) the search also refines from: a neighbouring step's
+        equilibria (continuation).
 
     Returns
     -------
@@ -115,7 +118,8 @@ def step_result(scene_path: str, params: dict, base_overrides=()) -> dict:
     overrides = list(base_overrides) + [f"{k}={v!r}" for k, v in params.items()]
     try:
         analysis = load_analysis(scene_path, overrides)
-        traps = analysis.traps_result()
+        metres = None if starts is None else np.asarray(starts, float) * analysis.scene.unit_scale
+        traps = analysis.traps_result(starts=metres)
         weight = float(np.linalg.norm(analysis.point_probe.law.gravity_force()))
     except SceneError as error:
         return {"params": params, "error": str(error)}
@@ -273,6 +277,65 @@ def _nearest_partner(steps, stable, partners, s, match_distance):
     near = [(np.linalg.norm(_position_at(steps, t, s) - here), t) for t in partners]
     near = [(d, t) for d, t in near if d <= match_distance]
     return min(near, key=lambda pair: pair[0])[1] if near else None
+
+
+def unexplained_ends(tracks, folds, n_steps: int) -> list:
+    """Steps to search again from a neighbour's equilibria (continuation): next to the end of
+    a track that no fold explains, where the independent searches may have missed the
+    equilibrium (a cell the grid's sign test skipped).
+
+    Parameters
+    ----------
+    tracks : list of Track
+    folds : list of Fold
+    n_steps : int
+
+    Returns
+    -------
+    list of (int, int)
+        (step to search again, neighbouring step whose equilibria to start from), in order.
+    """
+    in_folds = {number for f in folds for number in f.tracks}
+    redo = set()
+    for track in tracks:
+        if track.number in in_folds:
+            continue
+        if track.last < n_steps - 1:
+            redo.add((track.last + 1, track.last))
+        if track.first > 0:
+            redo.add((track.first - 1, track.first))
+    return sorted(redo)
+
+
+def continued(steps, tracks, folds, search_from) -> tuple:
+    """The steps after one round of continuation: each step next to an unexplained track end
+    searched again from its neighbour's equilibria, kept when it finds more equilibria.
+
+    Parameters
+    ----------
+    steps : list of dict
+        step_result's of one line.
+    tracks, folds : lists of Track and Fold
+        As found on `steps`.
+    search_from : callable
+        (step index, starts (M, 3) scene unit) -> step_result.
+
+    Returns
+    -------
+    steps : list of dict
+        A new list; a replaced step carries ``continued: true``.
+    changed : list of int
+        The steps replaced.
+    """
+    steps, changed = list(steps), []
+    for s, neighbour in unexplained_ends(tracks, folds, len(steps)):
+        if "error" in steps[s] or "error" in steps[neighbour]:
+            continue
+        again = search_from(s, _positions(steps[neighbour]))
+        if len(again.get("equilibria", [])) > len(steps[s].get("equilibria", [])):
+            steps[s] = {**again, "continued": True}
+            changed.append(s)
+    return steps, changed
 
 
 def pair_near(step, position, match_distance: float):

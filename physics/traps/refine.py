@@ -12,6 +12,16 @@ from trapscape.physics.traps.families import unique_points
 from trapscape.scene.units import MU0
 
 
+def _on_constraint(problem, starts) -> np.ndarray:
+    """Starting points projected onto the constraint's line or plane, admissible ones only."""
+    if starts is None or len(starts) == 0:
+        return np.empty((0, 3))
+    starts = np.asarray(starts, float).reshape(-1, 3)
+    origin, basis = np.asarray(problem.constraint_point, float), problem.basis
+    projected = origin + ((starts - origin) @ basis.T) @ basis
+    return projected[problem.geometry.admissible(projected)]
+
+
 def newton(model, problem, starts) -> tuple:
     """Newton's method on the projected force with a trust radius of one grid step.
 
@@ -128,16 +138,19 @@ def local_field_scale(field_model, points) -> np.ndarray:
     return np.maximum(total, 0.01 * parts)
 
 
-def free_equilibria(problem, grid) -> list:
+def free_equilibria(problem, grid, starts=None) -> list:
     """The point model's equilibria away from every surface, refined and classified.
 
     Refined from the grid's sign-change cells (and its field zeros for a magnet probe free to
-    turn).
+    turn), and from `starts` where given.
 
     Parameters
     ----------
     problem : TrapProblem
     grid : ScanGrid
+    starts : array_like, shape (M, 3), optional
+        More starting points, m (a sweep's equilibria of the previous step: continuation);
+        put on the constraint, and those where the probe does not fit dropped.
 
     Returns
     -------
@@ -145,7 +158,8 @@ def free_equilibria(problem, grid) -> list:
         Lexicographic order of position, field zeros last.
     """
     model, basis = problem.point_model, problem.basis
-    points, converged = newton(model, problem, sign_change_cells(grid))
+    points, converged = newton(model, problem, np.vstack([sign_change_cells(grid).reshape(-1, 3),
+                                                          _on_constraint(problem, starts)]))
     points = unique_points(points[converged], 1e-2 * problem.spacing)
     found = []
     if len(points):

@@ -42,7 +42,8 @@ __all__ = [
 ]
 
 
-def find_traps(field_model, scene, progress=None, finite_probe: bool | None = None) -> TrapReport:
+def find_traps(field_model, scene, progress=None, finite_probe: bool | None = None,
+               starts=None) -> TrapReport:
     """Every equilibrium of the scene's probe in its search box, classified.
 
     With escape figures for the wells (see the module's docstring).
@@ -58,6 +59,8 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
     finite_probe : bool or None
         None: use the probe's finite size when it changes the energy by more than
         FINITE_PROBE_THRESHOLD (relative); True/False force it.
+    starts : array_like, shape (M, 3), optional
+        Points to refine from besides the grid's candidates, m (continuation in a sweep).
 
     Returns
     -------
@@ -73,7 +76,7 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
     """
     problem = TrapProblem.from_scene(field_model, scene, finite_probe)
     grid = scan(problem, progress)
-    equilibria = free_equilibria(problem, grid) + contact_equilibria(problem, grid)
+    equilibria = free_equilibria(problem, grid, starts) + contact_equilibria(problem, grid)
     limit = problem.tolerances.max_contact_starts
     notes = (contact_limit_note(limit),) if starts_were_capped(problem, grid) else ()
     equilibria = merge_families(equilibria, problem.spacing)

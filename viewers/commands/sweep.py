@@ -68,6 +68,13 @@ def run(args) -> int:
         found = sweep.find_folds(line_steps, line_tracks, values, 2 * match)
         fixed = {k: v for k, v in grid[line[0]].items() if k != varies[0].name}
         search = _searcher(args, varies[0].name, fixed)
+        line_steps, changed = sweep.continued(
+            line_steps, line_tracks, found, lambda s, starts: search(values[s], starts))
+        if changed:
+            for s in changed:
+                steps[line[s]] = line_steps[s]
+            line_tracks = sweep.track_line(line_steps, match)
+            found = sweep.find_folds(line_steps, line_tracks, values, 2 * match)
         found = [sweep.narrowed(f, search, 2 * match, FOLD_ROUNDS) for f in found]
         tracks.append((line, line_tracks))
         folds.extend((fixed, f) for f in found)
@@ -122,8 +129,8 @@ def _run_steps(args, grid) -> list:
 def _searcher(args, name, fixed):
     from trapscape.physics.analysis import sweep
 
-    def search(value):
-        return sweep.step_result(args.scene, {**fixed, name: value}, args.set)
+    def search(value, starts=None):
+        return sweep.step_result(args.scene, {**fixed, name: value}, args.set, starts)
 
     return search
 
@@ -220,6 +227,11 @@ def _print_summary(steps, tracks, folds, varies, unit, folder) -> None:
         at = "".join(f" at {k} = {v:g}" for k, v in fixed.items())
         print(f"fold{at}: traps {f.tracks[0]} and {f.tracks[1]} {event} between "
               f"{name} = {f.between[0]:.4g} and {f.between[1]:.4g}, near ({where}) {unit}")
+    for s in steps:
+        if s.get("continued"):
+            shown = ", ".join(f"{k} = {v:g}" for k, v in s["params"].items())
+            print(f"at {shown}: searched again from the neighbouring step's equilibria "
+                  f"(continuation), which found more")
     for s in failed:
         print(f"step {s['params']}: {s['error']}")
     print(f"wrote {folder / 'sweep.csv'}, sweep.json and sweep.png")

@@ -12,11 +12,13 @@ import pytest
 from repo_paths import SAMPLES
 
 from trapscape.physics.analysis.sweep import (
+    continued,
     find_folds,
     grid_of,
     narrowed,
     parse_vary,
     track_line,
+    unexplained_ends,
 )
 from trapscape.scene.errors import SceneError
 from trapscape.scene.units import MU0
@@ -179,3 +181,49 @@ def test_an_unstable_branch_meets_only_one_stable_branch():
     tracks = track_line(steps, match_distance=5.0)
     folds = find_folds(steps, tracks, [0.0, 1.0], match_distance=5.0)
     assert len(folds) == 1 and folds[0].tracks[1] == 2
+
+
+def test_a_track_that_ends_without_a_fold_is_searched_again_from_its_neighbour():
+    # a stable trap seen at steps 0 and 2 but missed at step 1 (no partner there: no fold)
+    steps = [_step(((0, 0, 0), "stable")), _step(), _step(((0, 0, 0.2), "stable"))]
+    tracks = track_line(steps, match_distance=1.0)
+    folds = find_folds(steps, tracks, [0.0, 1.0, 2.0], 1.0)
+    assert folds == [] and unexplained_ends(tracks, folds, 3) == [(1, 0), (1, 2)]
+    asked = []
+
+    def search_from(s, starts):
+        asked.append((s, np.asarray(starts).tolist()))
+        return _step(((0, 0, 0.1), "stable"))  # the solve from the neighbour converges
+
+    again, changed = continued(steps, tracks, folds, search_from)
+    assert changed == [1] and again[1]["continued"] and len(again[1]["equilibria"]) == 1
+    assert asked[0] == (1, [[0.0, 0.0, 0.0]])  # started from the previous step's position
+    assert len(track_line(again, 1.0)) == 1  # now one trap across the whole line
+
+
+def test_a_fold_is_not_searched_again():
+    steps = [_step(((0, 0, 0), "stable"), ((0, 0, 0.4), "unstable")), _step()]
+    tracks = track_line(steps, match_distance=1.0)
+    folds = find_folds(steps, tracks, [0.0, 1.0], 1.0)
+    assert len(folds) == 1 and unexplained_ends(tracks, folds, 2) == []
+
+
+def test_starts_reach_an_equilibrium_the_grid_candidates_miss(monkeypatch):
+    """The continuation path through the trap search: with no grid candidate at all, a start
+    near the unstable middle between two facing discs converges onto it (it lies on the
+    symmetry plane x = 0 by the mirror symmetry of the sample)."""
+    import trapscape.physics.traps.refine as refine
+    from trapscape.physics.traps.problem import TrapProblem
+    from trapscape.physics.traps.scan import scan
+    from trapscape.physics.field.model import FieldModel
+    from trapscape.scene.loader import load_scene
+
+    scene = load_scene(str(SAMPLES / "bead_pair.toml"))
+    problem = TrapProblem.from_scene(FieldModel.from_scene(scene), scene)
+    grid = scan(problem)
+    assert any(abs(e.position[0]) < 1e-9 for e in refine.free_equilibria(problem, grid))
+    monkeypatch.setattr(refine, "sign_change_cells", lambda grid: np.empty((0, 3)))
+    assert refine.free_equilibria(problem, grid) == []
+    found = refine.free_equilibria(problem, grid, starts=[[0.4e-3, 0.2e-3, 0.0]])
+    assert len(found) == 1 and abs(found[0].position[0]) < 1e-9
+    assert found[0].position[1] == 0.0  # put on the guide line first
