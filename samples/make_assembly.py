@@ -3,7 +3,8 @@ six disc magnets on a circle around a central ring magnet, on a steel-free base 
 multi-body 3MF (named objects, millimetres) and the same bodies as one STL (no names, no unit).
 
 Run from anywhere: python samples/make_assembly.py  (writes samples/parts/stand.3mf and
-samples/parts/stand.stl). Deterministic: the same bytes each run. All dimensions are invented.
+samples/parts/stand.stl); with --variants FOLDER, one 3MF per candidate circle of discs instead
+(for `trapscape screen --template`). Deterministic: the same bytes each run. All dimensions are invented.
 """
 from __future__ import annotations
 
@@ -69,7 +70,24 @@ def write_3mf(path, parts: dict, unit="millimeter") -> None:
             package.writestr(info, text, zipfile.ZIP_DEFLATED)
 
 
-def main() -> None:
+VARIANT_RADII = (10.0, 12.5, 15.0, 17.5, 20.0)  # mm: a design review's candidate circles
+
+
+def main(argv=None) -> None:
+    import argparse
+
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--variants", metavar="FOLDER",
+                        help="instead: one 3MF per candidate disc circle into FOLDER "
+                             "(stand-r10.3mf ...), for trapscape screen --template")
+    args = parser.parse_args(argv)
+    if args.variants:
+        folder = Path(args.variants)
+        folder.mkdir(parents=True, exist_ok=True)
+        for radius in VARIANT_RADII:
+            write_3mf(folder / f"stand-r{radius:g}.3mf", bodies(circle_radius=radius))
+        print(f"wrote {len(VARIANT_RADII)} stand exports into {folder}")
+        return
     folder = Path(__file__).resolve().parent / "parts"
     folder.mkdir(exist_ok=True)
     parts = bodies()

@@ -11,6 +11,13 @@ from trapscape.scene.errors import SceneError
 
 MAX_SCENE_BYTES = 16 * 2**20  # a scene or materials file: TOML text, never near this
 MAX_MESH_BYTES = 1024 * 2**20  # a mesh file, and the uncompressed model inside a 3MF package
+NOT_SCENES = (".spec.toml", ".template.toml")  # TOML beside the scenes: screening specs, templates
+
+
+def is_scene_file(path) -> bool:
+    """A .toml that is a scene, not a screening spec or a template kept beside the scenes."""
+    name = Path(path).name
+    return name.endswith(".toml") and not name.endswith(NOT_SCENES)
 
 
 def regular_file(path, what: str, hint: str) -> Path:

@@ -11,13 +11,15 @@ import io
 import sys
 from pathlib import Path
 
+from trapscape.scene.files import is_scene_file
+
 HERE = Path(__file__).resolve().parent
 SAMPLES = HERE.parent / "samples"
 GOLDEN = HERE / "golden"
 
 
 def sample_names() -> list[str]:
-    return sorted(p.stem for p in SAMPLES.glob("*.toml") if not p.name.endswith(".spec.toml"))
+    return sorted(p.stem for p in SAMPLES.glob("*.toml") if is_scene_file(p))
 
 
 def has_plate(name: str) -> bool:

@@ -23,20 +23,78 @@ from trapscape.physics.analysis.run import load_analysis
 from trapscape.physics.analysis.spec import layout_figures, load_spec, scores, verdict
 from trapscape.physics.analysis.variants import scene_variants
 from trapscape.physics.field import engine
+from trapscape.scene.cad.importing import cad_files, import_cad
+from trapscape.scene.cad.template import read_template, write_layout_scene
 from trapscape.scene.errors import SceneError
+from trapscape.scene.files import is_scene_file
 
 
 @dataclass(frozen=True)
 class Layout:
-    """One scene file with its overrides."""
+    """One scene file with its overrides; or a CAD export that becomes that scene file when it
+    runs (imported with the parts list into the template scene)."""
 
     scene: str
     overrides: tuple = ()
+    cad: str = ""
+    parts: str = ""
+    template: str = ""
 
     @property
     def key(self) -> str:
         """What identifies the layout in the rows (resume skips the keys already there)."""
-        return " ".join([self.scene, *self.overrides])
+        return " ".join([self.cad or self.scene, *self.overrides])
+
+
+def cad_layouts(inputs, template: str, parts: str | None, folder, grid=()) -> list:
+    """One layout per CAD export (files, or folders standing for the exports inside them),
+    with every combination of the swept values; their scenes are to be written into `folder`.
+
+    Parameters
+    ----------
+    inputs : sequence of str
+    template : str
+        The template scene (scene.cad.template), checked here once.
+    parts : str or None
+        The parts list (CSV).
+    folder : str or os.PathLike
+    grid : sequence of dict
+
+    Returns
+    -------
+    list of Layout
+
+    Raises
+    ------
+    SceneError
+        A bad template, or an input that is no CAD export.
+    """
+    read_template(template)
+    layouts, stems = [], set()
+    for export in cad_files(inputs):
+        if not export.is_file():
+            raise SceneError(f"{export}: no such CAD export file or folder.")
+        if export.suffix.lower() == ".toml":
+            raise SceneError(f"{export}: with --template the inputs are CAD exports, not scenes; "
+                             f"screen scenes in a run without --template.")
+        stem = export.stem
+        while stem in stems:  # the same name in two folders
+            stem += "_"
+        stems.add(stem)
+        scene = str(Path(folder) / f"{stem}.toml")
+        for params in grid or [{}]:
+            overrides = tuple(f"{k}={v!r}" for k, v in params.items())
+            layouts.append(Layout(scene, overrides, str(export), parts or "", template))
+    return layouts
+
+
+def _scene_from_export(layout: Layout) -> None:
+    """Import the layout's CAD export into its template and write the scene (in the worker, so
+    a bad export is that layout's row, not the end of the batch)."""
+    target = Path(layout.scene)
+    imported = import_cad([layout.cad], target, parts_list=layout.parts or None)
+    target.parent.mkdir(parents=True, exist_ok=True)
+    write_layout_scene(imported, read_template(layout.template), target, Path(layout.cad))
 
 
 def layouts_from(inputs, grid=()) -> list:
@@ -63,7 +121,7 @@ def layouts_from(inputs, grid=()) -> list:
     for text in inputs:
         path = Path(text)
         if path.is_dir():
-            found = sorted(str(p) for p in path.glob("*.toml") if not p.name.endswith(".spec.toml"))
+            found = sorted(str(p) for p in path.glob("*.toml") if is_scene_file(p))
             if not found:
                 raise SceneError(f"{text}: the folder holds no scene (.toml) file.")
             scenes.extend(found)
@@ -103,12 +161,15 @@ def screen_layout(layout: Layout, spec_path: str, timeout: float | None = None) 
         key, scene, overrides, figures, passed, failing, error, seconds (JSON-ready).
     """
     start = time.monotonic()
-    row = {"key": layout.key, "scene": layout.scene, "overrides": list(layout.overrides),
+    row = {"key": layout.key, "scene": layout.scene, "cad": layout.cad or None,
+           "overrides": list(layout.overrides),
            "spec_sha256": spec_digest(spec_path), "figures": {}, "passed": False,
            "failing": None, "error": None}
     try:
         with _time_limit(timeout):
             spec = load_spec(spec_path)
+            if layout.cad:
+                _scene_from_export(layout)
             analysis = load_analysis(layout.scene, list(layout.overrides))
             row["figures"] = layout_figures(analysis, spec)
             row["passed"], row["failing"] = verdict(spec, row["figures"])

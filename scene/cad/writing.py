@@ -10,6 +10,7 @@ import numpy as np
 from trapscape.scene.shapes import SHAPES
 
 SCENE_UNIT = 1e-3  # metres per unit of the written scene (millimetres)
+SCENE_UNIT_WORD = "mm"
 RESOLUTION = 1e-6  # written lengths round to this fraction of the part's size (angles: 360)
 
 
@@ -87,8 +88,8 @@ def scene_text(parts, notes, warnings, sources) -> str:
     if warnings:
         lines += ["# WARNINGS:"] + [f"#   - {w}" for w in warnings]
     lines += ["# Parts:"] + [f"#   - {s}" for s in summary_lines(parts)]
-    lines += ["", f"title = \"Imported from {sources[0].replace(chr(92), '/')}"
-                  f"{' and more' if len(sources) > 1 else ''}\"", "units = \"mm\"", ""]
+    title = f"Imported from {sources[0].replace(chr(92), '/')}{' and more' if len(sources) > 1 else ''}"
+    lines += ["", f"title = \"{title}\"", f"units = \"{SCENE_UNIT_WORD}\"", ""]
     for part in parts:
         lines += _magnet(part)
     return "\n".join(lines)

@@ -7,6 +7,7 @@ import warnings
 from pathlib import Path
 
 from trapscape.scene.errors import SceneError
+from trapscape.scene.files import is_scene_file
 
 DEMO_SAMPLE = "level_gauge.toml"
 DEFAULT_DIR = "trapscape-demo"
@@ -52,7 +53,7 @@ def run(args) -> int:
     sample = samples_dir() / args.sample
     if not sample.is_file():
         names = ", ".join(sorted(p.name for p in samples_dir().glob("*.toml")
-                                 if not p.name.endswith(".spec.toml")))
+                                 if is_scene_file(p)))
         raise SceneError(f"demo: no sample {args.sample!r}; choose one of {names}.")
     out = Path(args.output)
     try:

@@ -10,6 +10,7 @@ import csv
 import io
 import logging
 import os
+from dataclasses import replace
 from pathlib import Path
 
 from trapscape.scene.errors import SceneError
@@ -25,18 +26,26 @@ SOME_LAYOUTS_FAILED = 3
 EXAMPLES = """\
   trapscape screen samples/level_gauge.toml --spec samples/level_gauge.spec.toml --vary gap=2..6@9 -o gauge.csv
   trapscape screen layouts/ --spec spec.toml -o review.csv --workers 2 --timeout 120
+  trapscape screen exports/ --template stand.template.toml --parts stand_parts.csv --spec stand.spec.toml -o stand.csv
 """
 
 
 def add_arguments(parser) -> None:
     parser.add_argument("inputs", nargs="+", metavar="SCENE|FOLDER",
-                        help="scene files and folders of them")
+                        help="scene files and folders of them; with --template, CAD exports "
+                             "and folders of them")
     parser.add_argument("--spec", required=True, metavar="SPEC.toml",
                         help="the requirements and ranking (see the README's Screening)")
     add_output_argument(parser, "OUT.csv", "the table; full rows go to OUT.jsonl beside it "
                         "(a second run with the same -o resumes)", required=True)
     parser.add_argument("--vary", action="append", default=[], metavar="NAME=START..STOP@COUNT",
                         help="variants of every scene, as in sweep (once or twice: a grid)")
+    parser.add_argument("--template", metavar="SCENE.toml",
+                        help="screen CAD exports: each is imported (as trapscape import does) "
+                             "into this scene, which holds the probe, search box and the rest "
+                             "and no [[magnet]]; the scenes go to OUT-layouts/")
+    parser.add_argument("--parts", metavar="PARTS.csv",
+                        help="with --template: the parts list every export is imported with")
     parser.add_argument("--workers", type=int, default=None, metavar="N",
                         help="processes (default: the cores)")
     parser.add_argument("--timeout", type=float, default=None, metavar="SECONDS",
@@ -54,9 +63,16 @@ def run(args) -> int:
     check_output_path(args.output, (".csv",))
     spec = load_spec(args.spec)
     grid = sweep.grid_of([sweep.parse_vary(v) for v in args.vary]) if args.vary else []
-    layouts = screen.layouts_from(args.inputs, grid)
+    if args.template:
+        folder = Path(args.output).with_name(Path(args.output).stem + "-layouts")
+        layouts = screen.cad_layouts(args.inputs, args.template, args.parts, folder, grid)
+    elif args.parts:
+        raise SceneError("--parts goes with --template (CAD exports screened through a "
+                         "template scene).")
+    else:
+        layouts = screen.layouts_from(args.inputs, grid)
     if args.set:
-        layouts = [screen.Layout(x.scene, tuple(args.set) + x.overrides) for x in layouts]
+        layouts = [replace(x, overrides=tuple(args.set) + x.overrides) for x in layouts]
     if args.timeout is not None and not (args.timeout > 0 and args.timeout < 1e6):
         raise SceneError("--timeout must be a positive number of seconds.")
     log = screen.RowLog(Path(args.output).with_suffix(".jsonl"))
@@ -148,14 +164,16 @@ def _run_on_dask(args, todo, log, workers, update) -> None:
 
 def _write_csv(path, rows, spec) -> None:
     figures = list(dict.fromkeys([r.key for r in spec.requirements] + list(spec.rank)))
-    header = ["rank", "passed", "failing", "error", "scene", "overrides", *figures, "score",
-              "seconds"]
+    exports = any(r.get("cad") for r in rows)
+    header = ["rank", "passed", "failing", "error", *(["cad_export"] if exports else []), "scene",
+              "overrides", *figures, "score", "seconds"]
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(header)
     for r in rows:
         writer.writerow([r["rank"] or "", "yes" if r["passed"] else "no", r["failing"] or "",
-                         r["error"] or "", r["scene"], " ".join(r["overrides"]),
+                         r["error"] or "", *([r.get("cad") or ""] if exports else []),
+                         r["scene"], " ".join(r["overrides"]),
                          *(_cell(r["figures"].get(f)) for f in figures), _cell(r["score"]),
                          f"{r['seconds']:.2f}"])
     with replaced_atomically(path, newline="") as handle:

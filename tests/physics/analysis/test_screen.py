@@ -173,3 +173,59 @@ def test_a_changed_spec_redoes_the_layouts_judged_by_the_old_one(tmp_path):
     assert second.returncode == 0 and "1 pass" in second.stdout and "already" not in second.stdout
     rows = list(csv.DictReader((tmp_path / "out.csv").open()))
     assert len(rows) == 1 and rows[0]["passed"] == "yes"
+
+
+STAND = [str(SAMPLES / "stand.template.toml"), str(SAMPLES / "stand_parts.csv"),
+         str(SAMPLES / "stand.spec.toml")]
+
+
+def _stand_exports(folder, radii=("15", "20")):
+    subprocess.run([sys.executable, str(SAMPLES / "make_assembly.py"), "--variants",
+                    str(folder)], check=True, capture_output=True)
+    for exported in folder.glob("*.3mf"):
+        if exported.stem.removeprefix("stand-r") not in radii:
+            exported.unlink()
+
+
+def test_a_folder_of_cad_exports_is_screened_through_one_template_and_parts_list(tmp_path):
+    import trimesh
+
+    exports = tmp_path / "exports"
+    _stand_exports(exports)
+    open_box = trimesh.creation.box(extents=[5, 5, 5])
+    open_box.update_faces(list(range(len(open_box.faces) - 2)))  # one side left open
+    open_box.export(exports / "open.stl")
+    template, parts, spec = STAND
+    run = _screen(tmp_path, str(exports), "--template", template, "--parts", parts,
+                  "--spec", spec, "--workers", "1")
+    assert run.returncode == 3, run.stderr  # the open export could not be run
+    rows = {r["cad_export"].rsplit("/", 1)[-1]: r for r in
+            csv.DictReader((tmp_path / "out.csv").open())}
+    assert set(rows) == {"stand-r15.3mf", "stand-r20.3mf", "open.stl"}
+    assert "not closed" in rows["open.stl"]["error"]
+    for name in ("stand-r15.3mf", "stand-r20.3mf"):
+        row = rows[name]
+        assert row["passed"] == "yes", row
+        assert 0 <= float(row["trap_along_line"]) <= 4  # inside the ring, as the spec asks
+    # the scene each export became: the template's probe and box, the six discs and the ring
+    # (the base plate ignored as the parts list says)
+    from trapscape.scene.loader import load_scene
+
+    scene = load_scene(str(tmp_path / "out-layouts" / "stand-r15.toml"))
+    assert sorted(m.name for m in scene.magnets) == [f"disc-{i}" for i in range(1, 7)] + ["ring"]
+    assert scene.constraint.kind == "line" and scene.probe.diameter == pytest.approx(2e-3)
+    again = _screen(tmp_path, str(exports), "--template", template, "--parts", parts,
+                    "--spec", spec, "--workers", "1")
+    assert "3 already in" in again.stdout  # resumed: nothing imported or searched twice
+
+
+def test_a_template_with_magnets_of_its_own_is_one_sentence(tmp_path):
+    exports = tmp_path / "exports"
+    _stand_exports(exports, radii=("15",))
+    template = tmp_path / "template.toml"
+    template.write_text((SAMPLES / "stand.template.toml").read_text()
+                        + '\n[[magnet]]\nshape = "sphere"\nsize = 2\nremanence = 1\n')
+    run = _screen(tmp_path, str(exports), "--template", str(template), "--spec", STAND[2])
+    assert run.returncode == 2
+    assert run.stderr.strip().splitlines()[-1].startswith("trapscape: ")
+    assert "holds no [[magnet]]" in run.stderr and "Traceback" not in run.stderr
