@@ -25,28 +25,87 @@ class DisplayUnits:
     length: str = "mm"
 
     def B(self, tesla):
-        """A flux density in T, in the display unit."""
+        """A flux density in T, in the display unit.
+
+        Parameters
+        ----------
+        tesla : float or numpy.ndarray
+            In T.
+
+        Returns
+        -------
+        float or numpy.ndarray
+        """
         return tesla * FIELD_UNITS[self.field]
 
     def F(self, newtons):
-        """A force in N, in the display unit."""
+        """A force in N, in the display unit.
+
+        Parameters
+        ----------
+        newtons : float or numpy.ndarray
+            In N.
+
+        Returns
+        -------
+        float or numpy.ndarray
+        """
         return newtons * FORCE_UNITS[self.force]
 
     def L(self, metres):
-        """A length in m, in the display unit."""
+        """A length in m, in the display unit.
+
+        Parameters
+        ----------
+        metres : float or numpy.ndarray
+            In m.
+
+        Returns
+        -------
+        float or numpy.ndarray
+        """
         return metres * LENGTH_UNITS[self.length]
 
     def force_text(self, newtons: float) -> str:
         """A force as a reader takes it in: '5 mN' or '0.41 N' in newtons (the prefix chosen),
-        three significant digits in kgf or lbf."""
+        three significant digits in kgf or lbf.
+
+        Parameters
+        ----------
+        newtons : float
+
+        Returns
+        -------
+        str
+        """
         if self.force == "N":
             return describe_force(newtons)
         return f"{self.F(newtons):.3g} {self.force}"
 
     def field_text(self, tesla: float) -> str:
+        """'0.5 mT' or '5 G'.
+
+        Parameters
+        ----------
+        tesla : float
+
+        Returns
+        -------
+        str
+        """
         return f"{self.B(tesla):.3g} {self.field_label}"
 
     def length_text(self, metres: float) -> str:
+        """'44.4 mm' or '1.75 in'.
+
+        Parameters
+        ----------
+        metres : float
+
+        Returns
+        -------
+        str
+        """
         return f"{self.L(metres):.3g} {self.length_label}"
 
     @property

@@ -43,7 +43,20 @@ def family_answers(analysis, report, units: DisplayUnits, samples: LineSamples) 
 
 
 def family_sentence(analysis, report, family, units: DisplayUnits, samples) -> str:
-    """Where one family's probe rests and what dislodges it."""
+    """Where one family's probe rests and what dislodges it.
+
+    Parameters
+    ----------
+    analysis : trapscape.physics.analysis.run.Analysis
+    report : trapscape.physics.traps.search.TrapReport
+    family : trapscape.physics.traps.report.Family
+    units : DisplayUnits
+    samples : LineSamples
+
+    Returns
+    -------
+    str
+    """
     scene = analysis.scene
     eq = report.equilibria[family.representative]
     subject = f"{units.L(scene.probe.diameter):.3g} {units.length_label} " \
@@ -64,8 +77,20 @@ def family_sentence(analysis, report, family, units: DisplayUnits, samples) -> s
 
 
 def nearest_face_words(analysis, eq, units: DisplayUnits) -> str:
-    """'resting on box face +x of block-2' or '4.9 mm from the nearest face of part float-block-1,
-    0.2 mm below its centre'."""
+    """Where the probe rests relative to the nearest magnet face.
+
+    Parameters
+    ----------
+    analysis : trapscape.physics.analysis.run.Analysis
+    eq : trapscape.physics.traps.report.Equilibrium
+    units : DisplayUnits
+
+    Returns
+    -------
+    str
+        E.g. "resting on box face +x of block-2" or "its surface 3 mm from the nearest magnet
+        face (part float-block-1), 0.2 mm below its centre".
+    """
     scene = analysis.scene
     if eq.contact is not None:
         return f"resting on {eq.contact.surface}"
@@ -96,7 +121,20 @@ def line_push_words(scene, eq, units: DisplayUnits, samples: LineSamples) -> str
     the search box (the strongest pull back is 7.3 mN, 6.68 x its weight)'.
 
     The way it escapes gets the trap search's escape force (the figure of the headline); the
-    other way is read off the force along the line (push_out)."""
+    other way is read off the force along the line (push_out).
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene
+    eq : trapscape.physics.traps.report.Equilibrium
+    units : DisplayUnits
+    samples : LineSamples
+        Along the guide line.
+
+    Returns
+    -------
+    str
+    """
     weight = probe_weight_N(scene)
     start = samples.index_of(eq.position)
     ways = way_words(scene, samples.direction)
@@ -131,8 +169,20 @@ def _escape_side(eq, direction) -> int:
 
 
 def escape_words(scene, eq, units: DisplayUnits) -> str:
-    """'it takes 0.41 N (35 x its weight) to push it out, over a pass into a neighbouring
-    well'."""
+    """What push gets the probe out, the easiest way, from the trap search's escape figures.
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene
+    eq : trapscape.physics.traps.report.Equilibrium
+    units : DisplayUnits
+
+    Returns
+    -------
+    str
+        E.g. "it takes 0.41 N (35 x its weight) to push it out the easiest way, escaping over
+        a pass into a neighbouring well".
+    """
     escape = eq.escape
     if escape is not None and escape.exit is None:
         return "it cannot get out of its well inside the search box"

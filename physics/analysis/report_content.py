@@ -169,31 +169,41 @@ def report_date() -> str:
 
 
 def part_kinds(scene, units: DisplayUnits) -> list:
-    """(count, 'box 5 x 5 x 3 mm, N38') for each kind of part, in the scene's order."""
+    """The parts, grouped by shape, size and grade.
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene
+    units : DisplayUnits
+
+    Returns
+    -------
+    list of (int, str)
+        (count, "box, 5 x 5 x 3 mm envelope, N38") in the scene's order.
+    """
     kinds: dict = {}
     for magnet in scene.magnets:
         grade = magnet.grade or f"Br {magnet.remanence:.3g} T"
-        key = f"{magnet.shape}{_size_words(magnet, units)}, {grade}"
+        low, high = (np.asarray(v, float) for v in shape_of(magnet).bounds(magnet))
+        size = " x ".join(f"{units.L(v):.3g}" for v in high - low)
+        key = f"{magnet.shape}, {size} {units.length_label} envelope, {grade}"
         kinds[key] = kinds.get(key, 0) + 1
     return [(count, key) for key, count in kinds.items()]
 
 
-SIZED_SHAPES = {"box": 3, "cylinder": 2, "ring": 3, "sphere": 1, "arc": 3}  # lengths among dims
-
-
-def _size_words(magnet, units: DisplayUnits) -> str:
-    lengths = SIZED_SHAPES.get(magnet.shape)
-    if lengths is None:
-        return ""
-    text = " x ".join(f"{units.L(float(v)):.3g}" for v in magnet.dims[:lengths])
-    text = f" {text} {units.length_label}"
-    if magnet.shape == "arc":
-        text += f", {np.degrees(float(magnet.dims[3])):.3g} degrees"
-    return text
-
-
 def probe_description(scene, units: DisplayUnits) -> str:
-    """'soft-iron bead, 3 mm across, 0.11 g (weight 1.09 mN)'."""
+    """The probe in words.
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene
+    units : DisplayUnits
+
+    Returns
+    -------
+    str
+        E.g. "soft-iron bead, 3 mm across, 0.111 g (weight 1.1 mN)".
+    """
     probe = scene.probe
     weight = probe_weight_N(scene)
     words = probe_words(scene).noun
@@ -205,7 +215,17 @@ def probe_description(scene, units: DisplayUnits) -> str:
 
 
 def constraint_description(scene, units: DisplayUnits) -> str:
-    """How the probe may move, in words."""
+    """How the probe may move, in words.
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene
+    units : DisplayUnits
+
+    Returns
+    -------
+    str
+    """
     constraint = scene.constraint
     point = describe_position(units.L(np.asarray(constraint.point, float)), units.length_label,
                               units.L(scene_size(scene) * scene.unit_scale))
@@ -222,7 +242,18 @@ def constraint_description(scene, units: DisplayUnits) -> str:
 # -- the trap table -----------------------------------------------------------------------------
 
 def family_rows(report, scene, units: DisplayUnits) -> list:
-    """One row per family, as `traps` prints it, in display units."""
+    """One row per family, as `traps` prints it, in display units.
+
+    Parameters
+    ----------
+    report : trapscape.physics.traps.search.TrapReport
+    scene : trapscape.scene.model.Scene
+    units : DisplayUnits
+
+    Returns
+    -------
+    list of FamilyRow
+    """
     weight = probe_weight_N(scene)
     rows = []
     size = units.L(scene_size(scene) * scene.unit_scale)
@@ -249,9 +280,19 @@ def family_rows(report, scene, units: DisplayUnits) -> list:
 # -- the pull on steel ------------------------------------------------------------------------
 
 def pull_curve(analysis, units: DisplayUnits) -> PullCurve | None:
-    """The whole assembly's pull on its nearest steel plate against the gap; None without one.
+    """The whole assembly's pull on its nearest steel plate against the gap.
 
     The gaps run from contact to PULL_REACH of the largest magnet dimension.
+
+    Parameters
+    ----------
+    analysis : trapscape.physics.analysis.run.Analysis
+    units : DisplayUnits
+
+    Returns
+    -------
+    PullCurve or None
+        None without a steel plate.
     """
     scene = analysis.scene
     if not scene.plates or not scene.magnets:
@@ -306,7 +347,16 @@ def uncertainty_statement(analysis, report) -> list:
 
 
 def grade_sentence(scene) -> str:
-    """Nominal grade values, and what the low end of each grade's range does to forces."""
+    """Nominal grade values, and what the low end of each grade's range does to forces.
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene
+
+    Returns
+    -------
+    str
+    """
     spreads = []
     for magnet in scene.magnets:
         grade = magnet.material
@@ -323,7 +373,16 @@ def grade_sentence(scene) -> str:
 
 
 def probe_model_sentence(report) -> str:
-    """Point or finite probe, as the trap search used it."""
+    """Point or finite probe, as the trap search used it.
+
+    Parameters
+    ----------
+    report : trapscape.physics.traps.search.TrapReport
+
+    Returns
+    -------
+    str
+    """
     finite = report.finite_probe
     if finite.used:
         return ("The probe's finite size is taken into account at the equilibria (" +

@@ -29,7 +29,17 @@ class LineSamples:
     fits: np.ndarray
 
     def index_of(self, point) -> int:
-        """The sample nearest to where `point` (m) projects on the line."""
+        """The sample nearest to where a point projects on the line.
+
+        Parameters
+        ----------
+        point : array_like, shape (3,)
+            m.
+
+        Returns
+        -------
+        int
+        """
         return int(np.argmin(np.abs(self.s - (np.asarray(point) - self.origin) @ self.direction)))
 
 
@@ -59,7 +69,19 @@ class Profile:
 
 
 def line_through(analysis, report):
-    """(origin (3,) m, unit direction (3,), how it is chosen in words) of the report's line."""
+    """The report's line: the guide line; across the guide plane through the main trap towards
+    its way out; or vertical through the main trap of a free probe.
+
+    Parameters
+    ----------
+    analysis : trapscape.physics.analysis.run.Analysis
+    report : trapscape.physics.traps.search.TrapReport
+
+    Returns
+    -------
+    tuple of (numpy.ndarray (3,), numpy.ndarray (3,), str)
+        A point of it (m), its unit direction, and how it was chosen in words.
+    """
     scene = analysis.scene
     constraint = scene.constraint
     if constraint.kind == "line":
@@ -151,7 +173,20 @@ def push_out(samples: LineSamples, start: int, step: int) -> Push:
 
 
 def way_words(scene, direction) -> tuple:
-    """(what +direction means, what -direction means): "up"/"down" along gravity, else axes."""
+    """What moving along and against a direction means to a reader.
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene
+        For gravity.
+    direction : numpy.ndarray, shape (3,)
+        A unit vector.
+
+    Returns
+    -------
+    tuple of (str, str)
+        "up"/"down" within 10 degrees of gravity, else "towards +x"-style words.
+    """
     gravity = np.asarray(scene.gravity, float)
     if np.linalg.norm(gravity) > 0:
         along = float(direction @ gravity) / np.linalg.norm(gravity)

@@ -20,11 +20,20 @@ EXAMPLES = """\
 """
 
 
+DEFAULT_SIZE = "1400x1050"
+DEFAULT_RESOLUTION = 64
+
+
 def add_arguments(parser) -> None:
     add_scene_arguments(parser)
     add_output_argument(parser, "DIR", "the folder for report.html, report.pdf and the pictures",
                         required=True)
     add_report_options(parser)
+    parser.add_argument("--size", default=DEFAULT_SIZE, metavar="WxH",
+                        help=f"size of the 3D pictures in pixels (default {DEFAULT_SIZE})")
+    parser.add_argument("--resolution", type=int, default=DEFAULT_RESOLUTION, metavar="N",
+                        help="samples along the longest side of the pictures' field grid "
+                             f"(default {DEFAULT_RESOLUTION})")
 
 
 def add_report_options(parser) -> None:
@@ -60,11 +69,21 @@ def display_units(args, scene):
 
 def run(args) -> int:
     from trapscape.physics.analysis.display_units import parse_units
+    from trapscape.viewers.commands.common import MAX_GRID_RESOLUTION
+    from trapscape.viewers.commands.render import parse_size
+    from trapscape.viewers.report.pictures import PictureSizes
 
     parse_units(args.units)  # a wrong unit is said before any work
+    size = parse_size(args.size)
+    if not 8 <= args.resolution <= MAX_GRID_RESOLUTION:
+        raise SceneError(f"--resolution {args.resolution}: give 8 to {MAX_GRID_RESOLUTION} "
+                         "samples along the longest side.")
     out = check_folder(args.output)
     analysis = analysis_from_args(args)
-    written = write(analysis, out, args)
+    plot = (min(size[0], 1000), min(size[1], 760))
+    sizes = PictureSizes(render=size, polarity=(size[0] * 6 // 7, size[1] * 6 // 7), plot=plot,
+                         interactive=(min(size[0], 900), min(size[1], 600)))
+    written = write(analysis, out, args, sizes=sizes, grid_resolution=args.resolution)
     print(f"report: {written['report.pdf']}")
     print(f"  also: {written['report.html']} (opens offline)")
     return 0
