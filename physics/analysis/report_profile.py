@@ -95,7 +95,7 @@ def line_through(analysis, report):
     if constraint.kind == "free":
         return origin, guide_direction(scene), "vertically through the main trap"
     normal = np.asarray(constraint.direction, float)
-    normal /= np.linalg.norm(normal)
+    normal = normal / np.linalg.norm(normal)
     wanted = np.array([1.0, 0.0, 0.0])
     if eq is not None and eq.escape is not None and eq.escape.pass_position is not None:
         towards = np.asarray(eq.escape.pass_position, float) - origin
