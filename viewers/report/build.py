@@ -55,6 +55,7 @@ def write_report(analysis, folder, units, sizes=views.PictureSizes(), interactiv
     """
     HTML = weasyprint_html()  # before any work: a missing library is said at once
     out = Path(folder)
+    out.mkdir(parents=True, exist_ok=True)
     content = report_content(analysis, units, progress=progress)
     ctx = ViewContext.of(analysis, grid_resolution=grid_resolution)
     pictures = {"overview": out / overview_name, "section": out / "section.png",
