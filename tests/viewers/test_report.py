@@ -67,7 +67,7 @@ def test_a_broken_scene_is_one_sentence(tmp_path, capsys):
     assert main(["report", str(broken), "-o", str(tmp_path / "out")]) == 2
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and err[0].startswith("trapscape:") and "broken.toml" in err[0]
-    assert not (tmp_path / "out" / "report.pdf").exists()
+    assert not (tmp_path / "out").exists()
 
 
 @pytest.mark.parametrize("args, words", [

@@ -78,8 +78,8 @@ def run(args) -> int:
     if not 8 <= args.resolution <= MAX_GRID_RESOLUTION:
         raise SceneError(f"--resolution {args.resolution}: give 8 to {MAX_GRID_RESOLUTION} "
                          "samples along the longest side.")
+    analysis = analysis_from_args(args)  # a broken scene is said before the folder is made
     out = check_folder(args.output)
-    analysis = analysis_from_args(args)
     plot = (min(size[0], 1000), min(size[1], 760))
     sizes = PictureSizes(render=size, polarity=(size[0] * 6 // 7, size[1] * 6 // 7), plot=plot,
                          interactive=(min(size[0], 900), min(size[1], 600)))

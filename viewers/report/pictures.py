@@ -32,10 +32,15 @@ def overview(ctx, path: str, size) -> str:
     return render_png(ctx, RenderOptions(layers=default_layers(ctx.scene), size=size), path)
 
 
+FACING = {0: "side", 1: "front", 2: "top"}  # the camera preset looking along each axis
+
+
 def section_view(ctx, path: str, size) -> str:
-    """The section through the main trap, seen face on, the parts before it cut away."""
-    options = RenderOptions(layers=default_layers(ctx.scene), size=size, camera="front",
-                            cutaway=True,
+    """The section through the main trap, seen face on, the parts before it cut away: the
+    plane the overview chose (through the main trap), the camera looking along its normal."""
+    axis = ctx.section.axis if ctx.section is not None else 1
+    options = RenderOptions(layers=default_layers(ctx.scene), size=size, camera=FACING[axis],
+                            section_axis=axis, cutaway=True,
                             title=f"{ctx.scene.title}: section through the main trap")
     return render_png(ctx, options, path)
 
