@@ -107,7 +107,7 @@ def report_content(analysis, units: DisplayUnits, progress=None) -> ReportConten
     samples, how = report_line(analysis, report)
     return ReportContent(
         units=units, cover=cover(analysis, check, units),
-        headline=headline_sentence(report, scene),
+        headline=headline_sentence(report, scene, units),
         answers=tuple(family_answers(analysis, report, units, samples)),
         warnings=tuple(margin_warnings(report, scene)),
         families=tuple(family_rows(report, scene, units)),

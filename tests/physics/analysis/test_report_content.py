@@ -73,7 +73,10 @@ def test_display_units_reach_every_figure_a_reader_sees(gauge):
 
 def test_answer_first(gauge):
     analysis, content = gauge
-    assert content.headline == headline_sentence(analysis.traps(), analysis.scene)
+    # the headline of `traps`, in the reader's units
+    assert content.headline == headline_sentence(analysis.traps(), analysis.scene,
+                                                 parse_units("gauss,lbf,in"))
+    assert "lbf" in content.headline and " in," in content.headline
     answer = content.answers[0]
     assert "rests on its guide line" in answer and "nearest magnet face" in answer
     assert "dislodges it down" in answer and "up, it returns" in answer
