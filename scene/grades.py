@@ -222,3 +222,30 @@ def find_grade(name, table: dict, where: str) -> Grade:
                          f"table (scene/grades.py), give "
                          f"remanence = <tesla> instead, or add it to a materials file.")
     return grade
+
+
+def grade_table_version(scene=None) -> str:
+    """The built-in grade table's fingerprint (the first 12 hex digits of a sha256 over every
+    grade's figures), and the user's materials file's grades where the scene uses them, so a
+    report names exactly which numbers it used.
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene, optional
+        Its parts' grades that are not the built-in ones are named.
+
+    Returns
+    -------
+    str
+        E.g. "built-in sha256 1a2b3c4d5e6f" or "built-in sha256 ..., ACME-N42 from ACME datasheet".
+    """
+    import hashlib
+
+    table = built_in_grades()
+    text = repr([(name, table[name]) for name in sorted(table)])
+    words = f"built-in sha256 {hashlib.sha256(text.encode()).hexdigest()[:12]}"
+    if scene is not None:
+        own = sorted({(m.grade, m.material.source) for m in scene.magnets
+                      if m.material is not None and m.material.source != BUILT_IN_SOURCE})
+        words += "".join(f"; {name} from {source}" for name, source in own)
+    return words

@@ -29,6 +29,8 @@ Choices beyond DESIGN.md, documented here:
   steel, from memory); names default to "plate-1", "plate-2", ...
 - [safety] and [package] (scene.safety_settings): the implant limit, working temperatures and
   shipping box of the safety and shipping figures.
+- [report] (scene.report_settings): the customer report's document number, revision, author
+  and logo file.
 - The digest is sha256 over the scene file's bytes, every mesh file's bytes, the materials
   file's bytes and the sorted --set overrides.
 """
@@ -61,13 +63,14 @@ from trapscape.scene.overlaps import line_inside_parts, overlapping_pairs
 from trapscape.scene.parts import read_magnets
 from trapscape.scene.probe_reading import read_probe
 from trapscape.scene.reading import Context
+from trapscape.scene.report_settings import read_report
 from trapscape.scene.safety_settings import read_safety
 from trapscape.scene.tomlfile import parse_toml
 from trapscape.scene.units import unit_scale
 
 TOP_KEYS = ("version", "title", "units", "gravity", "allow_overlap", "mesh_size_check", "params",
             "materials", "magnet", "steel_plate", "probe", "search_box", "safety", "package",
-            "sweep")  # [sweep]: variants for `screen` (physics.analysis.variants), not the scene
+            "report", "sweep")  # [sweep]: variants for `screen` (physics.analysis.variants), not the scene
 TOP_ELSEWHERE = {
     "constraint": "the constraint goes under the probe: write [probe.constraint]",
     "magnets": "write [[magnet]] (singular, double brackets) once per magnet",
@@ -135,6 +138,7 @@ def _build(raw: bytes, base_dir: Path, shown: str, path_text: str, overrides: di
     probe, constraint = _probe(ctx, document.get("probe"), grades)
     box = _search_box(ctx, document.get("search_box", {}), magnets, plates)
     safety = read_safety(ctx, document, scene_bounding_box(magnets))
+    report = read_report(document, shown, base_dir)
     _check_overlaps(shown, magnets, scale, units, _allow_overlap(document, shown))
     _warn_constraint_outside(shown, constraint, box, probe)
     _warn_line_through_magnets(shown, constraint, box, magnets, scale, units)
@@ -144,7 +148,7 @@ def _build(raw: bytes, base_dir: Path, shown: str, path_text: str, overrides: di
         gravity=frozen_array(_gravity(ctx, document, shown), (3,)),
         magnets=tuple(magnets), plates=tuple(plates), probe=probe, constraint=constraint,
         search_box=box, params=dict(params), path=path_text,
-        digest=_digest(hashed, overrides), safety=safety)
+        digest=_digest(hashed, overrides), safety=safety, report=report)
 
 
 def _gravity(ctx, document, shown) -> np.ndarray:

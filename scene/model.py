@@ -11,6 +11,7 @@ from types import MappingProxyType
 import numpy as np
 
 from trapscape.scene.grades import Grade
+from trapscape.scene.report_settings import ReportSettings
 from trapscape.scene.safety_settings import SafetySettings
 from trapscape.scene.shapes import SHAPES as SHAPE_REGISTRY
 from trapscape.scene.shapes.frames import perpendicular_pair
@@ -139,6 +140,7 @@ class Scene:
     path: str  # the scene file, "" when built in code
     digest: str  # sha256 of the scene file's bytes and the overrides
     safety: SafetySettings = field(default_factory=SafetySettings)  # [safety] and [package]
+    report: ReportSettings = field(default_factory=ReportSettings)  # [report]: the cover's entries
 
     def magnet(self, name: str) -> Magnet:
         for m in self.magnets:

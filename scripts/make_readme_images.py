@@ -1,12 +1,15 @@
-"""Regenerate the README's pictures in docs/images/: the default view of every sample and the
-level gauge's polarity map.
+"""Regenerate the README's pictures in docs/images/: the default view of every sample, the
+level gauge's polarity map, and the first page of the demo's report (report_page1.png, through
+pdftoppm of poppler-utils).
 
-    python scripts/make_readme_images.py [--size 1200x900] [--out FOLDER] [SAMPLE ...]
+    python scripts/make_readme_images.py [--size 1200x900] [--out FOLDER] [SAMPLE ... | report]
 """
 from __future__ import annotations
 
 import argparse
+import subprocess
 import sys
+import tempfile
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -58,7 +61,20 @@ def main() -> int:
         print(f"wrote {path}")
         for note in ctx.notes:
             print(f"  note: {note}")
+    if not args.samples or "report" in args.samples:
+        print(f"wrote {report_page1(out)}")
     return 0
+
+
+def report_page1(out: Path) -> Path:
+    """The first page of `trapscape demo`'s report.pdf as a PNG (pdftoppm at 80 dpi)."""
+    with tempfile.TemporaryDirectory() as folder:
+        subprocess.run([sys.executable, "-m", "trapscape.viewers.cli", "demo", "-o", folder,
+                        "--no-3d", "--quiet"], check=True, stdout=subprocess.DEVNULL)
+        subprocess.run(["pdftoppm", "-png", "-r", "80", "-f", "1", "-l", "1",
+                        "-singlefile", str(Path(folder) / "report.pdf"),
+                        str(out / "report_page1")], check=True)
+    return out / "report_page1.png"
 
 
 if __name__ == "__main__":

@@ -21,6 +21,7 @@ COMMANDS = {
     "screen": "many layouts against a spec: pass or fail, ranked, resumable",
     "render": "the 3D view, off-screen to a PNG or in a window",
     "export": "open-format data (.vti, .vtp, .stl) and an offline interactive view (.html)",
+    "report": "the customer report: report.html (opens offline) and report.pdf",
     "demo": "the whole job on a bundled sample",
     "import": "a scene from CAD exports (STEP, 3MF, STL, OBJ, PLY): one magnet per body",
 }

@@ -219,7 +219,7 @@ def probe_weight_N(scene) -> float:
     return float(np.linalg.norm(law.gravity_force()))
 
 
-def headline_sentence(report, scene) -> str:
+def headline_sentence(report, scene, units=None) -> str:
     """Where the probe is caught, how firmly (escape force, and as a multiple of its weight),
     and where it escapes, in one or two plain sentences.
 
@@ -227,6 +227,8 @@ def headline_sentence(report, scene) -> str:
     ----------
     report : trapscape.physics.traps.search.TrapReport or None
     scene : trapscape.scene.model.Scene
+    units : physics.analysis.display_units.DisplayUnits, optional
+        The reader's units (the report's); default: the scene's length unit and newtons.
 
     Returns
     -------
@@ -237,8 +239,14 @@ def headline_sentence(report, scene) -> str:
     eq = headline_equilibrium(report)
     if eq is None:
         return f"{probe} finds no equilibrium in the search box."
-    where = describe_position(np.asarray(eq.position) / scene.unit_scale, scene.units,
-                              scene_size(scene))
+    if units is None:
+        where = describe_position(np.asarray(eq.position) / scene.unit_scale, scene.units,
+                                  scene_size(scene))
+        force_words = describe_force
+    else:
+        where = describe_position(units.L(np.asarray(eq.position)), units.length_label,
+                                  units.L(scene_size(scene) * scene.unit_scale))
+        force_words = units.force_text
     kind = scene.constraint.kind
     path = {"line": " on its guide line", "plane": " on its guide plane"}.get(kind, "")
     if eq.classification != "stable":
@@ -254,7 +262,7 @@ def headline_sentence(report, scene) -> str:
         along = {"line": " along the line", "plane": " in the plane"}.get(kind, "")
         weight = probe_weight_N(scene)
         times = f" ({multiple(escape.force_N / weight)} x its weight)" if weight > 0 else ""
-        hold = f"and it takes {describe_force(escape.force_N)}{along}{times} to pull it out"
+        hold = f"and it takes {force_words(escape.force_N)}{along}{times} to pull it out"
         exit_words = f"; it escapes {EXIT_WORDS.get(escape.exit_at, 'to ' + str(escape.exit_at))}" \
             if escape.exit_at else ""
     else:

@@ -21,7 +21,7 @@ def readme_commands() -> list[str]:
 
 def test_the_readme_shows_every_command():
     used = {line.split()[1] for line in readme_commands()}
-    assert {"check", "traps", "field", "hold", "render", "export"} <= used
+    assert {"check", "traps", "field", "hold", "render", "export", "report"} <= used
 
 
 @pytest.mark.parametrize("line", readme_commands())

@@ -55,6 +55,8 @@ def _commands(tmp):
         "render": ["render", sample, "-o", str(tmp / "view.png"), "--size", "320x240",
                    "--resolution", "24"],
         "export": ["export", sample, "-o", str(tmp / "grid.vti"), "--resolution", "16"],
+        "report": ["report", sample, "-o", str(tmp / "report"), "--size", "320x240",
+                   "--resolution", "16", "--no-3d"],
         "demo": ["demo", "-o", str(tmp / "demo"), "--size", "320x240"],
     }
 

@@ -1,6 +1,6 @@
 """`trapscape demo [-o DIR]`: the whole job on a bundled sample (the level gauge): check it,
-find its traps, render the default view and the polarity map, and say in one sentence where the
-probe is caught."""
+find its traps, write the customer report (the default view, the section, the polarity map, the
+plots, report.html and report.pdf), and say in one sentence where the probe is caught."""
 from __future__ import annotations
 
 import warnings
@@ -40,6 +40,9 @@ def add_arguments(parser) -> None:
                         help=f"a file of samples/ to run on (default {DEMO_SAMPLE})")
     parser.add_argument("--size", default="1600x1200", metavar="WxH",
                         help="picture size in pixels (default 1600x1200)")
+    from trapscape.viewers.commands.report import add_report_options
+
+    add_report_options(parser)
     add_run_options(parser)
 
 
@@ -47,8 +50,9 @@ def run(args) -> int:
     from trapscape.physics.analysis.run import Analysis
     from trapscape.scene.loader import load_scene, parse_overrides
     from trapscape.viewers.commands.common import progress
+    from trapscape.physics.analysis.display_units import parse_units
     from trapscape.viewers.commands.render import parse_size
-    from trapscape.viewers.layers.context import ViewContext
+    from trapscape.viewers.commands.report import write as write_report
 
     sample = samples_dir() / args.sample
     if not sample.is_file():
@@ -61,6 +65,7 @@ def run(args) -> int:
     except OSError as error:
         raise SceneError(f"demo: cannot make {out}: {error.strerror}; choose another -o DIR.") from None
     size = parse_size(args.size)
+    parse_units(args.units)  # a wrong unit is said before any work
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         analysis = Analysis(load_scene(str(sample), parse_overrides(args.set)))
@@ -69,18 +74,30 @@ def run(args) -> int:
     with progress(args, desc="scan") as update:
         analysis.traps(progress=update)  # found once: the JSON and the view share it
     written.append(("traps", write_json_file(analysis.traps_result(), out / "traps.json")))
-    ctx = ViewContext.of(analysis)
-    written.append(("render", write_render(ctx, out / "view.png", size)))
-    written.append(("polarity map", write_polarity(ctx, out / "polarity.png", size)))
+    report = write_report(analysis, out, args, sizes=demo_sizes(size),
+                          overview_name="view.png")
+    written += [("render", report["overview"]), ("section", report["section"]),
+                ("polarity map", report["polarity"]),
+                *(("plot", report[name]) for name in ("profile", "pull") if name in report),
+                ("report", report["report.pdf"]), ("report html", report["report.html"])]
     for what, path in written:
         print(f"{what:>12}: {path}")
-    from trapscape.physics.analysis.trap_words import margin_warnings
+    from trapscape.physics.analysis.trap_words import headline_sentence, margin_warnings
 
-    for warning in margin_warnings(ctx.trap_report, ctx.scene):
+    report_traps = analysis.traps()
+    for warning in margin_warnings(report_traps, analysis.scene):
         print(warning)
-    print(headline_sentence(ctx))
-    print(analysis.traps().caution)
+    print(headline_sentence(report_traps, analysis.scene))
+    print(report_traps.caution)
     return 0
+
+
+def demo_sizes(size):
+    """The report's picture sizes from --size (the renders and the polarity map at it)."""
+    from trapscape.viewers.report.pictures import PictureSizes
+
+    plot = (min(size[0], 1000), min(size[1], 760))
+    return PictureSizes(render=size, polarity=size, plot=plot, interactive=size)
 
 
 def write_json_file(payload: dict, path: Path) -> Path:
@@ -88,26 +105,3 @@ def write_json_file(payload: dict, path: Path) -> Path:
 
     write_json(str(path), payload)
     return path
-
-
-def write_render(ctx, path: Path, size) -> Path:
-    from trapscape.viewers.layers import default_layers
-    from trapscape.viewers.render import RenderOptions, render_png
-
-    render_png(ctx, RenderOptions(layers=default_layers(ctx.scene), size=size), str(path))
-    return path
-
-
-def write_polarity(ctx, path: Path, size) -> Path:
-    from trapscape.viewers.polarity import draw_polarity_map
-
-    draw_polarity_map(ctx, str(path), size=size)
-    return path
-
-
-def headline_sentence(ctx) -> str:
-    """The trap a reader asks about first, in one plain sentence (the same as `traps` prints:
-    physics.analysis.trap_words.headline_sentence)."""
-    from trapscape.physics.analysis.trap_words import headline_sentence as sentence
-
-    return sentence(ctx.trap_report, ctx.scene)
