@@ -62,22 +62,29 @@ def field_points_file(folder: Path) -> Path:
     return path
 
 
-def cases(groups, folder: Path):
-    """(label, arguments after `trapscape`) for each case of the chosen groups."""
+def cases(groups, folder: Path, skip=()):
+    """(label, arguments after `trapscape`) for each case of the chosen groups, in their order."""
     out = []
-    if "graphite" in groups:
+    for group in groups:
+        out += _group_cases(group, folder, skip)
+    return out
+
+
+def _group_cases(group, folder: Path, skip):
+    out = []
+    if group == "graphite":
         for n in BOARD_COUNTS:
             out.append((f"traps graphite {n}x{n}",
                         ["traps", str(SAMPLES / "graphite_stage.toml"), "--set", f"count={n}",
                          "--json", str(folder / f"graphite{n}.json"), "--quiet"]))
-    if "field" in groups:
+    if group == "field":
         points = field_points_file(folder)
         out.append(("field 1e6 points arc_rotor",
                     ["field", str(SAMPLES / "arc_rotor.toml"), "--points", str(points),
                      "-o", str(folder / "field_1e6.csv"), "--quiet"]))
-    if "samples" in groups:
+    if group == "samples":
         for sample in sorted(SAMPLES.glob("*.toml")):
-            if sample.name.endswith(".spec.toml"):
+            if sample.name.endswith(".spec.toml") or sample.stem in skip:
                 continue
             out.append((f"traps {sample.stem}",
                         ["traps", str(sample), "--json", str(folder / f"{sample.stem}.json"),
@@ -91,7 +98,8 @@ def main():
     parser.add_argument("--current", default=shutil.which("trapscape") or "trapscape",
                         help="this tree's trapscape (default: the one on PATH)")
     parser.add_argument("--only", nargs="+", default=["graphite", "field", "samples"],
-                        choices=["graphite", "field", "samples"])
+                        choices=["graphite", "field", "samples"], help="groups, run in this order")
+    parser.add_argument("--skip-sample", nargs="*", default=[], help="samples left out")
     args = parser.parse_args()
     print(f"load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores; previous "
           f"{args.previous}, current {args.current}", flush=True)
@@ -99,7 +107,7 @@ def main():
           f"{'cpu/wall':>8s} {'wall ratio':>10s} {'cpu ratio':>9s}", flush=True)
     with tempfile.TemporaryDirectory() as tmp:
         folder = Path(tmp)
-        for label, arguments in cases(args.only, folder):
+        for label, arguments in cases(args.only, folder, args.skip_sample):
             old_wall, old_cpu, _ = run_timed([args.previous, *arguments])
             new_wall, new_cpu, _ = run_timed([args.current, *arguments])
             print(f"{label:32s} {old_wall:12.1f}s {old_cpu:6.1f}s {new_wall:12.1f}s "

@@ -356,7 +356,7 @@ def cuboid_H_gradient(points: np.ndarray, size, magnetization) -> np.ndarray:
 
 # -- a family of placed boxes in one call (physics/field/families.py) --------------------------
 
-@njit(cache=True)
+@njit(cache=True, inline="always")
 def _cuboid_body_field(bx, by, bz, size, M, want_g, hb, gb):
     """hb (3,) and, with want_g, gb (3, 3): one box's body-frame H and dH/dx at one point,
     the arithmetic of _cuboid_kernel."""
@@ -381,19 +381,20 @@ def _cuboid_body_field(bx, by, bz, size, M, want_g, hb, gb):
 @njit(cache=True)
 def _cuboids_at(m, points, centers, matrices, sizes, Ms, moments, far, want_g, H, G):
     """Add every box of the family at point m: its point dipole beyond far[k], else its exact
-    field, rotated back."""
+    field, rotated back (accumulated in H[m], G[m] part by part, in the parts' order)."""
     hb = np.empty(3)
     gb = np.empty((3, 3))
+    Hm = H[m]
     Gm = G[m] if want_g else G[0]  # without the gradient G is a single scratch slot
+    px, py, pz = points[m, 0], points[m, 1], points[m, 2]
     for k in range(centers.shape[0]):
         R = matrices[k]
-        dx, dy, dz, bx, by, bz = body_offset(points[m, 0], points[m, 1], points[m, 2],
-                                             centers[k], R)
+        dx, dy, dz, bx, by, bz = body_offset(px, py, pz, centers[k], R)
         if math.sqrt(dx * dx + dy * dy + dz * dz) > far[k]:
-            add_point_dipole(dx, dy, dz, moments[k], want_g, H[m], Gm)
+            add_point_dipole(dx, dy, dz, moments[k], want_g, Hm, Gm)
             continue
         _cuboid_body_field(bx, by, bz, sizes[k], Ms[k], want_g, hb, gb)
-        add_rotated_H(R, hb, H[m])
+        add_rotated_H(R, hb, Hm)
         if want_g:
             add_rotated_G(R, gb, Gm)
 
