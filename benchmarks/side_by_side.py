@@ -50,12 +50,14 @@ def run_timed(command: list[str], env=None) -> tuple[float, float, int]:
 
 
 def field_points_file(folder: Path) -> Path:
-    """1e6 points on a lattice filling the arc rotor's search box, in its unit (mm)."""
-    text = (SAMPLES / "arc_rotor.toml").read_text()
-    import tomllib
+    """1e6 points on a lattice filling the arc rotor's search box (the default one, around the
+    parts), in its unit (mm)."""
+    from trapscape.scene.loader import load_scene
 
-    box = tomllib.loads(text)["search_box"]
-    axes = [np.linspace(lo, hi, FIELD_POINTS_PER_SIDE) for lo, hi in zip(box["min"], box["max"])]
+    scene = load_scene(SAMPLES / "arc_rotor.toml")
+    box = scene.search_box
+    axes = [np.linspace(lo, hi, FIELD_POINTS_PER_SIDE)
+            for lo, hi in zip(box.min / scene.unit_scale, box.max / scene.unit_scale)]
     grid = np.stack([g.ravel() for g in np.meshgrid(*axes, indexing="ij")], axis=1)
     path = folder / "points_1e6.csv"
     np.savetxt(path, grid, fmt="%.6f", delimiter=",", header="x,y,z", comments="")
