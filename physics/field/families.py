@@ -27,10 +27,12 @@ from trapscape.physics.field.cuboid import add_cuboids_H
 from trapscape.physics.field.cylinder import add_rings_H
 from trapscape.physics.field.sources import FAR_FIELD_SIZES
 
-# Point-part pairs above which the family kernels run on numba's threads. Measured on this
-# machine (2 cores) with `benchmarks/parts_speed.py --crossover` on 2026-12-03: below about
-# this many pairs a parallel call is no faster in wall time and costs more CPU.
-PARALLEL_MIN_WORK = 20_000
+# Point-part pairs above which the family kernels run on numba's threads, from
+# `benchmarks/family_crossover.py` (16 cubes, H and dH/dx) on 2026-12-03, load average 9 on the 2
+# cores: up to 32,768 pairs the parallel call took the serial call's wall time (28 ms), at
+# 131,072 pairs 114 ms against 184 ms. On a quiet machine the crossover is likely lower; a
+# parallel call that does not pay only costs a thread start, so the bound errs high.
+PARALLEL_MIN_WORK = 50_000
 
 
 def _box_dims(params):

@@ -18,7 +18,22 @@ _INV_4PI = 1.0 / (4.0 * math.pi)
 
 @njit(cache=True, inline="always")
 def body_offset(px, py, pz, center, R):
-    """x_b = R^T (x - c) for one point (x - c, then its components along R's columns)."""
+    """x_b = R^T (x - c) for one point (x - c, then its components along R's columns).
+
+    Parameters
+    ----------
+    px, py, pz : float
+        The world point, m.
+    center : numpy.ndarray, shape (3,)
+        The part's centre c, m.
+    R : numpy.ndarray, shape (3, 3)
+        Body -> world matrix.
+
+    Returns
+    -------
+    tuple of six floats
+        x - c (world, m), then x_b (body frame, m).
+    """
     dx = px - center[0]
     dy = py - center[1]
     dz = pz - center[2]
@@ -30,14 +45,34 @@ def body_offset(px, py, pz, center, R):
 
 @njit(cache=True, inline="always")
 def add_rotated_H(R, hb, H):
-    """H += R hb."""
+    """H += R hb.
+
+    Parameters
+    ----------
+    R : numpy.ndarray, shape (3, 3)
+        Body -> world matrix.
+    hb : numpy.ndarray, shape (3,)
+        Body-frame H, A/m.
+    H : numpy.ndarray, shape (3,)
+        World accumulator, A/m, changed in place.
+    """
     for i in range(3):
         H[i] += R[i, 0] * hb[0] + R[i, 1] * hb[1] + R[i, 2] * hb[2]
 
 
 @njit(cache=True, inline="always")
 def add_rotated_G(R, gb, G):
-    """G += R gb R^T."""
+    """G += R gb R^T.
+
+    Parameters
+    ----------
+    R : numpy.ndarray, shape (3, 3)
+        Body -> world matrix.
+    gb : numpy.ndarray, shape (3, 3)
+        Body-frame dH_i/dx_j, A/m^2.
+    G : numpy.ndarray, shape (3, 3)
+        World accumulator, A/m^2, changed in place.
+    """
     for i in range(3):
         t0 = R[i, 0] * gb[0, 0] + R[i, 1] * gb[1, 0] + R[i, 2] * gb[2, 0]
         t1 = R[i, 0] * gb[0, 1] + R[i, 1] * gb[1, 1] + R[i, 2] * gb[2, 1]
@@ -53,6 +88,19 @@ def add_point_dipole(rx, ry, rz, moment, want_g, H, G):
     H = (3 (m.r) r / r^2 - m) / (4 pi r^3); dH_i/dx_j = 3 (m_i r_j + m_j r_i + (m.r) delta_ij)
     / (4 pi r^5) - 15 (m.r) r_i r_j / (4 pi r^7) (J. D. Jackson, Classical Electrodynamics, 3rd
     ed., eq. 5.56 and its derivative, as physics/field/sphere.py).
+
+    Parameters
+    ----------
+    rx, ry, rz : float
+        The point's offset from the dipole, m (not zero).
+    moment : numpy.ndarray, shape (3,)
+        World moment, A m^2.
+    want_g : bool
+        Also add dH_i/dx_j.
+    H : numpy.ndarray, shape (3,)
+        Accumulator, A/m, changed in place.
+    G : numpy.ndarray, shape (3, 3)
+        Accumulator, A/m^2, changed in place with want_g.
     """
     r2 = rx * rx + ry * ry + rz * rz
     r = math.sqrt(r2)
