@@ -64,18 +64,18 @@ def field_points_file(folder: Path) -> Path:
     return path
 
 
-def cases(groups, folder: Path, skip=()):
+def cases(groups, folder: Path, skip=(), counts=BOARD_COUNTS):
     """(label, arguments after `trapscape`) for each case of the chosen groups, in their order."""
     out = []
     for group in groups:
-        out += _group_cases(group, folder, skip)
+        out += _group_cases(group, folder, skip, counts)
     return out
 
 
-def _group_cases(group, folder: Path, skip):
+def _group_cases(group, folder: Path, skip, counts):
     out = []
     if group == "graphite":
-        for n in BOARD_COUNTS:
+        for n in counts:
             out.append((f"traps graphite {n}x{n}",
                         ["traps", str(SAMPLES / "graphite_stage.toml"), "--set", f"count={n}",
                          "--json", str(folder / f"graphite{n}.json"), "--quiet"]))
@@ -96,20 +96,31 @@ def _group_cases(group, folder: Path, skip):
 
 def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--previous", required=True, help="the previous tree's trapscape")
+    parser.add_argument("--previous", help="the previous tree's trapscape")
     parser.add_argument("--current", default=shutil.which("trapscape") or "trapscape",
                         help="this tree's trapscape (default: the one on PATH)")
     parser.add_argument("--only", nargs="+", default=["graphite", "field", "samples"],
                         choices=["graphite", "field", "samples"], help="groups, run in this order")
     parser.add_argument("--skip-sample", nargs="*", default=[], help="samples left out")
+    parser.add_argument("--counts", type=int, nargs="+", default=list(BOARD_COUNTS),
+                        help="board sizes N of the graphite cases")
+    parser.add_argument("--current-only", action="store_true",
+                        help="time this tree alone (when the previous one would not finish)")
     args = parser.parse_args()
+    if not (args.previous or args.current_only):
+        parser.error("give --previous (or --current-only)")
     print(f"load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores; previous "
           f"{args.previous}, current {args.current}", flush=True)
     print(f"{'case':32s} {'previous wall':>13s} {'cpu':>7s} {'current wall':>13s} {'cpu':>7s} "
           f"{'cpu/wall':>8s} {'wall ratio':>10s} {'cpu ratio':>9s}", flush=True)
     with tempfile.TemporaryDirectory() as tmp:
         folder = Path(tmp)
-        for label, arguments in cases(args.only, folder, args.skip_sample):
+        for label, arguments in cases(args.only, folder, args.skip_sample, args.counts):
+            if args.current_only:
+                new_wall, new_cpu, _ = run_timed([args.current, *arguments])
+                print(f"{label:32s} {'-':>13s} {'-':>7s} {new_wall:12.1f}s {new_cpu:6.1f}s "
+                      f"{new_cpu / new_wall:8.2f}", flush=True)
+                continue
             old_wall, old_cpu, _ = run_timed([args.previous, *arguments])
             new_wall, new_cpu, _ = run_timed([args.current, *arguments])
             print(f"{label:32s} {old_wall:12.1f}s {old_cpu:6.1f}s {new_wall:12.1f}s "
