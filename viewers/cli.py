@@ -6,11 +6,18 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
 import re
 import sys
 import threading
 
 from trapscape.scene.errors import SceneError
+
+# One thread policy (DEVELOPERS.md, The engine's use of the machine): a `trapscape` process gives
+# BLAS one thread unless the user chose a count. The engine's BLAS work is many small products,
+# where a second BLAS thread only spins against numba's threads (2.5 x more CPU for `traps` on a
+# quiet machine, issue 14). numba's OpenMP threads sleep when idle instead of spinning.
+BLAS_THREAD_VARIABLES = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")
 
 COMMANDS = {
     "check": "validate a scene and list its parts, volumes and moments",
@@ -106,5 +113,34 @@ def main(argv=None) -> int:
         return 130
 
 
+def use_thread_policy(environ=os.environ) -> bool:
+    """Set the process's thread policy in the environment, before numpy and numba start.
+
+    BLAS (OpenBLAS, MKL) one thread unless the user set one of BLAS_THREAD_VARIABLES; idle
+    OpenMP threads (numba's) wait passively unless OMP_WAIT_POLICY is set. Both libraries read
+    these when they load, so this does nothing once numpy is imported (a caller's process: the
+    tests call main() with the BLAS they have).
+
+    Returns
+    -------
+    bool
+        Whether the BLAS setting was made here.
+    """
+    if "numpy" in sys.modules:
+        return False
+    environ.setdefault("OMP_WAIT_POLICY", "PASSIVE")
+    if any(name in environ for name in BLAS_THREAD_VARIABLES):
+        return False
+    environ["OPENBLAS_NUM_THREADS"] = "1"
+    environ["MKL_NUM_THREADS"] = "1"
+    return True
+
+
+def console_main() -> int:
+    """The `trapscape` program: the thread policy, then main()."""
+    use_thread_policy()
+    return main()
+
+
 if __name__ == "__main__":
-    sys.exit(main())
+    sys.exit(console_main())

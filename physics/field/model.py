@@ -9,6 +9,7 @@ import numpy as np
 
 from trapscape.scene.units import MU0
 from trapscape.physics.field.dipole_sum import dipole_H
+from trapscape.physics.field.families import Family, evaluation_steps
 from trapscape.physics.field.parts import part_magnetization, part_sdf, part_sources
 from trapscape.physics.field.sources import Source, mirrored
 from trapscape.physics.field.surfaces import evaluation_points
@@ -22,6 +23,7 @@ class FieldModel:
         self.magnets = scene.magnets
         self.plates = scene.plates
         self.sources = sources
+        self._steps = {}  # frozenset of excluded parts -> the evaluation steps
 
     @classmethod
     def from_scene(cls, scene, accuracy: float = 1e-3) -> "FieldModel":
@@ -88,6 +90,14 @@ class FieldModel:
                 progress(min(start + CHUNK, len(points)), len(points))
         return (H, G) if gradient else H
 
+    def _evaluation_steps(self, exclude):
+        """The chosen sources, runs of boxes or cylinders packed into one kernel call each
+        (physics/field/families.py), built once per set of excluded parts."""
+        key = frozenset(exclude)
+        if key not in self._steps:
+            self._steps[key] = evaluation_steps([s for s in self.sources if s.part not in key])
+        return self._steps[key]
+
     def _H_batch(self, points, exclude, gradient):
         chosen = [s for s in self.sources if s.part not in exclude]
         H = np.zeros_like(points)
@@ -98,11 +108,13 @@ class FieldModel:
             moments = np.concatenate([s.dipole_moments for s in plain_sets])
             _accumulate(H, G, dipole_H(points, positions, moments, gradient=gradient), gradient,
                         slice(None))
-        for source in chosen:
-            if source.near is not None:
-                self._add_zoned(source, points, H, G, gradient)
-            elif source.kind != "dipoles":
-                source.add_closed_form_H(points, gradient, H, G)
+        for step in self._evaluation_steps(exclude):
+            if isinstance(step, Family):
+                step.add_H(points, gradient, H, G)
+            elif step.near is not None:
+                self._add_zoned(step, points, H, G, gradient)
+            else:
+                step.add_closed_form_H(points, gradient, H, G)
         return H, G
 
     @staticmethod

@@ -206,6 +206,9 @@ def _count(text):
     return count
 
 
+CSV_CHUNK_ROWS = 50_000  # rows formatted by one % operation (bounds the memory of the text)
+
+
 def _write_csv(path, scene, points, values, names):
     u = scene.units
     header = [f"x_{u}", f"y_{u}", f"z_{u}", "Bx_T", "By_T", "Bz_T",
@@ -213,11 +216,19 @@ def _write_csv(path, scene, points, values, names):
     table = np.column_stack([points / scene.unit_scale, values.B, values.H,
                              np.linalg.norm(values.B, axis=1)])
     row_format = ",".join(["%.9g"] * table.shape[1]) + ",%d,%s\n"
-    owners = [_csv_cell(names[i]) if i >= 0 else "" for i in values.inside_magnet]
+    cells = np.array([""] + [_csv_cell(name) for name in names], dtype=object)
+    owners = cells[np.asarray(values.inside_magnet) + 1]  # -1 (air) -> ""
+    in_model = np.asarray(values.in_model).astype(np.int64)
     with replaced_atomically(path, newline="") as handle:
         handle.write(",".join(header) + "\n")
-        handle.writelines(row_format % (*row, ok, owner)
-                          for row, ok, owner in zip(table.tolist(), values.in_model, owners))
+        for start in range(0, len(table), CSV_CHUNK_ROWS):
+            rows = slice(start, start + CSV_CHUNK_ROWS)
+            block = np.empty((len(table[rows]), table.shape[1] + 2), dtype=object)
+            block[:, :-2] = table[rows]
+            block[:, -2] = in_model[rows]
+            block[:, -1] = owners[rows]
+            # one C-level % over the whole block instead of one Python call per row
+            handle.write((row_format * len(block)) % tuple(block.ravel().tolist()))
 
 
 def _csv_cell(text: str) -> str:
