@@ -3,6 +3,7 @@ side by side with another installation of trapscape (run by hand).
 
     python benchmarks/mesh_traps_speed.py [--old PYTHON] [--sizes 1000,10000,100000]
                                           [--timeout SECONDS] [--rounds N] [--no-rotor]
+    python benchmarks/mesh_traps_speed.py --queries [--sizes ...]
 
 Writes the discs (10 mm across, 5 mm high, magnetised along their axis, a 2 mm steel ball as the
 probe) into a temporary folder: nothing is committed. Each case runs as whole processes, this
@@ -100,6 +101,26 @@ def model_build_seconds(scene: Path) -> float:
     return time.perf_counter() - start
 
 
+def query_seconds(triangles: int, count: int = 2000) -> tuple[float, float]:
+    """Seconds of mesh_sdf (tree) and of the brute-force distance and parity, same points."""
+    from trapscape.scene.shapes import meshops
+
+    mesh = disc_mesh(triangles)
+    vertices, faces = np.asarray(mesh.vertices) * 1e-3, np.asarray(mesh.faces, np.int64)
+    vertices.setflags(write=False)
+    faces.setflags(write=False)
+    points = np.random.default_rng(0).uniform(-0.01, 0.01, (count, 3))
+    seconds = []
+    for query in (lambda p: meshops.mesh_sdf(p, vertices, faces),
+                  lambda p: (meshops.brute_mesh_distance(p, vertices, faces),
+                             meshops.brute_mesh_inside(p, vertices, faces))):
+        query(points[:10])
+        start = time.perf_counter()
+        query(points)
+        seconds.append(time.perf_counter() - start)
+    return seconds[0], seconds[1]
+
+
 def shown(times: list, timeout: float) -> str:
     if any(t is None for t in times):
         return f"> {timeout:.0f}"
@@ -122,8 +143,15 @@ def main(argv=None) -> int:
     parser.add_argument("--timeout", type=float, default=900.0)
     parser.add_argument("--rounds", type=int, default=1)
     parser.add_argument("--no-rotor", action="store_true")
+    parser.add_argument("--queries", action="store_true")
     args = parser.parse_args(argv)
     sizes = [int(float(s)) for s in args.sizes.split(",")]
+    if args.queries:
+        print("triangles | tree s | brute force s | ratio")
+        for n in sizes:
+            tree, brute = query_seconds(n)
+            print(f"{len(disc_mesh(n).faces)} | {tree:.4f} | {brute:.3f} | {brute / tree:.0f}x")
+        return 0
     sides = [("this code", sys.executable)] + ([("other code", args.old)] if args.old else [])
     with tempfile.TemporaryDirectory() as folder:
         folder = Path(folder)

@@ -326,8 +326,8 @@ def _nearest_row(px, py, pz, tri, lower, upper, first, count, left):
     while top > 0:
         top -= 1
         node = stack[top]
-        if _box_distance2(px, py, pz, lower, upper, node) > best:
-            continue
+        if _box_distance2(px, py, pz, lower, upper, node) >= best:
+            continue  # nothing in it can be strictly nearer
         if count[node] > 0:
             for t in range(first[node], first[node] + count[node]):
                 d2 = _closest_distance2(px, py, pz, tri[t, 0, 0], tri[t, 0, 1], tri[t, 0, 2],
@@ -341,10 +341,10 @@ def _nearest_row(px, py, pz, tri, lower, upper, first, count, left):
         db = _box_distance2(px, py, pz, lower, upper, b)
         if da <= db:
             a, b, da, db = b, a, db, da
-        if da <= best:  # the farther child goes below the nearer one on the stack
+        if da < best:  # the farther child goes below the nearer one on the stack
             stack[top] = a
             top += 1
-        if db <= best:
+        if db < best:
             stack[top] = b
             top += 1
     return row, best

@@ -58,8 +58,18 @@ def test_distance_inside_and_sign_equal_the_brute_force(name):
     np.testing.assert_allclose(meshops.mesh_distance(p, vertices, faces),
                                meshops.brute_mesh_distance(p, vertices, faces), rtol=RTOL, atol=0)
     np.testing.assert_array_equal(meshops.mesh_inside(p, vertices, faces), inside)
-    np.testing.assert_allclose(meshops.mesh_sdf(p, vertices, faces), _brute_sdf(p, vertices, faces),
-                               rtol=RTOL, atol=0)
+    brute = _brute_sdf(p, vertices, faces)
+    exact = meshtree.tree_signed_distance(p, meshtree.mesh_tree(vertices, faces))[0]
+    np.testing.assert_allclose(exact, brute, rtol=RTOL, atol=0)
+    far = meshops._far_from(vertices, p)
+    assert 100 < far.sum() < len(p) - 100
+    sdf = meshops.mesh_sdf(p, vertices, faces)
+    np.testing.assert_allclose(sdf[~far], brute[~far], rtol=RTOL, atol=0)
+    # far out, the nearest vertex's distance (the former rule, kept): at most one edge more
+    nearest_vertex = np.linalg.norm(p[far, None, :] - vertices[None], axis=2).min(axis=1)
+    np.testing.assert_allclose(sdf[far], nearest_vertex, rtol=RTOL, atol=0)
+    longest_edge = np.linalg.norm(vertices[faces] - vertices[np.roll(faces, 1, axis=1)], axis=2).max()
+    assert np.all((sdf[far] >= brute[far]) & (sdf[far] <= brute[far] + longest_edge))
 
 
 @pytest.mark.parametrize("name", MESHES)
@@ -70,7 +80,7 @@ def test_normal_points_from_the_closest_point_and_is_the_distance_gradient(name)
     through q lies inside the empty ball about p, so nothing else comes closer)."""
     vertices, faces = MESHES[name]()
     p = _random_points(vertices, faces, seed=2)
-    sdf, normal = meshops.mesh_sdf_and_normal(p, vertices, faces)
+    sdf, normal = meshtree.tree_signed_distance(p, meshtree.mesh_tree(vertices, faces))
     size = meshops.mesh_size(vertices)
     np.testing.assert_allclose(np.linalg.norm(normal, axis=1), 1.0, rtol=1e-12)
     closest = p - sdf[:, None] * normal
@@ -118,7 +128,8 @@ def test_a_triangle_soup_takes_its_sign_from_parity():
     soup_faces = np.arange(len(soup_vertices)).reshape(-1, 3)
     assert not meshtree.build_tree(soup_vertices, soup_faces).manifold
     p = _random_points(vertices, faces, seed=4)
-    np.testing.assert_allclose(meshops.mesh_sdf(p, soup_vertices, soup_faces),
+    soup = meshtree.mesh_tree(soup_vertices, soup_faces)
+    np.testing.assert_allclose(meshtree.tree_signed_distance(p, soup)[0],
                                _brute_sdf(p, vertices, faces), rtol=RTOL, atol=0)
 
 
