@@ -296,17 +296,17 @@ def mesh_sdf_and_normal(points, vertices, faces) -> tuple[np.ndarray, np.ndarray
     pseudonormal (J. A. Baerentzen and H. Aanaes, IEEE Trans. Vis. Comput. Graph. 11, 243
     (2005)), ray parity on the surface itself.
     """
-    from scipy.spatial import cKDTree
-
     p = _points(points)
     V = np.asarray(vertices, dtype=float)
+    tree = mesh_tree(vertices, faces)
     far = _far_from(V, p)
+    if not far.any():
+        return tree_signed_distance(p, tree)
     distance, normal = np.empty(len(p)), np.empty((len(p), 3))
-    if far.any():
-        distance[far], nearest = cKDTree(V).query(p[far])
-        normal[far] = (p[far] - V[nearest]) / distance[far][:, None]
+    distance[far], nearest = tree.vertex_tree.query(p[far])
+    normal[far] = (p[far] - V[nearest]) / distance[far][:, None]
     if not far.all():
-        distance[~far], normal[~far] = tree_signed_distance(p[~far], mesh_tree(vertices, faces))
+        distance[~far], normal[~far] = tree_signed_distance(p[~far], tree)
     return distance, normal
 
 

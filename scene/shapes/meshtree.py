@@ -21,6 +21,7 @@ from dataclasses import dataclass
 import numba
 import numpy as np
 from numba import njit, prange
+from scipy.spatial import cKDTree
 
 LEAF_SIZE = 8
 _STACK = 128  # a median split halves every level: depth <= log2(F / LEAF_SIZE) + 1
@@ -93,6 +94,7 @@ class MeshTree:
     edge_normals : (F, 3, 3) edge pseudonormals of ab, ac, bc (leaf order).
     manifold : bool, every edge shared by exactly two faces (else the sign comes from parity).
     size : float, m, the mesh's largest bounding-box side.
+    vertex_tree : scipy.spatial.cKDTree of the vertices (meshops' far-field rule).
     """
 
     triangles: np.ndarray
@@ -107,6 +109,7 @@ class MeshTree:
     edge_normals: np.ndarray
     manifold: bool
     size: float
+    vertex_tree: cKDTree
 
 
 @njit(cache=True)
@@ -214,7 +217,7 @@ def build_tree(vertices, faces) -> MeshTree:
     return MeshTree(np.ascontiguousarray(tri[order]), order, lower, upper, first, count, left,
                     np.ascontiguousarray(face[order]), np.ascontiguousarray(corner[order]),
                     np.ascontiguousarray(edges[order]), manifold,
-                    float(np.ptp(vertices, axis=0).max()))
+                    float(np.ptp(vertices, axis=0).max()), cKDTree(vertices))
 
 
 # One tree per mesh array pair, kept while the arrays live. Mesh parts hold read-only arrays
@@ -249,7 +252,8 @@ def mesh_tree(vertices, faces) -> MeshTree:
         return entry[2]
     tree = build_tree(vertices, faces)
     try:
-        refs = (weakref.ref(vertices, lambda _: _TREES.pop(key, None)), weakref.ref(faces))
+        refs = (weakref.ref(vertices, lambda _, trees=_TREES: trees.pop(key, None)),
+                weakref.ref(faces))
     except TypeError:
         return tree
     _TREES[key] = (*refs, tree)
