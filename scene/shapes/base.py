@@ -44,7 +44,7 @@ class Shape(Protocol):
     from_file: bool  # its solid comes from a mesh file (no dims)
     radial_ok: bool  # may be magnetised radial-out / radial-in
     is_ball: bool  # a sphere: forces on it have a closed form
-    cheap_distance: bool  # sdf is a closed form (else a brute-force mesh distance)
+    cheap_distance: bool  # sdf is a closed form (else a mesh distance through a tree)
     fit_far_field: bool  # a large tessellation may be replaced by fitted dipoles far away
     closed_form: str  # key of physics.field.sources.CLOSED_FORMS that draws its field
     radial_closed_form: str | None  # the key that draws it magnetised radially (None: dipoles)
@@ -231,6 +231,12 @@ class BaseShape:
     def inside(self, part, points) -> np.ndarray:
         """(N,) bool: body points strictly inside (sdf < 0; a point on the surface is outside)."""
         return self.sdf(part, points) < 0.0
+
+    def sdf_and_normal(self, part, points) -> tuple:
+        """The signed distance (N,) m of body points and its gradient, the outward unit normal
+        (N, 3) in the body frame, where the shape knows it from its closest feature; None for
+        the normal where it does not (the caller differentiates the distance)."""
+        return self.sdf(part, points), None
 
     def field_params(self, part) -> tuple:
         """The arguments of its closed form before the magnetisation: here (vertices, faces)."""

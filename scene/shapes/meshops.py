@@ -1,5 +1,6 @@
 """Operations on closed, outward-oriented triangle meshes: volume, centroid, thickness, solid angle
-and winding number, ray-parity inside test, distance. Arguments: points (N, 3) float in m,
+and winding number, ray-parity inside test, distance (through the cached bounding-volume
+hierarchy of meshtree.py; the brute-force forms over every triangle are kept as references). Arguments: points (N, 3) float in m,
 vertices (V, 3) float in m, faces (F, 3) int, counter-clockwise seen from outside.
 
 Surface convention (DESIGN.md Conventions): a point within SURFACE_TOL of the mesh size of the
@@ -12,6 +13,9 @@ import math
 import numba
 import numpy as np
 from numba import njit, prange
+
+from trapscape.scene.shapes.meshtree import (JITTER, _closest_distance2, mesh_tree,
+                                             tree_distance, tree_inside, tree_signed_distance)
 
 SURFACE_TOL = 1e-12  # relative to the mesh's largest bounding-box side
 
@@ -203,50 +207,6 @@ def winding_number(points, vertices, faces) -> np.ndarray:
     return W
 
 
-@njit(cache=True)
-def _closest_distance2(px, py, pz, ax, ay, az, bx, by, bz, cx, cy, cz):
-    """Squared distance from p to triangle abc (Ericson 2005, ClosestPtPointTriangle)."""
-    abx, aby, abz = bx - ax, by - ay, bz - az
-    acx, acy, acz = cx - ax, cy - ay, cz - az
-    apx, apy, apz = px - ax, py - ay, pz - az
-    d1 = abx * apx + aby * apy + abz * apz
-    d2 = acx * apx + acy * apy + acz * apz
-    if d1 <= 0.0 and d2 <= 0.0:
-        qx, qy, qz = ax, ay, az
-    else:
-        bpx, bpy, bpz = px - bx, py - by, pz - bz
-        d3 = abx * bpx + aby * bpy + abz * bpz
-        d4 = acx * bpx + acy * bpy + acz * bpz
-        cpx, cpy, cpz = px - cx, py - cy, pz - cz
-        d5 = abx * cpx + aby * cpy + abz * cpz
-        d6 = acx * cpx + acy * cpy + acz * cpz
-        vc = d1 * d4 - d3 * d2
-        vb = d5 * d2 - d1 * d6
-        va = d3 * d6 - d5 * d4
-        if d3 >= 0.0 and d4 <= d3:
-            qx, qy, qz = bx, by, bz
-        elif d6 >= 0.0 and d5 <= d6:
-            qx, qy, qz = cx, cy, cz
-        elif vc <= 0.0 and d1 >= 0.0 and d3 <= 0.0:
-            t = d1 / (d1 - d3)
-            qx, qy, qz = ax + t * abx, ay + t * aby, az + t * abz
-        elif vb <= 0.0 and d2 >= 0.0 and d6 <= 0.0:
-            t = d2 / (d2 - d6)
-            qx, qy, qz = ax + t * acx, ay + t * acy, az + t * acz
-        elif va <= 0.0 and (d4 - d3) >= 0.0 and (d5 - d6) >= 0.0:
-            t = (d4 - d3) / ((d4 - d3) + (d5 - d6))
-            qx, qy, qz = bx + t * (cx - bx), by + t * (cy - by), bz + t * (cz - bz)
-        else:
-            denom = 1.0 / (va + vb + vc)
-            v = vb * denom
-            w = vc * denom
-            qx = ax + abx * v + acx * w
-            qy = ay + aby * v + acy * w
-            qz = az + abz * v + acz * w
-    dx, dy, dz = px - qx, py - qy, pz - qz
-    return dx * dx + dy * dy + dz * dz
-
-
 @njit(cache=True, parallel=True)
 def _mesh_distance_kernel(points, V, F, out):
     for m in prange(points.shape[0]):
@@ -261,8 +221,9 @@ def _mesh_distance_kernel(points, V, F, out):
         out[m] = math.sqrt(best)
 
 
-def mesh_distance(points, vertices, faces) -> np.ndarray:
-    """Unsigned distance (N,) to the surface of a triangle mesh (brute force over triangles).
+def brute_mesh_distance(points, vertices, faces) -> np.ndarray:
+    """Unsigned distance (N,) to the surface, over every triangle: the reference that
+    mesh_distance must equal.
 
     Parameters
     ----------
@@ -283,12 +244,9 @@ def mesh_distance(points, vertices, faces) -> np.ndarray:
     _mesh_distance_kernel(p, V, F, out)
     return out
 
-def mesh_sdf(points, vertices, faces) -> np.ndarray:
-    """Signed distance (N,) to a closed outward-oriented mesh, negative inside (ray parity).
 
-    Brute force over the triangles within one mesh size of its bounding box; farther out, the
-    distance to the nearest vertex, which exceeds the true distance by less than the longest
-    edge (a small relative error there, and the brute force would cost ~50 ns per triangle).
+def mesh_distance(points, vertices, faces) -> np.ndarray:
+    """Unsigned distance (N,) to the surface of a triangle mesh (the mesh's cached tree).
 
     Parameters
     ----------
@@ -300,22 +258,75 @@ def mesh_sdf(points, vertices, faces) -> np.ndarray:
 
     References
     ----------
-    Ericson (2005) 5.1.5 for the distance; the sign from mesh_inside (ray parity).
+    Closest point on a triangle: C. Ericson, Real-Time Collision Detection, 2005, 5.1.5; the
+    tree: ibid. 6.2.
     """
-    from scipy.spatial import cKDTree
+    return tree_distance(points, mesh_tree(vertices, faces))
 
+
+def _far_from(vertices, points) -> np.ndarray:
+    """Points farther than one bounding-box diagonal from the mesh's bounding box."""
+    lower, upper = vertices.min(axis=0), vertices.max(axis=0)
+    box_distance = np.linalg.norm(np.maximum(np.maximum(lower - points, points - upper), 0.0),
+                                  axis=1)
+    return box_distance > float(np.linalg.norm(upper - lower))
+
+
+def mesh_sdf_and_normal(points, vertices, faces) -> tuple[np.ndarray, np.ndarray]:
+    """Signed distance (N,) to a closed outward-oriented mesh (negative inside) and its
+    gradient (N, 3), the outward unit normal of the closest feature.
+
+    Exact (the mesh's cached tree) within one bounding-box diagonal of the mesh's bounding box;
+    farther out, the distance to the nearest vertex, which exceeds the true distance by less
+    than the longest edge, and its gradient (the rule of the brute force this replaced, kept
+    so that figures computed far from a part, such as the implant distance, stay as they were).
+
+    Parameters
+    ----------
+    points, vertices, faces : (N, 3) m, (V, 3) m and (F, 3) int (module docstring).
+
+    Returns
+    -------
+    distance : (N,) float64, m.
+    normal : (N, 3) float64, unit.
+
+    References
+    ----------
+    Ericson (2005) 5.1.5 for the distance; the sign from the closest feature's angle-weighted
+    pseudonormal (J. A. Baerentzen and H. Aanaes, IEEE Trans. Vis. Comput. Graph. 11, 243
+    (2005)), ray parity on the surface itself.
+    """
     p = _points(points)
     V = np.asarray(vertices, dtype=float)
-    lower, upper = V.min(axis=0), V.max(axis=0)
-    box_distance = np.linalg.norm(np.maximum(np.maximum(lower - p, p - upper), 0.0), axis=1)
-    near = box_distance <= float(np.linalg.norm(upper - lower))
-    d = np.empty(len(p))
-    d[~near] = cKDTree(V).query(p[~near])[0] if (~near).any() else 0.0
-    if near.any():
-        d[near] = mesh_distance(p[near], V, faces)
-        inside = mesh_inside(p[near], V, faces)
-        d[np.flatnonzero(near)[inside]] *= -1.0
-    return d
+    tree = mesh_tree(vertices, faces)
+    far = _far_from(V, p)
+    if not far.any():
+        return tree_signed_distance(p, tree)
+    distance, normal = np.empty(len(p)), np.empty((len(p), 3))
+    distance[far], nearest = tree.vertex_tree.query(p[far])
+    normal[far] = (p[far] - V[nearest]) / distance[far][:, None]
+    if not far.all():
+        distance[~far], normal[~far] = tree_signed_distance(p[~far], tree)
+    return distance, normal
+
+
+def mesh_sdf(points, vertices, faces) -> np.ndarray:
+    """Signed distance (N,) to a closed outward-oriented mesh, negative inside (the distance of
+    mesh_sdf_and_normal, with its far-field rule).
+
+    Parameters
+    ----------
+    points, vertices, faces : (N, 3) m, (V, 3) m and (F, 3) int (module docstring).
+
+    Returns
+    -------
+    (N,) float64, m.
+
+    References
+    ----------
+    As mesh_sdf_and_normal.
+    """
+    return mesh_sdf_and_normal(points, vertices, faces)[0]
 
 
 # -- ray parity --------------------------------------------------------------------------------
@@ -324,9 +335,9 @@ def mesh_sdf(points, vertices, faces) -> np.ndarray:
 # bounding-box rejection per triangle this costs about 1 ns per triangle and point, an order of
 # magnitude less than the winding number, which is what the dipole lattices of mesh parts need.
 
-# Rays through a mesh edge or vertex would count twice; shifting the ray's foot by an irrational
-# fraction of the mesh size makes that a measure-zero accident for lattice points.
-_JITTER = np.array([0.70710678e-9, 0.31830989e-9])
+# Rays through a mesh edge or vertex would count twice; the ray's foot is shifted by an
+# irrational fraction of the mesh size (meshtree.JITTER), a measure-zero accident for lattice
+# points.
 
 
 @numba.njit(parallel=True, cache=True)
@@ -368,8 +379,28 @@ def _triangle_tables(vertices, faces):
     return triangles, np.ascontiguousarray(boxes)
 
 
-def mesh_inside(points: np.ndarray, vertices: np.ndarray, faces: np.ndarray) -> np.ndarray:
-    """(N,) bool: which points lie inside the closed mesh, by ray parity.
+def mesh_inside(points, vertices, faces) -> np.ndarray:
+    """(N,) bool: which points lie inside the closed mesh, by ray parity (the mesh's cached tree).
+
+    Parameters
+    ----------
+    points, vertices, faces : (N, 3) m, (V, 3) m and (F, 3) int (module docstring).
+
+    Returns
+    -------
+    (N,) bool.
+
+    References
+    ----------
+    Ray parity (Jordan curve theorem in 3D): J. O'Rourke, Computational Geometry in C, 2nd ed.
+    (1998), 7.4.
+    """
+    return tree_inside(points, mesh_tree(vertices, faces))
+
+
+def brute_mesh_inside(points: np.ndarray, vertices: np.ndarray, faces: np.ndarray) -> np.ndarray:
+    """(N,) bool: which points lie inside the closed mesh, by ray parity over every triangle:
+    the reference that mesh_inside must equal.
 
     Parameters
     ----------
@@ -388,7 +419,7 @@ def mesh_inside(points: np.ndarray, vertices: np.ndarray, faces: np.ndarray) -> 
     vertices = np.asarray(vertices, dtype=float)
     size = float(np.ptp(vertices, axis=0).max())
     shifted = points.copy()
-    shifted[:, :2] += _JITTER * size
+    shifted[:, :2] += JITTER * size
     triangles, boxes = _triangle_tables(vertices, faces)
     out = np.zeros(len(points), dtype=np.bool_)
     # one complex key per (x, y): a 1D unique is far faster than unique(axis=0)

@@ -7,7 +7,7 @@ import ast
 from repo_paths import REPO
 
 ALLOWED = {"numpy", "scipy", "numba", "trimesh", "math", "typing", "functools", "dataclasses",
-           "__future__"}
+           "weakref", "__future__"}
 
 
 def imported_modules(path):
