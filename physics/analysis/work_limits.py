@@ -32,7 +32,16 @@ __all__ = ["MAX_SEARCH_SECONDS", "check_search_work", "estimated_search_seconds"
 
 
 def lattice_cells(magnet) -> float:
-    """Estimated dipole cells of a part built as a lattice (volume / cell^3); 0 for others."""
+    """Estimated dipole cells of a part built as a lattice (volume / cell^3); 0 for others.
+
+    Parameters
+    ----------
+    magnet : trapscape.scene.model.Magnet
+
+    Returns
+    -------
+    float
+    """
     radial_closed_form = shape_of(magnet).radial_closed_form
     lattice = magnet.method == "dipoles" or (magnet.radial is not None and radial_closed_form is None)
     if not lattice:
@@ -41,7 +50,18 @@ def lattice_cells(magnet) -> float:
 
 
 def estimated_search_seconds(grid_points: int, cells: float) -> float:
-    """Wall seconds of a trap search over `grid_points` with `cells` dipole cells in the scene."""
+    """Wall seconds of a trap search over `grid_points` with `cells` dipole cells in the scene.
+
+    Parameters
+    ----------
+    grid_points : int
+    cells : float
+
+    Returns
+    -------
+    float
+        0 without cells (closed forms only).
+    """
     if cells < 1:
         return 0.0
     one_pass = min(direct_cost_s(grid_points, int(cells), gradient=True),
@@ -50,7 +70,12 @@ def estimated_search_seconds(grid_points: int, cells: float) -> float:
 
 
 def check_search_work(scene) -> None:
-    """Refuse, in one sentence naming what to change, a trap search estimated past an hour.
+    """Refuse, in one sentence naming what to change, a trap search estimated past an hour or
+    a quarter of the machine's memory.
+
+    Parameters
+    ----------
+    scene : trapscape.scene.model.Scene
 
     Raises
     ------

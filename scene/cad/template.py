@@ -15,6 +15,7 @@ from trapscape.scene.errors import SceneError
 from trapscape.scene.files import MAX_SCENE_BYTES, read_limited
 from trapscape.scene.tomlfile import parse_toml
 
+MAGNET_TABLES = "magnet"  # the scene's [[magnet]] array
 HINT = "give a scene with the probe, search box and the rest, and no [[magnet]]"
 
 
@@ -28,7 +29,7 @@ def read_template(path) -> str:
     shown = str(path)
     raw = read_limited(path, MAX_SCENE_BYTES, "the template scene", HINT)
     document = parse_toml(raw, shown)
-    if "magnet" in document:
+    if document.get(MAGNET_TABLES):
         raise SceneError(f"{shown}: a template holds no [[magnet]] (the magnets come from each "
                          f"CAD export); move them out of the template.")
     if document.get("units") != SCENE_UNIT_WORD:
