@@ -292,24 +292,24 @@ def unexplained_ends(tracks, folds, n_steps: int) -> list:
 
     Returns
     -------
-    list of (int, int)
-        (step to search again, neighbouring step whose equilibria to start from), in order.
+    list of (int, tuple of int)
+        (step to search again, the neighbouring steps whose equilibria to start from), in order.
     """
     in_folds = {number for f in folds for number in f.tracks}
-    redo = set()
+    redo = {}
     for track in tracks:
         if track.number in in_folds:
             continue
         if track.last < n_steps - 1:
-            redo.add((track.last + 1, track.last))
+            redo.setdefault(track.last + 1, set()).add(track.last)
         if track.first > 0:
-            redo.add((track.first - 1, track.first))
-    return sorted(redo)
+            redo.setdefault(track.first - 1, set()).add(track.first)
+    return [(s, tuple(sorted(redo[s]))) for s in sorted(redo)]
 
 
 def continued(steps, tracks, folds, search_from) -> tuple:
     """The steps after one round of continuation: each step next to an unexplained track end
-    searched again from its neighbour's equilibria, kept when it finds more equilibria.
+    searched once again from its neighbours' equilibria, kept when it finds more equilibria.
 
     Parameters
     ----------
@@ -328,10 +328,11 @@ def continued(steps, tracks, folds, search_from) -> tuple:
         The steps replaced.
     """
     steps, changed = list(steps), []
-    for s, neighbour in unexplained_ends(tracks, folds, len(steps)):
-        if "error" in steps[s] or "error" in steps[neighbour]:
+    for s, neighbours in unexplained_ends(tracks, folds, len(steps)):
+        if "error" in steps[s]:
             continue
-        again = search_from(s, _positions(steps[neighbour]))
+        starts = np.vstack([_positions(steps[n]) for n in neighbours])  # errored steps: none
+        again = search_from(s, starts)
         if len(again.get("equilibria", [])) > len(steps[s].get("equilibria", [])):
             steps[s] = {**again, "continued": True}
             changed.append(s)
