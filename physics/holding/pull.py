@@ -25,7 +25,6 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 import numpy as np
-from scipy.optimize import minimize_scalar
 
 from trapscape.physics.field.model import FieldModel
 from trapscape.physics.field.parts import bounding_diagonal
@@ -141,6 +140,8 @@ def peel_lever(shadow, centre) -> float:
     sampled = distance(angles)
     local = np.flatnonzero((sampled <= np.roll(sampled, 1)) & (sampled <= np.roll(sampled, -1)))
     best = float(sampled.min())
+    from scipy.optimize import minimize_scalar  # here: scipy.optimize costs every start 0.6 s
+
     for k in local[np.argsort(sampled[local])][:PEEL_REFINED]:
         found = minimize_scalar(lambda a: float(distance(np.array([a]))[0]),
                                 bounds=(angles[k] - step, angles[k] + step), method="bounded",

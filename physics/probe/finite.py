@@ -22,7 +22,6 @@ import math
 from functools import lru_cache
 
 import numpy as np
-from scipy.integrate import lebedev_rule
 from scipy.special import roots_jacobi
 
 from trapscape.physics.probe.models import ProbeModel
@@ -31,6 +30,14 @@ from trapscape.scene.units import MU0
 DEFAULT_DEGREE = 7
 LEBEDEV_ORDERS = (3, 5, 7, 9, 11, 13, 15, 17, 19, 21, 23, 25, 27, 29, 31, 35, 41, 47, 53, 59, 65,
                   71, 77, 83, 89)
+
+
+def lebedev_rule(order: int):
+    """scipy.integrate.lebedev_rule, imported on first use: scipy.integrate brings in
+    scipy.optimize, which costs every command 0.5 s at start-up."""
+    from scipy.integrate import lebedev_rule as rule
+
+    return rule(order)
 
 
 @lru_cache(maxsize=8)

@@ -17,7 +17,7 @@ import math
 from dataclasses import dataclass, replace
 
 import numpy as np
-from scipy import ndimage, signal
+from scipy import ndimage
 
 from trapscape.physics.traps.candidates import corner_slices, sign_change_mask
 from trapscape.physics.traps.scan import grid_force
@@ -160,6 +160,8 @@ def _dilated(mask, kernel) -> np.ndarray:
     """Cells within the kernel's ball of a masked cell."""
     if kernel.size <= DIRECT_KERNEL_CELLS:
         return ndimage.binary_dilation(mask, structure=kernel > 0)
+    from scipy import signal  # here: importing scipy.signal costs every command 0.5-0.9 s
+
     return signal.fftconvolve(mask.astype(float), (kernel > 0).astype(float), mode="same") > 0.5
 
 
@@ -167,4 +169,6 @@ def _ball_mean(values, kernel) -> np.ndarray:
     """The kernel's weighted mean around each cell (zero outside the array; kernel symmetric)."""
     if kernel.size <= DIRECT_KERNEL_CELLS:
         return ndimage.correlate(values, kernel, mode="constant", cval=0.0)
+    from scipy import signal
+
     return signal.fftconvolve(values, kernel, mode="same")

@@ -13,3 +13,14 @@ def test_building_the_parser_loads_no_engine():
             f"print(','.join(m for m in {HEAVY!r} if m in sys.modules))")
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert done.stdout.strip() == "", f"the parser imported {done.stdout.strip()}"
+
+
+def test_the_engine_loads_no_scipy_module_it_uses_only_sometimes():
+    """scipy.signal (large-kernel convolution), scipy.optimize (peel-angle refinement) and
+    scipy.integrate (the Lebedev rule of a finite probe) cost 0.5-0.9 s each at import; a command
+    that does not need them must not pay for them."""
+    sometimes = ("scipy.signal", "scipy.optimize", "scipy.integrate", "scipy.stats")
+    code = ("import sys\nimport trapscape.physics.analysis.run\n"
+            f"print(','.join(m for m in {sometimes!r} if m in sys.modules))")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert done.stdout.strip() == "", f"the engine imported {done.stdout.strip()}"

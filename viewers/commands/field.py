@@ -10,7 +10,7 @@ import numpy as np
 
 from trapscape.scene.errors import SceneError
 from trapscape.scene.reading import LARGEST_LENGTH
-from trapscape.viewers.atomic import replaced_atomically
+from trapscape.viewers.atomic import atomic_path
 from trapscape.viewers.commands.common import (
     FIGURE_SUFFIXES,
     MAX_FIELD_POINTS,
@@ -206,29 +206,25 @@ def _count(text):
     return count
 
 
-CSV_CHUNK_ROWS = 50_000  # rows formatted by one % operation (bounds the memory of the text)
+CSV_CHUNK_ROWS = 50_000  # rows formatted at a time (bounds the memory of the text)
 
 
 def _write_csv(path, scene, points, values, names):
+    from trapscape.viewers.csv_text import csv_block  # numba: not while building the parser
+
     u = scene.units
     header = [f"x_{u}", f"y_{u}", f"z_{u}", "Bx_T", "By_T", "Bz_T",
               "Hx_A_per_m", "Hy_A_per_m", "Hz_A_per_m", "B_T", "in_model", "inside_magnet"]
     table = np.column_stack([points / scene.unit_scale, values.B, values.H,
                              np.linalg.norm(values.B, axis=1)])
-    row_format = ",".join(["%.9g"] * table.shape[1]) + ",%d,%s\n"
-    cells = np.array([""] + [_csv_cell(name) for name in names], dtype=object)
-    owners = cells[np.asarray(values.inside_magnet) + 1]  # -1 (air) -> ""
+    owners = [""] + [_csv_cell(name) for name in names]
+    owner_of = np.asarray(values.inside_magnet) + 1  # -1 (air) -> ""
     in_model = np.asarray(values.in_model).astype(np.int64)
-    with replaced_atomically(path, newline="") as handle:
-        handle.write(",".join(header) + "\n")
+    with atomic_path(path) as temporary, open(temporary, "wb") as handle:
+        handle.write((",".join(header) + "\n").encode())
         for start in range(0, len(table), CSV_CHUNK_ROWS):
             rows = slice(start, start + CSV_CHUNK_ROWS)
-            block = np.empty((len(table[rows]), table.shape[1] + 2), dtype=object)
-            block[:, :-2] = table[rows]
-            block[:, -2] = in_model[rows]
-            block[:, -1] = owners[rows]
-            # one C-level % over the whole block instead of one Python call per row
-            handle.write((row_format * len(block)) % tuple(block.ravel().tolist()))
+            handle.write(csv_block(table[rows], in_model[rows], owners, owner_of[rows]))
 
 
 def _csv_cell(text: str) -> str:
