@@ -10,7 +10,8 @@ import numpy as np
 from trapscape.scene.units import MU0
 from trapscape.physics.field.dipole_sum import dipole_H
 from trapscape.physics.field.families import Family, evaluation_steps
-from trapscape.physics.field.parts import part_magnetization, part_sdf, part_sources
+from trapscape.physics.field.parts import body_bounds, part_magnetization, part_sdf, part_sources
+from trapscape.scene.shapes.frames import to_body
 from trapscape.physics.field.sources import Source, mirrored
 from trapscape.physics.field.surfaces import evaluation_points
 
@@ -24,6 +25,7 @@ class FieldModel:
         self.plates = scene.plates
         self.sources = sources
         self._steps = {}  # frozenset of excluded parts -> the evaluation steps
+        self._body_boxes = None  # each magnet's body-frame bounding box, on first use
 
     @classmethod
     def from_scene(cls, scene, accuracy: float = 1e-3) -> "FieldModel":
@@ -353,9 +355,36 @@ class FieldModel:
         numpy.ndarray, shape (N,)
             m; inf when the scene has neither magnets nor plates.
         """
-        both = np.concatenate([self.part_distances(points), self.plate_distances(points)], axis=1)
-        return both.min(axis=1) if both.shape[1] else np.full(len(both), np.inf)
+        points = np.asarray(points, dtype=float).reshape(-1, 3)
+        plates = self.plate_distances(points)
+        best = plates.min(axis=1) if plates.shape[1] else np.full(len(points), np.inf)
+        if not self.magnets:
+            return best
+        # Every part's surface lies in its bounding box, so its distance is at least the box's
+        # and at most that of the box's farthest corner: a part whose box is farther than the
+        # nearest farthest-corner cannot be the nearest part, and is not computed (exact mesh
+        # distances are the cost of contact searches). The minimum is the same, bit for bit.
+        floors, ceilings = self._box_distances(points)
+        reach = np.minimum(ceilings.min(axis=1), best)
+        for k, magnet in enumerate(self.magnets):
+            todo = floors[:, k] <= reach
+            if todo.any():
+                best[todo] = np.minimum(best[todo], part_sdf(magnet, points[todo]))
+        return best
 
+    def _box_distances(self, points) -> tuple[np.ndarray, np.ndarray]:
+        """(N, n_magnets) distances from each point to each part's body-frame bounding box
+        (0 inside it) and to the box's farthest corner, m."""
+        if self._body_boxes is None:
+            self._body_boxes = [body_bounds(m) for m in self.magnets]
+        floors = np.empty((len(points), len(self.magnets)))
+        ceilings = np.empty_like(floors)
+        for k, (magnet, (low, high)) in enumerate(zip(self.magnets, self._body_boxes)):
+            body = to_body(points, magnet.position, magnet.rotation)
+            floors[:, k] = np.linalg.norm(np.maximum(np.maximum(low - body, body - high), 0.0),
+                                          axis=1)
+            ceilings[:, k] = np.linalg.norm(np.maximum(body - low, high - body), axis=1)
+        return floors, ceilings
 
 def _accumulate(H, G, result, gradient, where):
     if gradient:

@@ -160,6 +160,8 @@ class ProbeGeometry:
         """
         points = np.asarray(points, float).reshape(-1, 3)
         magnets = self.field_model.magnets
+        if not FEATURE_NORMALS and (magnets or self.field_model.plates):
+            return self.clearance(points), self._differentiated_normal(points)
         distances = np.empty((len(points), len(magnets)))
         known = []
         for k, magnet in enumerate(magnets):
