@@ -86,7 +86,7 @@ def _group_cases(group, folder: Path, skip, counts):
                      "-o", str(folder / "field_1e6.csv"), "--quiet"]))
     if group == "samples":
         for sample in sorted(SAMPLES.glob("*.toml")):
-            if sample.name.endswith(".spec.toml") or sample.stem in skip:
+            if sample.name.endswith((".spec.toml", ".template.toml")) or sample.stem in skip:
                 continue
             out.append((f"traps {sample.stem}",
                         ["traps", str(sample), "--json", str(folder / f"{sample.stem}.json"),

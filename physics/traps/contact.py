@@ -161,7 +161,7 @@ class ProbeGeometry:
         points = np.asarray(points, float).reshape(-1, 3)
         magnets = self.field_model.magnets
         if not FEATURE_NORMALS and (magnets or self.field_model.plates):
-            return self.clearance(points), self._differentiated_normal(points)
+            return self._clearance_and_differentiated_normal(points)
         distances = np.empty((len(points), len(magnets)))
         known = []
         for k, magnet in enumerate(magnets):
@@ -200,12 +200,19 @@ class ProbeGeometry:
 
     def _differentiated_normal(self, points) -> np.ndarray:
         """Central differences of the clearance, step 1e-6 d/2, normalised."""
+        return self._clearance_and_differentiated_normal(points)[1]
+
+    def _clearance_and_differentiated_normal(self, points) -> tuple[np.ndarray, np.ndarray]:
+        """The clearance and its central differences (step 1e-6 d/2), normalised, from one
+        clearance call over the points and their six offsets (each call costs a tree search per
+        part, whatever its size)."""
         h = 1e-6 * self.radius
-        offsets = np.concatenate([np.eye(3), -np.eye(3)]) * h
+        offsets = np.concatenate([np.zeros((1, 3)), np.eye(3), -np.eye(3)]) * h
         values = self.clearance((points[:, None, :] + offsets[None]).reshape(-1, 3))
-        values = values.reshape(len(points), 6)
-        gradient = (values[:, :3] - values[:, 3:]) / (2.0 * h)
-        return gradient / np.maximum(np.linalg.norm(gradient, axis=1, keepdims=True), 1e-300)
+        values = values.reshape(len(points), 7)
+        gradient = (values[:, 1:4] - values[:, 4:]) / (2.0 * h)
+        normal = gradient / np.maximum(np.linalg.norm(gradient, axis=1, keepdims=True), 1e-300)
+        return values[:, 0], normal
 
     def clearance_hessian(self, points, tangents) -> np.ndarray:
         """Second derivatives of the clearance along tangents, by central differences.
