@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 from numba import njit, prange
@@ -364,6 +365,17 @@ def _charged(sn, ce, de) -> tuple[np.ndarray, np.ndarray]:
     return nonzero(sn), nonzero(np.hstack([ce, de]))
 
 
+@lru_cache(maxsize=128)
+def _charge_tables(tables: MeshTables, magnetization: tuple) -> tuple:
+    """_charges and _charged of one mesh and M, remembered: a trap search asks for the same part
+    thousands of times."""
+    sn, ce, de = _charges(tables, magnetization)
+    shared = (sn, ce, de, *_charged(sn, ce, de))
+    for array in shared:
+        array.flags.writeable = False  # one copy serves every later call
+    return shared
+
+
 def _scaled_points(tables: MeshTables, points) -> np.ndarray:
     points = np.asarray(points, dtype=float).reshape(-1, 3)
     return np.ascontiguousarray((points - tables.centre) / tables.scale)
@@ -371,8 +383,8 @@ def _scaled_points(tables: MeshTables, points) -> np.ndarray:
 
 def _run_field(points, vertices, faces, magnetization, want_h, want_g):
     t = mesh_tables(vertices, faces)
-    sn, ce, de = _charges(t, magnetization)
-    faces_on, edges_on = _charged(sn, ce, de)
+    M = tuple(float(m) for m in np.asarray(magnetization, dtype=float).reshape(3))
+    sn, ce, de, faces_on, edges_on = _charge_tables(t, M)
     p = _scaled_points(t, points)
     H = np.empty((len(p), 3)) if want_h else np.empty((1, 3))
     G = np.empty((len(p), 3, 3)) if want_g else np.empty((1, 3, 3))
