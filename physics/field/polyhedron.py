@@ -55,6 +55,7 @@ class MeshTables:
 
 
 _TABLES_CACHE: dict = {}
+_TABLES_BY_IDENTITY: dict = {}  # (id, id) of read-only arrays -> ((the arrays), tables)
 
 
 def mesh_tables(vertices: np.ndarray, faces: np.ndarray) -> MeshTables:
@@ -70,7 +71,8 @@ def mesh_tables(vertices: np.ndarray, faces: np.ndarray) -> MeshTables:
     Returns
     -------
     MeshTables
-        Scaled by the largest bounding-box side; cached on the arrays' bytes (up to 65 meshes).
+        Scaled by the largest bounding-box side; cached on the arrays' bytes (up to 65 meshes),
+        and on their identity when they are read-only and own their data.
 
     Raises
     ------
@@ -78,6 +80,10 @@ def mesh_tables(vertices: np.ndarray, faces: np.ndarray) -> MeshTables:
         A mesh with no triangles or no extent, face indices outside the vertex list, or a mesh
         that is not closed or not consistently oriented (mesh_tables).
     """
+    frozen = _frozen_pair(vertices, faces)
+    if frozen in _TABLES_BY_IDENTITY:
+        return _TABLES_BY_IDENTITY[frozen][1]
+    held = (vertices, faces)  # the arrays themselves, so that their ids stay theirs
     vertices = np.ascontiguousarray(vertices, dtype=float).reshape(-1, 3)
     faces = np.ascontiguousarray(faces, dtype=np.int64).reshape(-1, 3)
     key = (vertices.tobytes(), faces.tobytes())
@@ -87,7 +93,21 @@ def mesh_tables(vertices: np.ndarray, faces: np.ndarray) -> MeshTables:
         if len(_TABLES_CACHE) > 64:
             _TABLES_CACHE.clear()
         _TABLES_CACHE[key] = tables
+    if frozen is not None:
+        if len(_TABLES_BY_IDENTITY) > 64:
+            _TABLES_BY_IDENTITY.clear()
+        _TABLES_BY_IDENTITY[frozen] = (held, tables)
     return tables
+
+
+def _frozen_pair(vertices, faces):
+    """(id, id) of two read-only arrays that own their data (a scene's mesh), whose contents
+    cannot change while they are held; None for anything else. Hashing a 100,000-triangle
+    mesh's bytes takes milliseconds, and a trap search asks for the same mesh thousands of times."""
+    if all(isinstance(a, np.ndarray) and a.flags.owndata and not a.flags.writeable
+           for a in (vertices, faces)):
+        return id(vertices), id(faces)
+    return None
 
 
 def _unit(v: np.ndarray, fallback: np.ndarray) -> np.ndarray:

@@ -226,3 +226,20 @@ def test_open_or_misoriented_meshes_are_refused():
     flipped[0] = flipped[0][::-1]
     with pytest.raises(ValueError, match="oriented"):
         polyhedron_H(np.zeros((1, 3)), TETRA_V, flipped, M)
+
+
+def test_tables_are_remembered_by_identity_only_for_frozen_arrays():
+    """A read-only mesh (as a scene holds it) is looked up by identity; a writeable one by its
+    bytes, so that changing it in place gives new tables."""
+    from trapscape.physics.field.polyhedron import mesh_tables
+
+    vertices = np.array([[0, 0, 0], [1, 0, 0], [0, 1, 0], [0, 0, 1]], float) * 1e-3
+    faces = np.array([[0, 2, 1], [0, 1, 3], [0, 3, 2], [1, 2, 3]])
+    first = mesh_tables(vertices, faces)
+    vertices *= 2.0
+    assert mesh_tables(vertices, faces).scale == 2.0 * first.scale
+    vertices.flags.writeable = False
+    faces.flags.writeable = False
+    frozen = mesh_tables(vertices, faces)
+    assert mesh_tables(vertices, faces) is frozen
+    assert mesh_tables(vertices.copy(), faces.copy()) is frozen  # same bytes
