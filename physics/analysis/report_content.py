@@ -109,7 +109,7 @@ def report_content(analysis, units: DisplayUnits, progress=None) -> ReportConten
         units=units, cover=cover(analysis, check, units),
         headline=headline_sentence(report, scene, units),
         answers=tuple(family_answers(analysis, report, units, samples)),
-        warnings=tuple(margin_warnings(report, scene)),
+        warnings=tuple(margin_warnings(report, scene, units)),
         families=tuple(family_rows(report, scene, units)),
         notes=tuple(n for n in (report.earnshaw_note, *report.notes) if n),
         profile=guide_profile(scene, report, units, samples, how),

@@ -62,7 +62,7 @@ def write_report(analysis, folder, units, sizes=views.PictureSizes(), interactiv
                 "polarity": out / "polarity.png"}
     views.overview(ctx, str(pictures["overview"]), sizes.render)
     views.section_view(ctx, str(pictures["section"]), sizes.render)
-    views.polarity(ctx, str(pictures["polarity"]), sizes.polarity)
+    views.polarity(ctx, str(pictures["polarity"]), sizes.polarity, units)
     if content.profile is not None:
         pictures["profile"] = Path(draw_profile(content.profile, units, str(out / "profile.png"),
                                                 sizes.plot))
