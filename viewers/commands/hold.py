@@ -86,7 +86,7 @@ def run(args) -> int:
         write_json(args.output, payload)
         print(f"wrote {args.output}")
     if args.plot:
-        _plot(args.plot, scene, units, result, args)
+        _plot(args.plot, pull_figure(scene, units, result, args.friction))
         print(f"wrote the plot to {args.plot}")
     return 0
 
@@ -129,7 +129,18 @@ def _print_table(units, result, args, payload):
         print(f"caution: {caution}")
 
 
-def _plot(path, scene, units, result, args):
+def _plot(path, figure):
+    import matplotlib.pyplot as plt
+
+    try:
+        save_figure(figure, path)
+    finally:
+        plt.close(figure)
+
+
+def pull_figure(scene, units, result, friction):
+    """The pull (and the slip force, with a friction coefficient) against the gap, in the
+    reader's display units; the gaps where the plate saturates shaded."""
     import matplotlib
 
     matplotlib.use("Agg")
@@ -140,9 +151,9 @@ def _plot(path, scene, units, result, args):
     pulls = units.F(np.array([r.pull for r in rows]))
     figure, axes = plt.subplots(figsize=(6.4, 4.2), dpi=120)
     axes.plot(gaps, pulls, "o-", label="pull (mirror model)")
-    if args.friction is not None:
+    if friction is not None:
         axes.plot(gaps, units.F(np.array([r.slip for r in rows], float)), "s--",
-                  label=f"slip, friction {args.friction:g}")
+                  label=f"slip, friction {friction:g}")
     warned = np.array([r.saturation_warning for r in rows])
     if warned.any():
         axes.fill_between(gaps, 0, pulls.max(), where=warned, color="tab:red", alpha=0.15,
@@ -153,6 +164,5 @@ def _plot(path, scene, units, result, args):
     axes.grid(True, alpha=0.3)
     axes.legend(fontsize=8)
     figure.tight_layout()
-    save_figure(figure, path)
-    plt.close(figure)
+    return figure
 
