@@ -21,8 +21,13 @@ def _pyplot():
     return plt
 
 
-def _point_text(point, unit) -> str:
-    return "(" + ", ".join(f"{v:g}" for v in np.asarray(point, float) + 0.0) + f") {unit}"
+def _point_text(point, unit, style="g") -> str:
+    return "(" + ", ".join(f"{v:{style}}" for v in np.asarray(point, float) + 0.0) + f") {unit}"
+
+
+def _style(scene, units) -> str:
+    """A coordinate the user typed reads as typed; converted, to four digits (0.7874 in)."""
+    return "g" if units.length == scene.units else ".4g"
 
 
 def plot_line(path, scene, points, values, layout, units=None) -> None:
@@ -65,8 +70,9 @@ def line_figure(scene, values, layout, units=None):
     _shade_inside(axes, distance, values.inside_magnet >= 0)
     axes.set_xlabel(f"distance from the line's start ({unit})")
     axes.set_ylabel(f"B ({units.field_label})")
-    axes.set_title(f"{scene.title}\nB along the line {_point_text(start, unit)} to "
-                   f"{_point_text(stop, unit)}", fontsize=10)
+    style = _style(scene, units)
+    axes.set_title(f"{scene.title}\nB along the line {_point_text(start, unit, style)} to "
+                   f"{_point_text(stop, unit, style)}", fontsize=10)
     axes.legend(fontsize=8)
     axes.grid(alpha=0.3)
     return figure
@@ -108,7 +114,8 @@ def section_figure(scene, points, values, layout, units=None):
     axes.set_xlabel(f"{'xyz'[others[0]]} ({unit})")
     axes.set_ylabel(f"{'xyz'[others[1]]} ({unit})")
     axis = "xyz"[({0, 1, 2} - set(others)).pop()]
-    axes.set_title(f"{scene.title}\n|B| on the section {axis} = {units.L(level):g} {unit}"
+    axes.set_title(f"{scene.title}\n|B| on the section {axis} = "
+                   f"{units.L(level):{_style(scene, units)}} {unit}"
                    + (" (magnets grey, outlined)" if inside.any() else ""), fontsize=10)
     bar_axes = make_axes_locatable(axes).append_axes("right", size="4%", pad=0.12)
     bar = figure.colorbar(image, cax=bar_axes, extend="min")  # the arrow: weaker fields

@@ -6,6 +6,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import numpy as np
+
 from trapscape.scene.errors import SceneError
 from trapscape.scene.units import METRES_PER_UNIT
 
@@ -39,6 +41,23 @@ def describe_force(newtons) -> str:
             value = newtons / factor
             return f"{value:.2g} {unit}" if abs(value) < 10 else f"{value:.0f} {unit}"
     return f"{newtons:.2g} N"
+
+
+def plain_number(value: float, digits: int = 3) -> str:
+    """`digits` significant digits without an exponent a reader must decode: 0.0000725, 3580.
+
+    Parameters
+    ----------
+    value : float
+    digits : int
+
+    Returns
+    -------
+    str
+    """
+    if value == 0 or not 1e-7 <= abs(value) < 1e7:
+        return f"{value:.{digits}g}"
+    return np.format_float_positional(float(f"{value:.{digits}g}"), trim="-")
 
 
 @dataclass(frozen=True)
@@ -127,7 +146,7 @@ class DisplayUnits:
         """
         if newtons is None or self.force == "N":
             return describe_force(newtons)
-        return f"{self.F(newtons):.3g} {self.force}"
+        return f"{plain_number(self.F(newtons))} {self.force}"
 
     def field_text(self, tesla: float) -> str:
         """'0.5 mT' or '5 G'.

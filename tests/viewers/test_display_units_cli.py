@@ -220,7 +220,7 @@ def test_field_plot_in_gauss_and_inches_csv_stays_si(tmp_path):
     assert header[:4] == ["x_mm", "y_mm", "z_mm", "Bx_T"]  # the CSV stays SI
     svg = (tmp_path / "axis.svg").read_text()
     assert "distance from the line's start (in)" in svg and "B (G)" in svg
-    assert "(0, 0, -0.787402) in" in svg  # the line's start, -20 mm
+    assert "(0, 0, -0.7874) in" in svg  # the line's start, -20 mm
 
 
 def test_field_figures_draw_the_csv_numbers_converted(tmp_path):

@@ -57,7 +57,7 @@ def write_report(analysis, folder, units, sizes=views.PictureSizes(), interactiv
     out = Path(folder)
     out.mkdir(parents=True, exist_ok=True)
     content = report_content(analysis, units, progress=progress)
-    ctx = ViewContext.of(analysis, grid_resolution=grid_resolution)
+    ctx = ViewContext.of(analysis, grid_resolution=grid_resolution, display=units)
     pictures = {"overview": out / overview_name, "section": out / "section.png",
                 "polarity": out / "polarity.png"}
     views.overview(ctx, str(pictures["overview"]), sizes.render)
