@@ -111,7 +111,16 @@ class DisplayUnits:
         return metres / LENGTH_UNITS[self.length]
 
     def V(self, cubic_metres):
-        """A volume in m^3, in the display length unit cubed."""
+        """A volume in m^3, in the display length unit cubed.
+
+        Parameters
+        ----------
+        cubic_metres : float or numpy.ndarray
+
+        Returns
+        -------
+        float or numpy.ndarray
+        """
         return cubic_metres / LENGTH_UNITS[self.length] ** 3
 
     def L_from(self, values, unit: str):
@@ -199,7 +208,16 @@ class DisplayUnits:
 
     def strong_B(self, tesla):
         """A flux density of the order of a tesla in `strong_field_label` (T, or kG: 1 kG =
-        0.1 T)."""
+        0.1 T).
+
+        Parameters
+        ----------
+        tesla : float or numpy.ndarray
+
+        Returns
+        -------
+        float or numpy.ndarray
+        """
         return tesla * 10.0 if self.field == "gauss" else tesla
 
     @property
@@ -208,7 +226,16 @@ class DisplayUnits:
         return "N/m" if self.force == "N" else f"{self.force}/{self.length}"
 
     def stiffness(self, newtons_per_metre):
-        """A stiffness in N/m, in `stiffness_label`."""
+        """A stiffness in N/m, in `stiffness_label`.
+
+        Parameters
+        ----------
+        newtons_per_metre : float or numpy.ndarray
+
+        Returns
+        -------
+        float or numpy.ndarray
+        """
         if self.force == "N":
             return newtons_per_metre
         return self.F(newtons_per_metre) / self.L(1.0)
@@ -219,7 +246,16 @@ class DisplayUnits:
         return "N m" if self.force == "N" else f"{self.force} {self.length}"
 
     def torque(self, newton_metres):
-        """A torque in N m, in `torque_label`."""
+        """A torque in N m, in `torque_label`.
+
+        Parameters
+        ----------
+        newton_metres : float or numpy.ndarray
+
+        Returns
+        -------
+        float or numpy.ndarray
+        """
         if self.force == "N":
             return newton_metres
         return self.F(newton_metres) * self.L(1.0)

@@ -301,3 +301,56 @@ def test_a_wrong_unit_is_one_sentence_and_exit_2(command, tmp_path):
     code, screen = at_terminal(args, tmp_path, timeout=60)
     assert code == 2 and "Traceback" not in screen and "'furlong' is not a display unit" in screen
     assert not (tmp_path / "report").exists() and not (tmp_path / "f.csv").exists()
+
+
+def test_report_margin_warnings_in_the_readers_units():
+    from trapscape.physics.analysis.run import load_analysis
+    from trapscape.physics.analysis.trap_words import margin_warnings
+
+    analysis = load_analysis(GAUGE, ["gap=4"])
+    report = analysis.traps()
+    shown = margin_warnings(report, analysis.scene, parse_units("kgf,in"))
+    assert len(shown) == 1 and "mN" not in shown[0] and " in is held by " in shown[0]
+    family = next(f for f in report.families if f.classification == "stable")
+    held = float(re.search(r"held by ([\d.]+) kgf", shown[0]).group(1))
+    assert held == pytest.approx(family.escape_force_N[0] / KGF_N, rel=THREE_DIGITS)
+    # without units: as before, the scene's mm and newtons' prefixes (the JSON's warnings)
+    assert margin_warnings(report, analysis.scene)[0] == \
+        json.loads(json.dumps(analysis.traps_result()["warnings"]))[0]
+
+
+def test_report_in_inches_pounds_force_and_gauss(tmp_path):
+    pypdf = pytest.importorskip("pypdf")
+    pytest.importorskip("weasyprint")
+    code, out, err = in_pipe(["report", PAIR, "-o", "report", "--units", IMPERIAL, "--no-3d",
+                              "--size", "480x360", "--resolution", "16", "--quiet"], tmp_path)
+    assert code == 0, err
+    code, _, err = in_pipe(["traps", PAIR, "-o", "traps.json", "--quiet"], tmp_path)
+    assert code == 0, err
+    result = json.loads((tmp_path / "traps.json").read_text())
+    pages = [re.sub(r"\s+", " ", page.extract_text())
+             for page in pypdf.PdfReader(str(tmp_path / "report" / "report.pdf")).pages]
+    text = " ".join(pages)
+    assert "Units in this report: G, lbf, in." in text
+    stable = next(e for e in result["equilibria"] if e["class"] == "stable")
+    assert f"{stable['escape_force_N'] / LBF_N:.3g} lbf" in pages[0]  # the headline
+    assert " mN" not in text and " mm," not in text
+
+
+def test_render_labels_and_polarity_map_in_the_readers_units(tmp_path):
+    from trapscape.physics.analysis.run import load_analysis
+    from trapscape.viewers.layers.context import ViewContext
+    from trapscape.viewers.layers.markers import label_text, table_rows
+
+    code, out, err = in_pipe(["render", PAIR, "--view", "polarity", "--units", "in",
+                              "-o", "map.png", "--size", "480x360"], tmp_path)
+    assert code == 0 and (tmp_path / "map.png").stat().st_size > 1000, err
+    ctx = ViewContext.of(load_analysis(PAIR, []), grid_resolution=16,
+                         display=parse_units(IMPERIAL))
+    stable = next(e for e in ctx.equilibria if e.kind == "stable")
+    label = label_text(stable, ctx.unit, True, ctx.size, ctx)
+    x_in = float(re.search(r"\((-?[\d.]+),", label).group(1))
+    assert x_in == pytest.approx(stable.position[0] * MM_M / INCH_M, abs=0.006)  # mm -> in
+    held = float(re.search(r"holds ([\d.]+) lbf", label).group(1))
+    assert held == pytest.approx(stable.escape_force_N / LBF_N, rel=THREE_DIGITS)
+    assert all(" in" in row and "mm" not in row for row in table_rows(ctx))
