@@ -322,9 +322,11 @@ def _css_colour_bar(ctx, options) -> str:
                       zip(np.concatenate([values, [high]]), np.concatenate([t, [1.0]])))
     # the end labels are aligned inward, so the first and last are not cut by the panel's edges
     shifts = ["0%"] + ["-50%"] * (len(t) - 2) + ["-100%"]
+    from trapscape.physics.analysis.display_units import plain_number
+
     shown = ctx.shown  # the stops are in mT; their labels in the reader's field unit
     labels = "".join(f'<span style="position:absolute;left:{100 * f:.0f}%;transform:translateX({shift})">'
-                     f"{shown.B(v * 1e-3) if ctx.display else v:.3g}</span>"
+                     f"{plain_number(shown.B(v * 1e-3)) if ctx.display else f'{v:.3g}'}</span>"
                      for v, f, shift in zip(values, t, shifts))
     kind = "log scale" if scale.log else "linear"
     return ('<div style="margin-top:0.6em">field strength B on the section, '
