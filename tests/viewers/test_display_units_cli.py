@@ -285,6 +285,8 @@ WRONG = {
     "traps": ["traps", PAIR],
     "field": ["field", GAUGE, "--line", "0,0,-1", "0,0,1", "3", "-o", "f.csv"],
     "hold": ["hold", PLATE, "--gap", "1"],
+    "render": ["render", PAIR, "-o", "view.png"],
+    "export": ["export", PAIR, "-o", "view.html"],
     "report": ["report", PAIR, "-o", "report"],
     "demo": ["demo", "-o", "demo"],
 }
@@ -300,7 +302,8 @@ def test_a_wrong_unit_is_one_sentence_and_exit_2(command, tmp_path):
     assert lines[0].endswith("e.g. --units gauss,lbf,in.")
     code, screen = at_terminal(args, tmp_path, timeout=60)
     assert code == 2 and "Traceback" not in screen and "'furlong' is not a display unit" in screen
-    assert not (tmp_path / "report").exists() and not (tmp_path / "f.csv").exists()
+    assert not any((tmp_path / name).exists() for name in ("report", "f.csv", "view.png",
+                                                           "view.html"))
 
 
 def test_report_margin_warnings_in_the_readers_units():
