@@ -281,7 +281,7 @@ def _add_page_text(ctx, path: str, options, legend, frame=None) -> None:
     import json
 
 
-    title, subtitle = title_lines(ctx.scene, ctx.section)
+    title, subtitle = title_lines(ctx.scene, ctx.section, ctx)
     title = options.title or title
     swatches = "".join(
         f'<div><span style="display:inline-block;width:1.6em;height:0.8em;margin-right:0.5em;'
@@ -322,10 +322,15 @@ def _css_colour_bar(ctx, options) -> str:
                       zip(np.concatenate([values, [high]]), np.concatenate([t, [1.0]])))
     # the end labels are aligned inward, so the first and last are not cut by the panel's edges
     shifts = ["0%"] + ["-50%"] * (len(t) - 2) + ["-100%"]
+    from trapscape.physics.analysis.display_units import plain_number
+
+    shown = ctx.shown  # the stops are in mT; their labels in the reader's field unit
     labels = "".join(f'<span style="position:absolute;left:{100 * f:.0f}%;transform:translateX({shift})">'
-                     f"{v:.3g}</span>" for v, f, shift in zip(values, t, shifts))
+                     f"{plain_number(shown.B(v * 1e-3)) if ctx.display else f'{v:.3g}'}</span>"
+                     for v, f, shift in zip(values, t, shifts))
     kind = "log scale" if scale.log else "linear"
-    return ('<div style="margin-top:0.6em">field strength B on the section, mT (' + kind + ')'
+    return ('<div style="margin-top:0.6em">field strength B on the section, '
+            f'{shown.field_label} (' + kind + ')'
             f'<div style="height:0.9em;width:18em;margin-top:0.2em;border:1px solid #444;'
             f'background:linear-gradient(to right, {stops})"></div>'
             f'<div style="position:relative;width:18em;height:1.2em;font-size:12px">{labels}</div></div>')

@@ -1,5 +1,6 @@
 """The plots of `trapscape field`: the field along a line, and |B| on a section with the magnets
-outlined. They draw what the analysis computed (physics.analysis.run.FieldValues)."""
+outlined, in the reader's display units (default: the scene's length unit and mT). They draw
+what the analysis computed (physics.analysis.run.FieldValues)."""
 from __future__ import annotations
 
 import numpy as np
@@ -20,18 +21,29 @@ def _pyplot():
     return plt
 
 
-def _point_text(point, unit) -> str:
-    return "(" + ", ".join(f"{v:g}" for v in np.asarray(point, float) + 0.0) + f") {unit}"
+def _point_text(point, unit, style="g") -> str:
+    return "(" + ", ".join(f"{v:{style}}" for v in np.asarray(point, float) + 0.0) + f") {unit}"
 
 
-def plot_line(path, scene, points, values, layout) -> None:
+def _style(scene, units) -> str:
+    """A coordinate the user typed reads as typed; converted, to four digits (0.7874 in)."""
+    return "g" if units.length == scene.units else ".4g"
+
+
+def plot_line(path, scene, points, values, layout, units=None) -> None:
     """The line figure written to `path` (PNG, PDF or SVG by its suffix)."""
-    _save(line_figure(scene, values, layout), path)
+    _save(line_figure(scene, values, layout, units), path)
 
 
-def plot_section(path, scene, points, values, layout) -> None:
+def plot_section(path, scene, points, values, layout, units=None) -> None:
     """The section figure written to `path` (PNG, PDF or SVG by its suffix)."""
-    _save(section_figure(scene, points, values, layout), path)
+    _save(section_figure(scene, points, values, layout, units), path)
+
+
+def _units(scene, units):
+    from trapscape.physics.analysis.display_units import scene_units
+
+    return units or scene_units(scene)
 
 
 def _save(figure, path) -> None:
@@ -41,20 +53,26 @@ def _save(figure, path) -> None:
         _pyplot().close(figure)
 
 
-def line_figure(scene, values, layout):
-    """B components and |B| in mT along the line, stretches inside a magnet shaded."""
+def line_figure(scene, values, layout, units=None):
+    """B components and |B| along the line (display units), stretches inside a magnet shaded;
+    `layout` holds the distances and ends in the scene's unit."""
     plt = _pyplot()
+    units = _units(scene, units)
     _, distance, start, stop = layout
-    B_mT = values.B * 1e3
+    distance, start, stop = (units.L_from(np.asarray(v, float), scene.units)
+                             for v in (distance, start, stop))
+    B_shown = units.B(values.B)
+    unit = units.length_label
     figure, axes = plt.subplots(figsize=(7.5, 4.8), dpi=120)
     for k, name in enumerate("xyz"):
-        axes.plot(distance, B_mT[:, k], label=f"B{name}", lw=1)
-    axes.plot(distance, np.linalg.norm(B_mT, axis=1), "k", lw=2, label="|B|")
+        axes.plot(distance, B_shown[:, k], label=f"B{name}", lw=1)
+    axes.plot(distance, np.linalg.norm(B_shown, axis=1), "k", lw=2, label="|B|")
     _shade_inside(axes, distance, values.inside_magnet >= 0)
-    axes.set_xlabel(f"distance from the line's start ({scene.units})")
-    axes.set_ylabel("B (mT)")
-    axes.set_title(f"{scene.title}\nB along the line {_point_text(start, scene.units)} to "
-                   f"{_point_text(stop, scene.units)}", fontsize=10)
+    axes.set_xlabel(f"distance from the line's start ({unit})")
+    axes.set_ylabel(f"B ({units.field_label})")
+    style = _style(scene, units)
+    axes.set_title(f"{scene.title}\nB along the line {_point_text(start, unit, style)} to "
+                   f"{_point_text(stop, unit, style)}", fontsize=10)
     axes.legend(fontsize=8)
     axes.grid(alpha=0.3)
     return figure
@@ -68,19 +86,21 @@ def _shade_inside(axes, distance, inside) -> None:
                      label="inside a magnet" if k == 0 else None)
 
 
-def section_figure(scene, points, values, layout):
-    """|B| in mT on the section, on a log scale over the air; magnets grey and outlined."""
+def section_figure(scene, points, values, layout, units=None):
+    """|B| on the section (display units), on a log scale over the air; magnets grey and
+    outlined."""
     from matplotlib.colors import ListedColormap, LogNorm
     from matplotlib.ticker import FuncFormatter, NullLocator
     from mpl_toolkits.axes_grid1 import make_axes_locatable
 
     plt = _pyplot()
+    units = _units(scene, units)
     _, others, shape, level = layout
-    unit = scene.units
-    u = points[:, others[0]].reshape(shape) / scene.unit_scale
-    v = points[:, others[1]].reshape(shape) / scene.unit_scale
+    unit = units.length_label
+    u = units.L(points[:, others[0]].reshape(shape))
+    v = units.L(points[:, others[1]].reshape(shape))
     inside = (values.inside_magnet >= 0).reshape(shape)
-    magnitude = (np.linalg.norm(values.B, axis=1) * 1e3).reshape(shape)
+    magnitude = units.B(np.linalg.norm(values.B, axis=1)).reshape(shape)
     air = np.ma.masked_where(inside, magnitude)
     norm = _log_norm(magnitude[~inside], LogNorm)
     figure, axes = plt.subplots(figsize=(7.5, 6), dpi=120)
@@ -94,14 +114,15 @@ def section_figure(scene, points, values, layout):
     axes.set_xlabel(f"{'xyz'[others[0]]} ({unit})")
     axes.set_ylabel(f"{'xyz'[others[1]]} ({unit})")
     axis = "xyz"[({0, 1, 2} - set(others)).pop()]
-    axes.set_title(f"{scene.title}\n|B| on the section {axis} = {level / scene.unit_scale:g} {unit}"
+    axes.set_title(f"{scene.title}\n|B| on the section {axis} = "
+                   f"{units.L(level):{_style(scene, units)}} {unit}"
                    + (" (magnets grey, outlined)" if inside.any() else ""), fontsize=10)
     bar_axes = make_axes_locatable(axes).append_axes("right", size="4%", pad=0.12)
     bar = figure.colorbar(image, cax=bar_axes, extend="min")  # the arrow: weaker fields
     bar.set_ticks(round_ticks(norm.vmin, norm.vmax))
     bar.ax.yaxis.set_minor_locator(NullLocator())
     bar.ax.yaxis.set_major_formatter(FuncFormatter(lambda value, _: f"{value:g}"))
-    bar.set_label("|B| in air (mT, log scale)")
+    bar.set_label(f"|B| in air ({units.field_label}, log scale)")
     return figure
 
 
@@ -112,9 +133,10 @@ def round_ticks(low, high) -> list:
     return [float(f"{v:.12g}") for v in values if low <= v <= high]
 
 
-def _log_norm(air_mT, LogNorm):
-    """Three decades up to the strongest field in air (or 1 mT when there is none), leaving out
-    the few samples that land on a magnet's edge, where the field grows without bound."""
-    positive = air_mT[air_mT > 0]
+def _log_norm(air, LogNorm):
+    """Three decades up to the strongest field in air (or 1 display unit when there is none),
+    leaving out the few samples that land on a magnet's edge, where the field grows without
+    bound."""
+    positive = air[air > 0]
     top = float(np.percentile(positive, TOP_PERCENTILE)) if len(positive) else 1.0
     return LogNorm(vmin=top * 10.0 ** -DECADES_SHOWN, vmax=top, clip=False)

@@ -9,6 +9,7 @@ import numpy as np
 from trapscape.scene.measures import radial_sign
 from trapscape.scene.shapes import shape_of
 from trapscape.viewers.atomic import save_figure
+from trapscape.viewers.axis_units import relabel_ticks
 from trapscape.viewers.layers import style
 from trapscape.viewers.layers.magnets import world_meshes
 
@@ -96,7 +97,9 @@ def part_mark(magnet) -> tuple[str, str, str]:
 
 
 def draw_polarity_map(ctx, path: str, size=(1600, 1200), title: str | None = None,
-                      transparent: bool = False) -> str:
+                      transparent: bool = False, units=None) -> str:
+    """The map written to `path`; its axes read in `units` (a DisplayUnits; default the
+    scene's length unit) while the parts are drawn in the scene's unit."""
     import matplotlib
 
     matplotlib.use("Agg")
@@ -124,8 +127,12 @@ def draw_polarity_map(ctx, path: str, size=(1600, 1200), title: str | None = Non
     axes.set_xlim(extent[0], extent[1])
     axes.set_ylim(extent[2], extent[3])
     axes.set_aspect("equal")
-    axes.set_xlabel(f"x ({ctx.unit})")
-    axes.set_ylabel(f"y ({ctx.unit})")
+    length = ctx.unit if units is None else units.length_label
+    factor = 1.0 if units is None else float(units.L_from(1.0, ctx.unit))
+    relabel_ticks(axes.xaxis, extent[0], extent[1], factor)
+    relabel_ticks(axes.yaxis, extent[2], extent[3], factor)
+    axes.set_xlabel(f"x ({length})")
+    axes.set_ylabel(f"y ({length})")
     axes.grid(True, color="#dddddd", linewidth=0.6, zorder=0)
     heading = title if title is not None else (ctx.scene.title or "trapscape")
     axes.set_title(f"{heading}\nPolarity map, seen from above (+z towards you)", fontsize=font * 1.2)

@@ -313,7 +313,7 @@ def _annotate(plotter, ctx, options, legend, scale, layout: Layout, world_per_pi
     width, height = options.size
     font = ctx.font_size
     if options.title != "":
-        title, subtitle = title_lines(ctx.scene, ctx.section)
+        title, subtitle = title_lines(ctx.scene, ctx.section, ctx)
         title = options.title or title
         top = height - 0.015 * height
         big = int(round(font * 1.45))
@@ -328,9 +328,9 @@ def _annotate(plotter, ctx, options, legend, scale, layout: Layout, world_per_pi
                                              int(top - 2.0 * font * (1.45 + 1.0) * 1.15)),
                          font_size=small, color=TEXT)
     if options.scale_bar:
-        draw_scale_bar(plotter, world_per_pixel, ctx.unit,
+        draw_scale_bar(plotter, world_per_pixel, ctx.shown.length_label,
                        origin_px=(0.03 * width, 0.04 * height + font), font_size=font,
-                       target_px=0.16 * width)
+                       target_px=0.16 * width, factor=ctx.length_factor())
     if not options.legend:
         return
     top = height - layout.title_band
@@ -347,7 +347,8 @@ def _annotate(plotter, ctx, options, legend, scale, layout: Layout, world_per_pi
         bar_height = min(0.42 * height, bar_top - 0.06 * height - (rows > 0) * 0.2 * height)
         if bar_height > 0.1 * height:
             scale.draw_bar(plotter, position=(left / width, (bar_top - bar_height) / height),
-                           size=(0.055, bar_height / height), font_size=lf)
+                           size=(0.055, bar_height / height), font_size=lf,
+                           units=ctx.display)
             bottom = bar_top - bar_height - 1.5 * lf
     if ctx.equilibria_table:
         _draw_table(plotter, ctx.equilibria_table, left, bottom, lf, 0.03 * height)

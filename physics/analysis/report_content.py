@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from trapscape.physics.analysis.display_units import DisplayUnits
+from trapscape.physics.analysis.display_units import DisplayUnits, plain_number
 from trapscape.physics.analysis.report_answers import family_answers
 from trapscape.physics.analysis.report_profile import Profile, guide_profile, report_line
 from trapscape.physics.analysis.report_safety import safety_rows, shipping_rows
@@ -109,7 +109,7 @@ def report_content(analysis, units: DisplayUnits, progress=None) -> ReportConten
         units=units, cover=cover(analysis, check, units),
         headline=headline_sentence(report, scene, units),
         answers=tuple(family_answers(analysis, report, units, samples)),
-        warnings=tuple(margin_warnings(report, scene)),
+        warnings=tuple(margin_warnings(report, scene, units)),
         families=tuple(family_rows(report, scene, units)),
         notes=tuple(n for n in (report.earnshaw_note, *report.notes) if n),
         profile=guide_profile(scene, report, units, samples, how),
@@ -262,7 +262,7 @@ def family_rows(report, scene, units: DisplayUnits) -> list:
         force = family.escape_force_N
         escape = times = "-"
         if force is not None:
-            low, high = (f"{units.F(v):.3g}" for v in force)
+            low, high = (plain_number(units.F(v)) for v in force)
             escape = low if low == high else f"{low} to {high}"
             if weight > 0:
                 low, high = multiple(force[0] / weight), multiple(force[1] / weight)
@@ -272,7 +272,7 @@ def family_rows(report, scene, units: DisplayUnits) -> list:
             position=describe_position(units.L(np.asarray(eq.position, float)),
                                        units.length_label, size),
             escape_force=escape, times_weight=times,
-            field=f"{units.B(float(np.linalg.norm(eq.B_T))):.3g}",
+            field=plain_number(units.B(float(np.linalg.norm(eq.B_T)))),
             resting_on=", ".join(family.surfaces) or "free"))
     return rows
 

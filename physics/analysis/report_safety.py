@@ -2,6 +2,8 @@
 (what, figure), in the reader's display units."""
 from __future__ import annotations
 
+import numpy as np
+
 from trapscape.physics.analysis.display_units import DisplayUnits
 
 CLASS_WORDS = {"not-restricted": "not restricted as magnetised material",
@@ -35,8 +37,12 @@ def safety_rows(check: dict, scene, units: DisplayUnits) -> list:
         worst = max(safety["part_forces"], key=lambda f: f["force_magnitude_N"])
         verdict = ("above the pinch level: parts snap together and pinch"
                    if safety["pinch_warning"] else "below the pinch level")
+        largest = worst["force_magnitude_N"]
+        # below a nanonewton is the quadrature's round-off of a force that cancels (as `check`)
+        largest = (f"{_force(largest, units)} on {worst['name']}" if largest > 1e-9
+                   else "none (the forces cancel)")
         rows.append(("Largest force between parts, as assembled",
-                     f"{_force(worst['force_magnitude_N'], units)} on {worst['name']}, {verdict} "
+                     f"{largest}, {verdict} "
                      f"of {_force(safety['pinch_force_N'], units)} (common practice)"))
     rated = [d for d in safety["demagnetization"] if d["ratio"] is not None]
     if rated:
@@ -71,8 +77,9 @@ def shipping_rows(check: dict, units: DisplayUnits) -> list:
     list of (str, str)
     """
     shipping = check["shipping"]
-    unit = check["length_unit"]
-    size = " x ".join(f"{v:.3g}" for v in shipping["package_size"])
+    unit = units.length_label  # the check result's lengths are in the scene's unit
+    sizes = units.L_from(np.asarray(shipping["package_size"], float), check["length_unit"])
+    size = " x ".join(f"{v:.3g}" for v in sizes)
     given = "" if shipping["package_given"] else " (the magnets' bounding box: no [package] given)"
     return [
         ("Package", f"{size} {unit}{given}"),

@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.physics.analysis.display_units import describe_force, scene_units
 from trapscape.physics.probe.laws import ProbeLaw
 
 # common practice: a holding force of at least twice the load it must carry (a safety factor
@@ -19,27 +20,6 @@ ROOM_TEMPERATURE_K = 300.0
 AXIS_WORDS = ("x", "y", "z")
 EXIT_WORDS = {"well": "over a pass into a neighbouring well",
               "lower ground": "over a pass to lower ground"}  # else "to <box face or part>"
-
-
-def describe_force(newtons) -> str:
-    """A force in the unit a reader grasps: 3.2 mN, 0.41 N, 12 uN.
-
-    Parameters
-    ----------
-    newtons : float or None
-
-    Returns
-    -------
-    str
-    """
-    if newtons is None:
-        return "no finite holding force"
-    magnitude = abs(newtons)
-    for factor, unit in ((1.0, "N"), (1e-3, "mN"), (1e-6, "µN"), (1e-9, "nN")):
-        if magnitude >= factor or unit == "nN":
-            value = newtons / factor
-            return f"{value:.2g} {unit}" if abs(value) < 10 else f"{value:.0f} {unit}"
-    return f"{newtons:.2g} N"
 
 
 def describe_position(position, unit: str, scale: float | None = None) -> str:
@@ -61,6 +41,25 @@ def describe_position(position, unit: str, scale: float | None = None) -> str:
     tiny = 0.5 * 10.0**-decimals
     text = ", ".join(f"{v:.{decimals}f}" if abs(v) >= tiny else "0" for v in position)
     return f"({text}) {unit}"
+
+
+def where_words(position_m, scene, units=None) -> str:
+    """A position in m in words, in the reader's length unit (default: the scene's).
+
+    Parameters
+    ----------
+    position_m : array_like, shape (3,)
+    scene : trapscape.scene.model.Scene
+    units : physics.analysis.display_units.DisplayUnits, optional
+
+    Returns
+    -------
+    str
+    """
+    units = units or scene_units(scene)
+    box = scene.search_box
+    size = units.L(float(np.linalg.norm(np.asarray(box.max) - np.asarray(box.min))))
+    return describe_position(units.L(np.asarray(position_m, float)), units.length_label, size)
 
 
 def scene_size(scene) -> float:
@@ -109,7 +108,7 @@ def direction_words(direction, ring=None) -> str:
     return "(" + ", ".join(f"{c:.2f}" for c in v) + ")"
 
 
-def symmetry_words(symmetry, scene) -> str:
+def symmetry_words(symmetry, scene, units=None) -> str:
     """The scene's symmetry in a few words.
 
     Parameters
@@ -117,6 +116,8 @@ def symmetry_words(symmetry, scene) -> str:
     symmetry : trapscape.physics.traps.symmetry.Symmetry
     scene : trapscape.scene.model.Scene
         For the length unit.
+    units : physics.analysis.display_units.DisplayUnits, optional
+        The reader's units; default the scene's length unit.
 
     Returns
     -------
@@ -130,8 +131,7 @@ def symmetry_words(symmetry, scene) -> str:
     if symmetry.axis is not None:
         axis = direction_words(symmetry.axis)
         axis = f"the {axis} axis" if axis in AXIS_WORDS else f"the axis {axis}"
-        centre = describe_position(symmetry.centre / scene.unit_scale, scene.units,
-                                   scene_size(scene))
+        centre = where_words(symmetry.centre, scene, units)
         turn = "every rotation" if symmetry.continuous else f"{symmetry.order}-fold rotation"
         parts.append(f"{turn} about {axis} through {centre}")
     if symmetry.mirror_planes:
@@ -143,7 +143,7 @@ def symmetry_words(symmetry, scene) -> str:
     return ", ".join(parts)
 
 
-def describe_family(family, report, scene) -> str:
+def describe_family(family, report, scene, units=None) -> str:
     """One family in words: what joins its members and how far it extends.
 
     Parameters
@@ -151,26 +151,28 @@ def describe_family(family, report, scene) -> str:
     family : trapscape.physics.traps.report.Family
     report : trapscape.physics.traps.search.TrapReport
     scene : trapscape.scene.model.Scene
+    units : physics.analysis.display_units.DisplayUnits, optional
+        The reader's units; default the scene's length unit and newtons.
 
     Returns
     -------
     str
     """
     count = len(family.members)
-    unit, size = scene.units, scene_size(scene)
+    units = units or scene_units(scene)
     on = f" on {', '.join(family.surfaces)}" if family.surfaces else ""
     force = family.escape_force_N
     holding = ""
     if force is not None:
-        low, high = describe_force(force[0]), describe_force(force[1])
+        low, high = units.force_text(force[0]), units.force_text(force[1])
         holding = f", holding {low}" if low == high else f", holding {low} to {high}"
     if family.kind == "single":
         return f"1 point{on}{holding}"
     if family.kind == "circle":
         circle = family.circle
-        centre = describe_position(circle.centre / scene.unit_scale, unit, size)
-        return (f"{count} points of one circle of radius {circle.radius_m / scene.unit_scale:.3g}"
-                f" {unit} about the {direction_words(circle.axis)} axis, centre {centre}{on}"
+        centre = where_words(circle.centre, scene, units)
+        return (f"{count} points of one circle of radius {units.L(circle.radius_m):.3g}"
+                f" {units.length_label} about the {direction_words(circle.axis)} axis, centre {centre}{on}"
                 f" (every point of it is equivalent){holding}")
     if family.kind == "symmetric set":
         return f"{count} images of one point under the scene's symmetry{on}{holding}"
@@ -239,21 +241,16 @@ def headline_sentence(report, scene, units=None) -> str:
     eq = headline_equilibrium(report)
     if eq is None:
         return f"{probe} finds no equilibrium in the search box."
-    if units is None:
-        where = describe_position(np.asarray(eq.position) / scene.unit_scale, scene.units,
-                                  scene_size(scene))
-        force_words = describe_force
-    else:
-        where = describe_position(units.L(np.asarray(eq.position)), units.length_label,
-                                  units.L(scene_size(scene) * scene.unit_scale))
-        force_words = units.force_text
+    units = units or scene_units(scene)
+    where = where_words(eq.position, scene, units)
+    force_words = units.force_text
     kind = scene.constraint.kind
     path = {"line": " on its guide line", "plane": " on its guide plane"}.get(kind, "")
     if eq.classification != "stable":
         return (f"{probe} has no stable rest point{path}; the closest to one is a "
                 f"{eq.classification} equilibrium at {where}.")
     on = f", resting on {eq.contact.surface}" if eq.contact else ""
-    among = _equivalents(_family_of(report, eq), scene)
+    among = _equivalents(_family_of(report, eq), units)
     escape = eq.escape
     if escape is not None and escape.exit is None:
         hold = "and cannot get out of its well inside the search box"
@@ -284,14 +281,14 @@ def multiple(ratio: float) -> str:
     return f"{ratio:.3g}" if ratio < 1000 else f"{ratio:.0f}"
 
 
-def _equivalents(family, scene) -> str:
+def _equivalents(family, units) -> str:
     """' (one of 20 equivalent points on a circle of radius 12.4 mm about the z axis)'."""
     if family is None or len(family.members) < 2:
         return ""
     count = len(family.members)
     if family.kind == "circle":
         circle = family.circle
-        where = (f" on a circle of radius {circle.radius_m / scene.unit_scale:.3g} {scene.units}"
+        where = (f" on a circle of radius {units.L(circle.radius_m):.3g} {units.length_label}"
                  f" about the {direction_words(circle.axis)} axis")
     elif family.kind == "symmetric set":
         where = ", images of each other under the scene's symmetry"
@@ -307,7 +304,7 @@ def _family_of(report, eq):
     return None
 
 
-def margin_warnings(report, scene) -> list:
+def margin_warnings(report, scene, units=None) -> list:
     """Warnings for stable families held with little margin.
 
     Over gravity: escape force below FORCE_MARGIN x the probe's weight; over the escape
@@ -317,12 +314,15 @@ def margin_warnings(report, scene) -> list:
     ----------
     report : trapscape.physics.traps.search.TrapReport
     scene : trapscape.scene.model.Scene
+    units : physics.analysis.display_units.DisplayUnits, optional
+        The reader's units; default the scene's length unit and newtons.
 
     Returns
     -------
     list of str
         One sentence per stable family and margin below its threshold.
     """
+    units = units or scene_units(scene)
     weight = probe_weight_N(scene)
     thermal = BOLTZMANN_J_PER_K * ROOM_TEMPERATURE_K
     warnings = []
@@ -333,14 +333,13 @@ def margin_warnings(report, scene) -> list:
         escape = eq.escape
         if escape is None or escape.exit is None:
             continue
-        label = f"family {family.number} at " + describe_position(
-            np.asarray(eq.position) / scene.unit_scale, scene.units, scene_size(scene))
+        label = f"family {family.number} at " + where_words(eq.position, scene, units)
         force = escape.force_N
         small = force is not None and np.isfinite(force) and force < FORCE_MARGIN * weight
         if weight > 0 and small:
             warnings.append(
-                f"Warning: {label} is held by {describe_force(force)}, only "
-                f"{multiple(force / weight)} x the probe's weight of {describe_force(weight)}; "
+                f"Warning: {label} is held by {units.force_text(force)}, only "
+                f"{multiple(force / weight)} x the probe's weight of {units.force_text(weight)}; "
                 f"below {FORCE_MARGIN:g} x (common practice) a knock, vibration or a heavier "
                 "probe may dislodge it.")
         barrier = escape.energy_J

@@ -47,6 +47,31 @@ def add_output_argument(parser, metavar, help, required=False, former=None) -> N
         parser.add_argument(former, dest="output", metavar=metavar, help=argparse.SUPPRESS)
 
 
+UNITS_HELP = ("display units of the printed tables and the plots, comma-separated, any order: "
+              "mT or gauss, N, kgf or lbf, mm, in (or cm, m), e.g. --units gauss,lbf,in "
+              "(default mT, N and the scene's length unit); JSON and CSV files stay SI "
+              "(lengths in the scene's unit)")
+
+
+def add_units_argument(parser) -> None:
+    """--units, one syntax for every command (physics.analysis.display_units.parse_units)."""
+    parser.add_argument("--units", metavar="UNITS", help=UNITS_HELP)
+
+
+def check_units(args) -> None:
+    """A wrong --units said before any work (a SceneError: one sentence, exit 2)."""
+    from trapscape.physics.analysis.display_units import parse_units
+
+    parse_units(getattr(args, "units", None))
+
+
+def display_units(args, scene):
+    """The reader's units: --units, else the scene's length unit, N and mT."""
+    from trapscape.physics.analysis.display_units import parse_units
+
+    return parse_units(getattr(args, "units", None), default_length=scene.units)
+
+
 def add_section_argument(parser, help) -> None:
     parser.add_argument("--section", metavar="AXIS[=VALUE]", help=help)
 

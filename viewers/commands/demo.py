@@ -49,8 +49,7 @@ def add_arguments(parser) -> None:
 def run(args) -> int:
     from trapscape.physics.analysis.run import Analysis
     from trapscape.scene.loader import load_scene, parse_overrides
-    from trapscape.viewers.commands.common import progress
-    from trapscape.physics.analysis.display_units import parse_units
+    from trapscape.viewers.commands.common import check_units, display_units, progress
     from trapscape.viewers.commands.render import parse_size
     from trapscape.viewers.commands.report import write as write_report
 
@@ -65,7 +64,7 @@ def run(args) -> int:
     except OSError as error:
         raise SceneError(f"demo: cannot make {out}: {error.strerror}; choose another -o DIR.") from None
     size = parse_size(args.size)
-    parse_units(args.units)  # a wrong unit is said before any work
+    check_units(args)  # a wrong unit is said before any work
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         analysis = Analysis(load_scene(str(sample), parse_overrides(args.set)))
@@ -85,9 +84,10 @@ def run(args) -> int:
     from trapscape.physics.analysis.trap_words import headline_sentence, margin_warnings
 
     report_traps = analysis.traps()
-    for warning in margin_warnings(report_traps, analysis.scene):
+    units = display_units(args, analysis.scene)
+    for warning in margin_warnings(report_traps, analysis.scene, units):
         print(warning)
-    print(headline_sentence(report_traps, analysis.scene))
+    print(headline_sentence(report_traps, analysis.scene, units))
     print(report_traps.caution)
     return 0
 

@@ -9,6 +9,7 @@ from trapscape.viewers.commands.common import (
     add_scene_arguments,
     analysis_from_args,
     check_output_path,
+    check_units,
     progress,
 )
 from trapscape.viewers.commands.render import (
@@ -39,6 +40,7 @@ def run(args) -> int:
     from trapscape.viewers.export import format_of
 
     kind = format_of(args.output)
+    check_units(args)
     check_output_path(args.output)
     if args.spacing is not None and not (args.spacing > 0 and args.spacing < float("inf")):
         raise SceneError(f"--spacing {args.spacing!r}: the grid step is a positive finite length "

@@ -1,4 +1,5 @@
-"""`trapscape field`: B, H and |B| at points from a CSV, along a line or on a section plane."""
+"""`trapscape field`: B, H and |B| at points from a CSV, along a line or on a section plane; the
+CSV in SI (lengths in the scene's unit), the plots in the reader's display units (--units)."""
 from __future__ import annotations
 
 import argparse
@@ -18,8 +19,11 @@ from trapscape.viewers.commands.common import (
     add_output_argument,
     add_scene_arguments,
     add_section_argument,
+    add_units_argument,
     analysis_from_args,
     check_output_path,
+    check_units,
+    display_units,
     finite_number,
     parse_section,
     progress,
@@ -31,6 +35,7 @@ EXAMPLES = """\
   trapscape field samples/holding_plate.toml --line "-3,0,0.7" "3,0,0.7" 61 --plot line.png
   trapscape field samples/bead_chip.toml --section z=1.5 -o plane.csv --plot plane.png
   trapscape field samples/arc_rotor.toml --points probes.csv -o probes-field.csv
+  trapscape field samples/level_gauge.toml --line "0,0,-20" "0,0,20" 101 --plot axis.png --units gauss,in
 """
 
 
@@ -43,8 +48,10 @@ def add_arguments(parser) -> None:
     add_section_argument(where, "a section plane across the search box, e.g. --section z=0 "
                                 "(the level in the scene's unit)")
     where.add_argument("--plane", dest="section", help=argparse.SUPPRESS)
-    add_output_argument(parser, "OUT.csv", "where to write the CSV", former="--out")
+    add_output_argument(parser, "OUT.csv", "where to write the CSV (SI: B in T, H in A/m, "
+                        "lengths in the scene's unit, whatever --units says)", former="--out")
     parser.add_argument("--plot", metavar="FILE.png", help="also plot a line or a section")
+    add_units_argument(parser)
     parser.add_argument("--resolution", type=int, default=None, metavar="N",
                         help="samples along the longest side of a section (default "
                              f"{DEFAULT_RESOLUTION})")
@@ -53,6 +60,7 @@ def add_arguments(parser) -> None:
 def run(args) -> int:
     if not (args.output or args.plot):
         raise SceneError("field: say where the result goes with -o OUT.csv (and/or --plot FILE.png).")
+    check_units(args)
     if args.output:
         check_output_path(args.output, (".csv",))
     if args.plot:
@@ -72,7 +80,7 @@ def run(args) -> int:
         from trapscape.viewers.field_plot import plot_line, plot_section
 
         draw = plot_line if layout[0] == "line" else plot_section
-        draw(args.plot, scene, points, values, layout)
+        draw(args.plot, scene, points, values, layout, display_units(args, scene))
         print(f"wrote the plot to {args.plot}")
     inside = values.inside_magnet >= 0
     if inside.any():

@@ -12,8 +12,11 @@ from trapscape.viewers.commands.common import (
     add_output_argument,
     add_scene_arguments,
     add_section_argument,
+    add_units_argument,
     analysis_from_args,
     check_output_path,
+    check_units,
+    display_units,
     parse_section,
     progress,
 )
@@ -24,6 +27,7 @@ EXAMPLES = """\
   trapscape render samples/bead_chip.toml -o front.png --camera front --section y=0
   trapscape render samples/level_gauge.toml -o zones.png --layers +isosurfaces --iso 10,20mT
   trapscape render samples/arc_rotor.toml -o polarity.png --view polarity
+  trapscape render samples/holding_plate.toml -o view-in.png --units in,lbf,gauss
 """
 
 
@@ -49,6 +53,7 @@ def add_view_arguments(parser) -> None:
                         help="samples along the longest side of the box (default 64 for "
                              "pictures; a .vti export defaults to the search box's spacing)")
     parser.add_argument("--title", help="title over the picture (default: the scene's; '' for none)")
+    add_units_argument(parser)
 
 
 def add_arguments(parser) -> None:
@@ -89,7 +94,9 @@ def view_context(analysis, args, traps: bool = True, update=None):
     if not 8 <= resolution <= MAX_GRID_RESOLUTION:
         raise SceneError(f"--resolution must be 8 to {MAX_GRID_RESOLUTION} for a 3D view "
                          f"({MAX_GRID_RESOLUTION}^3 field points).")
-    return ViewContext.of(analysis, traps=traps, grid_resolution=resolution, progress=update)
+    display = display_units(args, analysis.scene) if getattr(args, "units", None) else None
+    return ViewContext.of(analysis, traps=traps, grid_resolution=resolution, progress=update,
+                          display=display)
 
 
 def render_options(scene, args, size=(1600, 1200), transparent=False, cutaway=False):
@@ -114,6 +121,7 @@ def run(args) -> int:
     if not args.output and not args.show:
         raise SceneError("render: say where the picture goes with -o OUT.png (or open a window "
                          "with --show).")
+    check_units(args)
     if args.output:
         check_output_path(args.output, (".png",))
     analysis = analysis_from_args(args)
@@ -130,7 +138,7 @@ def _render(analysis, scene, size, args, update) -> int:
 
         if args.output:
             draw_polarity_map(ctx, args.output, size=size, title=args.title,
-                              transparent=args.transparent)
+                              transparent=args.transparent, units=ctx.display)
             print(f"wrote the polarity map to {args.output}")
         return 0
     from trapscape.viewers.render import render_png, show_window

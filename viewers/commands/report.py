@@ -9,7 +9,10 @@ from trapscape.scene.errors import SceneError
 from trapscape.viewers.commands.common import (
     add_output_argument,
     add_scene_arguments,
+    add_units_argument,
     analysis_from_args,
+    check_units,
+    display_units,
     progress,
 )
 
@@ -38,10 +41,7 @@ def add_arguments(parser) -> None:
 
 def add_report_options(parser) -> None:
     """--units and --no-3d (demo takes them too)."""
-    parser.add_argument("--units", metavar="UNITS",
-                        help="display units, comma-separated: mT or gauss, N, kgf or lbf, mm or "
-                             "in (default mT,N and the scene's length unit, else mm); JSON "
-                             "outputs stay SI")
+    add_units_argument(parser)
     parser.add_argument("--no-3d", dest="interactive", action="store_false",
                         help="leave the interactive 3D view out of the HTML (smaller, faster)")
 
@@ -61,19 +61,12 @@ def check_folder(path: str) -> Path:
     return out
 
 
-def display_units(args, scene):
-    from trapscape.physics.analysis.display_units import parse_units
-
-    return parse_units(args.units, default_length=scene.units)
-
-
 def run(args) -> int:
-    from trapscape.physics.analysis.display_units import parse_units
     from trapscape.viewers.commands.common import MAX_GRID_RESOLUTION
     from trapscape.viewers.commands.render import parse_size
     from trapscape.viewers.report.pictures import PictureSizes
 
-    parse_units(args.units)  # a wrong unit is said before any work
+    check_units(args)  # a wrong unit is said before any work
     size = parse_size(args.size)
     if not 8 <= args.resolution <= MAX_GRID_RESOLUTION:
         raise SceneError(f"--resolution {args.resolution}: give 8 to {MAX_GRID_RESOLUTION} "

@@ -1,5 +1,6 @@
-"""`trapscape traps SCENE [--json FILE]`: the probe's equilibria with their classification, a
-table on the terminal and JSON as DESIGN.md, Command line (null, never NaN)."""
+"""`trapscape traps SCENE [-o FILE] [--units ...]`: the probe's equilibria with their
+classification, a table on the terminal in the reader's display units and JSON as DESIGN.md,
+Command line (SI, null, never NaN)."""
 from __future__ import annotations
 
 import numpy as np
@@ -7,8 +8,11 @@ import numpy as np
 from trapscape.viewers.commands.common import (
     add_output_argument,
     add_scene_arguments,
+    add_units_argument,
     analysis_from_args,
     check_output_path,
+    check_units,
+    display_units,
     progress,
     write_json,
 )
@@ -17,22 +21,25 @@ EXAMPLES = """\
   trapscape traps samples/level_gauge.toml
   trapscape traps samples/level_gauge.toml --set gap=4 -o traps.json
   trapscape traps samples/graphite_stage.toml --quiet | less
+  trapscape traps samples/bead_pair.toml --units gauss,lbf,in
 """
 
 
 def add_arguments(parser) -> None:
     add_scene_arguments(parser)
-    add_output_argument(parser, "FILE.json", "also write the equilibria as JSON",
-                        former="--json")
+    add_output_argument(parser, "FILE.json", "also write the equilibria as JSON (SI, lengths "
+                        "in the scene's unit, whatever --units says)", former="--json")
+    add_units_argument(parser)
 
 
 def run(args) -> int:
+    check_units(args)
     if args.output:
         check_output_path(args.output, (".json",))
     analysis = analysis_from_args(args)
     with progress(args, desc="scan") as update:
         report = analysis.traps(progress=update)
-    print(format_table(report, analysis.scene))
+    print(format_table(report, analysis.scene, display_units(args, analysis.scene)))
     if args.output:
         write_json(args.output, analysis.traps_result())
         print(f"wrote {args.output}")
@@ -47,11 +54,23 @@ def _number(value, digits=3):
     return f"{value:.{digits}g}"
 
 
+def _field_number(value, units) -> str:
+    """|B| to three digits; in gauss, thousands written out (3580, not 3.58e+03)."""
+    if units.field == "gauss" and np.isfinite(value) and 1e3 <= abs(value) < 1e7:
+        return f"{float(f'{value:.3g}'):.0f}"
+    return _number(value)
+
+
 def _range(pair, digits=3):
     if pair is None:
         return "-"
     low, high = (_number(v, digits) for v in pair)
     return low if low == high else f"{low}-{high}"
+
+
+def _scaled(pair, convert):
+    """A (low, high) pair in display units; None stays None."""
+    return None if pair is None else tuple(convert(v) for v in pair)
 
 
 def _tidy(values, size):
@@ -65,7 +84,7 @@ def _ring_frame(family, eq):
     return None if ring is None else (ring.centre, ring.axis, eq.position)
 
 
-def _stiffness_words(eq, frame) -> str:
+def _stiffness_words(eq, frame, units) -> str:
     from trapscape.physics.analysis.trap_words import direction_words
 
     if eq.stiffness_N_per_m and eq.stiffness_N_per_m[0] is None:
@@ -75,37 +94,43 @@ def _stiffness_words(eq, frame) -> str:
     parts = []
     for k, direction, f in zip(eq.stiffness_N_per_m, eq.directions, eq.frequency_Hz):
         freq = f", {_number(f)} Hz" if f is not None else ""
-        parts.append(f"{_number(k)} along {direction_words(direction, frame)}{freq}")
+        parts.append(f"{_number(units.stiffness(k))} along {direction_words(direction, frame)}"
+                     f"{freq}")
     return "; ".join(parts)
 
 
-def format_table(report, scene) -> str:
-    """The headline, the margin warnings, one row per family, and what each family is."""
+def format_table(report, scene, units=None) -> str:
+    """The headline, the margin warnings, one row per family, and what each family is, in the
+    reader's display units (default: the scene's length unit, N and mT)."""
+    from trapscape.physics.analysis.display_units import scene_units
     from trapscape.physics.analysis.trap_words import (describe_family, headline_sentence,
                                                        margin_warnings, multiple,
                                                        probe_weight_N, symmetry_words)
 
-    unit = scene.units
+    units = units or scene_units(scene)
+    unit = units.length_label
     box = scene.search_box
-    size = float(np.max(np.asarray(box.max) - np.asarray(box.min))) / scene.unit_scale
+    size = units.L(float(np.max(np.asarray(box.max) - np.asarray(box.min))))
     weight = probe_weight_N(scene)
-    lines = [headline_sentence(report, scene), *margin_warnings(report, scene), ""]
+    lines = [headline_sentence(report, scene, units), *margin_warnings(report, scene, units), ""]
     families = report.families
     lines.append(f"{len(report.equilibria)} equilibria of the {report.probe_kind} probe "
                  f"({report.constraint_kind} constraint) in {len(families)} families; "
-                 f"symmetry of the scene: {symmetry_words(report.symmetry, scene)}.")
+                 f"symmetry of the scene: {symmetry_words(report.symmetry, scene, units)}.")
     lines.append("A family is one answer: equilibria that are images of each other under that "
                  "symmetry, points of one circle (a contact ring), or neighbouring points of one "
                  "contact curve; "
                  "'count' says how many, the JSON lists each.")
+    force_title, field_title = f"escape force {units.force_label}", f"|B| {units.field_label}"
+    force_width, field_width = max(14, len(force_title)), max(7, len(field_title))
     header = (f"{'#':>2}  {'count':>5}  {'class':<8} {'position of one member (' + unit + ')':<30} "
-              f"{'escape force N':>14} {'x weight':>11} {'escape energy J':>15} {'|B| mT':>7}  "
-              "resting on")
+              f"{force_title:>{force_width}} {'x weight':>11} "
+              f"{'escape energy J':>15} {field_title:>{field_width}}  resting on")
     lines.append(header)
     for family in families:
         eq = report.equilibria[family.representative]
-        position = ", ".join(f"{v:.4g}" for v in _tidy(np.asarray(eq.position, float)
-                                                       / scene.unit_scale, size))
+        position = ", ".join(f"{v:.4g}" for v in _tidy(units.L(np.asarray(eq.position, float)),
+                                                       size))
         force = family.escape_force_N
         ratio = "-"
         if force is not None and weight > 0:
@@ -115,19 +140,20 @@ def format_table(report, scene) -> str:
         contact = ", ".join(family.surfaces) or "- (free)"
         lines.append(
             f"{family.number:>2}  {len(family.members):>5}  {family.classification:<8} "
-            f"{position:<30} {_range(force):>14} {ratio:>11} "
+            f"{position:<30} {_range(_scaled(force, units.F)):>{force_width}} {ratio:>11} "
             f"{_number(escape.energy_J if escape else None):>15} "
-            f"{_number(1e3 * np.linalg.norm(eq.B_T)):>7}  {contact}")
+            f"{_field_number(units.B(np.linalg.norm(eq.B_T)), units):>{field_width}}  {contact}")
     if not report.equilibria:
         lines.append("    (none found in the search box)")
     if families:
         lines += ["", "What each family is:"]
-        lines += [f"  #{f.number} {describe_family(f, report, scene)}" for f in families]
-        lines += ["", "Stiffness (N/m) of the member shown, softest first, with its direction "
-                  "and its frequency of small oscillations (Hz):"]
+        lines += [f"  #{f.number} {describe_family(f, report, scene, units)}" for f in families]
+        lines += ["", f"Stiffness ({units.stiffness_label}) of the member shown, softest first, "
+                  "with its direction and its frequency of small oscillations (Hz):"]
         for f in families:
             shown = report.equilibria[f.representative]
-            lines.append(f"  #{f.number} " + _stiffness_words(shown, _ring_frame(f, shown)))
+            lines.append(f"  #{f.number} " + _stiffness_words(shown, _ring_frame(f, shown),
+                                                               units))
     if report.earnshaw_note:
         lines += ["", report.earnshaw_note]
     exits = []
@@ -142,8 +168,10 @@ def format_table(report, scene) -> str:
     for f in families:
         eq = report.equilibria[f.representative]
         if eq.rule_check is not None:
-            spread = " ".join(_number(v) for v in eq.rule_check.stiffness_difference_N_per_m)
-            checks.append(f"  #{f.number} stiffness to within {spread} N/m, energy to "
+            spread = " ".join(_number(units.stiffness(v))
+                              for v in eq.rule_check.stiffness_difference_N_per_m)
+            checks.append(f"  #{f.number} stiffness to within {spread} {units.stiffness_label}, "
+                          "energy to "
                           f"{_number(eq.rule_check.energy_difference_J)} J")
     if checks:
         lines += ["", "Finite-size rule error (the rule against a coarser one):", *checks]

@@ -190,10 +190,17 @@ class ColourScale:
             t = (value_mT - low) / (high - low)
         return tuple(float(c) for c in colormap(float(np.clip(t, 0.0, 1.0)))[:3])
 
-    def draw_bar(self, plotter, position, size, font_size) -> None:
+    def draw_bar(self, plotter, position, size, font_size, units=None) -> None:
+        """The colour bar, labelled in the reader's field unit (`units`; default mT): the bar
+        has its own lookup table, so only its range is converted, not the coloured meshes."""
         import pyvista as pv
 
+        factor = 1.0 if units is None else float(units.B(1e-3))  # display units per mT
+        label = "mT" if units is None else units.field_label
         clim = tuple(np.log10(self.clim)) if self.values_as_log10 else self.clim
+        if factor != 1.0:
+            clim = (tuple(np.asarray(clim) + np.log10(factor)) if self.values_as_log10
+                    else tuple(np.asarray(clim) * factor))
         table = pv.LookupTable(cmap=self.cmap, scalar_range=clim,
                                log_scale=self.log and not self.values_as_log10)
         mapper = pv.DataSetMapper(pv.PolyData(np.zeros((1, 3))))
@@ -203,10 +210,17 @@ class ColourScale:
         if self.values_as_log10:
             scale = "log10"
         plotter.add_scalar_bar(
-            title=f"B in mT, {scale}", mapper=mapper, vertical=True, position_x=position[0],
+            title=f"B in {label}, {scale}", mapper=mapper, vertical=True, position_x=position[0],
             position_y=position[1], width=size[0], height=size[1], color=style.TEXT,
-            title_font_size=int(2 * font_size), label_font_size=int(1.8 * font_size), n_labels=5, fmt="%.3g",
+            title_font_size=int(2 * font_size), label_font_size=int(1.8 * font_size), n_labels=5,
+            fmt=_bar_format(self.clim, factor),
             bold=False, shadow=False, fill=False)
+
+
+def _bar_format(clim_mT, factor: float) -> str:
+    """Three digits; in gauss, thousands written out (2540, not 2.54e+03)."""
+    low, high = (v * factor for v in clim_mT)
+    return "%.0f" if factor != 1.0 and high >= 1e3 and low >= 1.0 else "%.3g"
 
 
 # -- scale bar ----------------------------------------------------------------------------------
@@ -221,11 +235,12 @@ def nice_length(target: float) -> float:
 
 
 def draw_scale_bar(plotter, world_per_pixel: float, unit: str, origin_px, font_size,
-                   target_px: float) -> float:
-    """A bar of a round length in the scene's unit, valid because the projection is parallel.
-    Returns its length in the scene unit."""
-    length = nice_length(target_px * world_per_pixel)
-    pixels = length / world_per_pixel
+                   target_px: float, factor: float = 1.0) -> float:
+    """A bar of a round length in `unit`, valid because the projection is parallel; `factor`
+    is `unit`s per scene unit (the reader's unit, when it is not the scene's). Returns its
+    length in `unit`."""
+    length = nice_length(target_px * world_per_pixel * factor)
+    pixels = length / (world_per_pixel * factor)
     x0, y0 = origin_px
     tick = max(4.0, font_size * 0.4)
     ends = np.array([(x0, y0), (x0 + pixels, y0), (x0, y0 - tick), (x0, y0 + tick),
@@ -238,11 +253,15 @@ def draw_scale_bar(plotter, world_per_pixel: float, unit: str, origin_px, font_s
     return length
 
 
-def title_lines(scene, section) -> tuple[str, str]:
-    """The title (the scene's) and one line saying what probe, constraint and section it shows."""
+def title_lines(scene, section, ctx=None) -> tuple[str, str]:
+    """The title (the scene's) and one line saying what probe, constraint and section it shows
+    (with a view context, lengths in the reader's unit)."""
     probe = scene.probe
-    diameter = probe.diameter / scene.unit_scale
-    parts = [f"{probe_words(scene).noun} Ø {diameter:.3g} {scene.units}"]
+    if ctx is None:
+        diameter, unit = probe.diameter / scene.unit_scale, scene.units
+    else:
+        diameter, unit = ctx.shown.L(probe.diameter), ctx.shown.length_label
+    parts = [f"{probe_words(scene).noun} Ø {diameter:.3g} {unit}"]
     constraint = scene.constraint
     if constraint.kind == "line":
         parts.append(f"on a line along {_direction_name(constraint.direction)}")
@@ -252,7 +271,8 @@ def title_lines(scene, section) -> tuple[str, str]:
         parts.append("free")
     parts.append("gravity on" if float((scene.gravity**2).sum()) > 0 else "no gravity")
     if section is not None:
-        parts.append(f"section {section.name} {scene.units}")
+        parts.append(f"section {section.name} {scene.units}" if ctx is None
+                     else f"section {ctx.section_words()}")
     return scene.title or "trapscape", " · ".join(parts)
 
 

@@ -11,7 +11,9 @@ from functools import cached_property
 
 import numpy as np
 
+from trapscape.physics.analysis.display_units import scene_units
 from trapscape.physics.analysis.run import Analysis
+from trapscape.physics.analysis.trap_words import describe_position
 from trapscape.physics.analysis.views import field_samples, headline_of
 from trapscape.viewers.layers.traps_data import family_entries
 from trapscape.viewers.layers.magnets import world_meshes
@@ -43,6 +45,9 @@ class ViewContext:
     grid_resolution: int = 64  # points on the longest side of the 3D field grid
     section_resolution: int = 220  # points on the longest side of the section map
     progress: object = None  # callable(done, total, stage=None) or None
+    # the reader's units of the words on a picture (physics.analysis.display_units.DisplayUnits;
+    # None: the scene's length unit, N and mT); the geometry stays in the scene's unit
+    display: object = None
     section: Section | None = None  # set by viewers.render.prepare with the view's vectors
     # pyvista geometry the layers made from the analysis's numbers, by name, so a render and an
     # export of one context make it once
@@ -82,6 +87,31 @@ class ViewContext:
 
     def to_units(self, metres) -> np.ndarray:
         return np.asarray(metres, dtype=float) / self.scale
+
+    @property
+    def shown(self):
+        """The DisplayUnits of the words on the picture."""
+        return self.display or scene_units(self.scene)
+
+    def length_factor(self) -> float:
+        """Display length units per scene unit (1 unless --units names another)."""
+        return float(self.shown.L_from(1.0, self.unit))
+
+    def position_words(self, position) -> str:
+        """A position in the scene's unit as the reader reads it: '(21.0, 0, -0.2) mm'."""
+        shown = self.shown
+        return describe_position(shown.L_from(np.asarray(position, float), self.unit),
+                                 shown.length_label, shown.L_from(self.size, self.unit))
+
+    def section_words(self) -> str:
+        """'y = -2.712 mm': the section plane in the reader's length unit."""
+        shown = self.shown
+        level = shown.L_from(self.section.level, self.unit)
+        level = 0.0 if abs(level) < 1e-9 * max(shown.L_from(self.size, self.unit), 1e-300) \
+            else level
+        if shown.length == self.unit:
+            return f"{self.section.name} {self.unit}"
+        return f"{AXIS_NAMES[self.section.axis]} = {level:.4g} {shown.length_label}"
 
     def note(self, text: str) -> None:
         """Something the user should read (a layer left out and why); printed by the command."""

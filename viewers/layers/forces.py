@@ -9,7 +9,6 @@ from trapscape.physics.analysis.views import allowed_force, probe_energy_and_for
 from trapscape.scene.shapes.frames import perpendicular_pair
 from trapscape.viewers.layers import style
 from trapscape.viewers.layers.guide import line_through_box, plane_in_box
-from trapscape.viewers.layers.traps_data import describe_force
 
 LATTICE_FREE = 9  # points on the longest side of the box
 LATTICE_PLANE = 17
@@ -95,5 +94,5 @@ def draw(plotter, ctx, legend) -> None:
         return
     glyphs, low, high = result
     plotter.add_mesh(glyphs, color=style.FORCE, smooth_shading=True, scalars=None)
-    legend.add(f"force on the probe, longer = stronger ({describe_force(low)} to "
-               f"{describe_force(high)})", style.FORCE, "line")
+    legend.add(f"force on the probe, longer = stronger ({ctx.shown.force_text(low)} to "
+               f"{ctx.shown.force_text(high)})", style.FORCE, "line")

@@ -29,6 +29,8 @@ def draw(plotter, ctx, legend) -> None:
     plotter.add_mesh(mesh, color=COLOUR, opacity=OPACITY, smooth_shading=True)
     plotter.add_mesh(mesh, color=COLOUR, style="wireframe", opacity=0.2, line_width=1)
     limit = ctx.analysis.implant_surface.limit_T
-    legend.add(f"implant shell, {limit * 1e3:g} mT (ICNIRP 2009)", COLOUR, "rectangle")
+    shown = ctx.shown
+    legend.add(f"implant shell, {shown.B(limit):g} {shown.field_label} (ICNIRP 2009)", COLOUR,
+               "rectangle")
     ctx.note("implant: the shell of the magnets alone (steel plates left out); keep people "
              "with implanted medical devices outside it.")

@@ -80,17 +80,22 @@ def _times(equilibrium) -> str:
     return f" {MULTIPLE}{equilibrium.count}" if equilibrium.count > 1 else ""
 
 
-def label_text(equilibrium, unit: str, full: bool, scale: float | None = None) -> str:
+def label_text(equilibrium, unit: str, full: bool, scale: float | None = None,
+               ctx=None) -> str:
+    """A marker's label; with a view context, its position and force in the reader's units."""
     head = f"{equilibrium.number} {equilibrium.kind}{_times(equilibrium)}"
     if equilibrium.contact:
         head += f", on {equilibrium.contact}"
     if not full:
         return head
-    lines = [head, describe_position(equilibrium.position, unit, scale)]
+    where = (describe_position(equilibrium.position, unit, scale) if ctx is None
+             else ctx.position_words(equilibrium.position))
+    force_words = describe_force if ctx is None else ctx.shown.force_text
+    lines = [head, where]
     if equilibrium.closed_in:
         lines.append("closed in: no way out of the box")
     elif equilibrium.escape_force_N is not None:
-        lines.append(f"holds {describe_force(equilibrium.escape_force_N)}")
+        lines.append(f"holds {force_words(equilibrium.escape_force_N)}")
     return "\n".join(lines)
 
 
@@ -122,11 +127,11 @@ def table_rows(ctx) -> list:
     """One line per equilibrium for the picture's table (the firmest first)."""
     rows = []
     for e in ranked(ctx.equilibria):
-        text = f"{e.number} {e.kind}{_times(e)} {describe_position(e.position, ctx.unit, ctx.size)}"
+        text = f"{e.number} {e.kind}{_times(e)} {ctx.position_words(e.position)}"
         if e.closed_in:
             text += ", closed in"
         elif e.escape_force_N is not None and e.kind in ("stable", "marginal"):
-            text += f", holds {describe_force(e.escape_force_N)}"
+            text += f", holds {ctx.shown.force_text(e.escape_force_N)}"
         if e.contact:
             text += f", on {e.contact}"
         rows.append(text)
@@ -160,7 +165,7 @@ def draw(plotter, ctx, legend, overlay=None) -> None:
             seen.append(equilibrium.kind)
     full = len(equilibria) <= FULL_LABELS
     chosen = labelled(equilibria)
-    ctx.pending_labels = [(e, label_text(e, ctx.unit, full, ctx.size)) for e in chosen]
+    ctx.pending_labels = [(e, label_text(e, ctx.unit, full, ctx.size, ctx)) for e in chosen]
     ctx.equilibria_table = [] if full else table_rows(ctx)
     for kind in style.MARKER:
         if kind in seen:

@@ -163,6 +163,6 @@ def draw(plotter, ctx, legend, colour_scale) -> None:
         lines.points = np.asarray(lines.points) + lift
         plotter.add_mesh(lines, color=style.FIELD_LINE_2D, line_width=colour_scale.line_width,
                          opacity=0.85, lighting=False)
-        legend.add(f"field lines on the section ({ctx.section.name} {ctx.unit})",
+        legend.add(f"field lines on the section ({ctx.section_words()})",
                    style.FIELD_LINE_2D, "line")
     colour_scale.used = True

@@ -57,12 +57,12 @@ def write_report(analysis, folder, units, sizes=views.PictureSizes(), interactiv
     out = Path(folder)
     out.mkdir(parents=True, exist_ok=True)
     content = report_content(analysis, units, progress=progress)
-    ctx = ViewContext.of(analysis, grid_resolution=grid_resolution)
+    ctx = ViewContext.of(analysis, grid_resolution=grid_resolution, display=units)
     pictures = {"overview": out / overview_name, "section": out / "section.png",
                 "polarity": out / "polarity.png"}
     views.overview(ctx, str(pictures["overview"]), sizes.render)
     views.section_view(ctx, str(pictures["section"]), sizes.render)
-    views.polarity(ctx, str(pictures["polarity"]), sizes.polarity)
+    views.polarity(ctx, str(pictures["polarity"]), sizes.polarity, units)
     if content.profile is not None:
         pictures["profile"] = Path(draw_profile(content.profile, units, str(out / "profile.png"),
                                                 sizes.plot))

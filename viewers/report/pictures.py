@@ -45,9 +45,9 @@ def section_view(ctx, path: str, size) -> str:
     return render_png(ctx, options, path)
 
 
-def polarity(ctx, path: str, size) -> str:
-    """The polarity map of `render --view polarity`."""
-    return draw_polarity_map(ctx, path, size=size)
+def polarity(ctx, path: str, size, units=None) -> str:
+    """The polarity map of `render --view polarity`, its axes in the report's units."""
+    return draw_polarity_map(ctx, path, size=size, units=units)
 
 
 def interactive_page(ctx, size, folder) -> str:

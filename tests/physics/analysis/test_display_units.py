@@ -22,7 +22,8 @@ def test_factors_are_the_exact_definitions():
 def test_units_are_read_in_any_order_and_case():
     assert parse_units("lbf, IN,Gauss") == DisplayUnits(field="gauss", force="lbf", length="in")
     assert parse_units(None, default_length="in") == DisplayUnits(length="in")
-    assert parse_units("", default_length="cm") == DisplayUnits()  # cm is no display unit
+    # a cm or m scene keeps its own unit by default, as the tables of every command showed it
+    assert parse_units("", default_length="cm") == DisplayUnits(length="cm")
     assert parse_units("kgf").force_text(9.80665) == "1 kgf"
     assert parse_units(None).force_text(0.00502) == "5 mN"
 
