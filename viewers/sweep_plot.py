@@ -10,7 +10,7 @@ import matplotlib.pyplot as plt
 from matplotlib.ticker import MaxNLocator
 
 
-def sweep_figure(rows, folds, varies, unit, title):
+def sweep_figure(rows, folds, varies, unit, units, title):
     """Three panels against the first swept parameter, one line per trap.
 
     Parameters
@@ -21,7 +21,9 @@ def sweep_figure(rows, folds, varies, unit, title):
         Each fold with the other parameter's value it was found at.
     varies : list of Vary
     unit : str
-        The scene's length unit.
+        The scene's length unit (the rows' positions are in it).
+    units : trapscape.physics.analysis.display_units.DisplayUnits
+        The reader's units (--units): positions and stiffness are drawn in them.
     title : str
 
     Returns
@@ -32,9 +34,11 @@ def sweep_figure(rows, folds, varies, unit, title):
     along_line = any(r["coordinate"] is not None for r in rows)
     figure, axes = plt.subplots(3, 1, figsize=(9.0, 8.6), sharex=True)
     panels = [
-        (lambda r: r["coordinate"] if along_line else r["position"][2],
-         f"{'position along the line' if along_line else 'height z'} ({unit})"),
-        (lambda r: r["smallest_stiffness_N_per_m"], "smallest stiffness (N/m)"),
+        (lambda r: _shown(r["coordinate"] if along_line else r["position"][2],
+                          lambda v: units.L_from(v, unit)),
+         f"{'position along the line' if along_line else 'height z'} ({units.length_label})"),
+        (lambda r: _shown(r["smallest_stiffness_N_per_m"], units.stiffness),
+         f"smallest stiffness ({units.stiffness_label})"),
         (lambda r: r["escape_over_weight"], "escape force / probe's weight"),
     ]
     traps = sorted({r["trap"] for r in rows}, key=_label_order)
@@ -66,6 +70,10 @@ def sweep_figure(rows, folds, varies, unit, title):
     figure.suptitle(f"{title}\ntraps against {name}{other}", fontsize=11)
     figure.tight_layout()
     return figure
+
+
+def _shown(value, convert):
+    return None if value is None else convert(value)
 
 
 def _label_order(label: str):

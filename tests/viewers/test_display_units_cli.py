@@ -285,6 +285,7 @@ WRONG = {
     "traps": ["traps", PAIR],
     "field": ["field", GAUGE, "--line", "0,0,-1", "0,0,1", "3", "-o", "f.csv"],
     "hold": ["hold", PLATE, "--gap", "1"],
+    "sweep": ["sweep", GAUGE, "--vary", "gap=2..3@2", "-o", "sweep"],
     "render": ["render", PAIR, "-o", "view.png"],
     "export": ["export", PAIR, "-o", "view.html"],
     "report": ["report", PAIR, "-o", "report"],
@@ -303,7 +304,7 @@ def test_a_wrong_unit_is_one_sentence_and_exit_2(command, tmp_path):
     code, screen = at_terminal(args, tmp_path, timeout=60)
     assert code == 2 and "Traceback" not in screen and "'furlong' is not a display unit" in screen
     assert not any((tmp_path / name).exists() for name in ("report", "f.csv", "view.png",
-                                                           "view.html"))
+                                                           "view.html", "sweep"))
 
 
 def test_report_margin_warnings_in_the_readers_units():
@@ -357,3 +358,23 @@ def test_render_labels_and_polarity_map_in_the_readers_units(tmp_path):
     held = float(re.search(r"holds ([\d.]+) lbf", label).group(1))
     assert held == pytest.approx(stable.escape_force_N / LBF_N, rel=THREE_DIGITS)
     assert all(" in" in row and "mm" not in row for row in table_rows(ctx))
+
+
+def test_sweep_figure_draws_positions_and_stiffness_in_the_readers_units():
+    """The sweep's rows (scene unit mm, stiffness N/m) drawn in inches and lbf/in: each plotted
+    value is the row's converted with NIST SP 811's factors; the escape ratio has no unit."""
+    from types import SimpleNamespace
+
+    from trapscape.viewers.sweep_plot import sweep_figure
+
+    rows = [{"trap": "1", "class": "stable", "rings": n, "coordinate": -1.25 * n,
+             "position": [0.0, 0.0, -1.25 * n], "smallest_stiffness_N_per_m": 40.0 * n,
+             "escape_over_weight": 3.0 * n} for n in (1, 2, 3)]
+    figure = sweep_figure(rows, [], [SimpleNamespace(name="rings")], "mm",
+                          parse_units(IMPERIAL), "stack")
+    position, stiffness, escape = (axis.lines[0].get_ydata() for axis in figure.axes[:3])
+    n = np.array([1, 2, 3])
+    assert np.allclose(position, _mm_to_in(-1.25 * n), rtol=1e-14)
+    assert np.allclose(stiffness, 40.0 * n / LBF_N * INCH_M, rtol=1e-14)  # N/m -> lbf/in
+    assert np.allclose(escape, 3.0 * n, rtol=1e-14)
+    assert "(in)" in figure.axes[0].get_ylabel() and "(lbf/in)" in figure.axes[1].get_ylabel()

@@ -14,6 +14,9 @@ from trapscape.viewers.atomic import replaced_atomically, save_figure
 from trapscape.viewers.commands.common import (
     add_output_argument,
     add_scene_arguments,
+    add_units_argument,
+    check_units,
+    display_units,
     progress,
     write_json,
 )
@@ -25,6 +28,7 @@ MATCH_SHARE = 0.3
 EXAMPLES = """\
   trapscape sweep samples/level_gauge.toml --vary gap=2..6@9 -o gauge-sweep
   trapscape sweep samples/level_gauge.toml --vary gap=2..6@5 --vary bead=2..4@3 -o grid --workers 2
+  trapscape sweep samples/ring_stack.toml --vary rings=1..4@4 -o stack --units in,lbf
 """
 
 
@@ -40,12 +44,14 @@ def add_arguments(parser) -> None:
     parser.add_argument("--match", type=float, default=None, metavar="LENGTH",
                         help="farthest a trap may move between steps and stay the same one, in "
                              "the scene's unit (default: 0.3 of the search box's longest side)")
+    add_units_argument(parser)
 
 
 def run(args) -> int:
     from trapscape.physics.analysis import sweep
     from trapscape.physics.analysis.run import load_analysis
 
+    check_units(args)
     varies = [sweep.parse_vary(text) for text in args.vary]
     grid = sweep.grid_of(varies)
     folder = _output_folder(args.output)
@@ -82,8 +88,9 @@ def run(args) -> int:
     unit = base.units
     _write_csv(folder / "sweep.csv", rows, varies, unit)
     write_json(str(folder / "sweep.json"), _payload(args, varies, steps, rows, folds, unit))
-    _plot(folder / "sweep.png", rows, folds, varies, unit, base)
-    _print_summary(steps, tracks, folds, varies, unit, folder)
+    units = display_units(args, base)
+    _plot(folder / "sweep.png", rows, folds, varies, unit, units, base)
+    _print_summary(steps, tracks, folds, varies, unit, units, folder)
     return 0
 
 
@@ -202,14 +209,14 @@ def _payload(args, varies, steps, rows, folds, unit) -> dict:
     }
 
 
-def _plot(path, rows, folds, varies, unit, scene) -> None:
+def _plot(path, rows, folds, varies, unit, units, scene) -> None:
     from trapscape.viewers.sweep_plot import sweep_figure
 
-    figure = sweep_figure(rows, folds, varies, unit, scene.title)
+    figure = sweep_figure(rows, folds, varies, unit, units, scene.title)
     save_figure(figure, path, dpi=150)
 
 
-def _print_summary(steps, tracks, folds, varies, unit, folder) -> None:
+def _print_summary(steps, tracks, folds, varies, unit, units, folder) -> None:
     failed = [s for s in steps if "error" in s]
     name = varies[0].name
     for line, line_tracks in tracks:
@@ -221,12 +228,13 @@ def _print_summary(steps, tracks, folds, varies, unit, folder) -> None:
             print(f"trap {label} ({kind}): from {name} = {first['params'][name]:g} to "
                   f"{last['params'][name]:g} ({len(t.members)} {steps_word})")
     for fixed, f in folds:
-        where = ", ".join(f"{c:.3g}" for c in f.position)
+        where = ", ".join(f"{c:.3g}" for c in units.L_from(np.asarray(f.position, float), unit))
         event = ("meet and vanish (the trap is lost)" if f.kind == "lost"
                  else "appear together (a new trap)")
         at = "".join(f" at {k} = {v:g}" for k, v in fixed.items())
         print(f"fold{at}: traps {f.tracks[0]} and {f.tracks[1]} {event} between "
-              f"{name} = {f.between[0]:.4g} and {f.between[1]:.4g}, near ({where}) {unit}")
+              f"{name} = {f.between[0]:.4g} and {f.between[1]:.4g}, near ({where}) "
+              f"{units.length_label}")
     for s in steps:
         if s.get("continued"):
             shown = ", ".join(f"{k} = {v:g}" for k, v in s["params"].items())
