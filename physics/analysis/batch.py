@@ -11,7 +11,9 @@ the same JSON. (The command line's default engine agrees to rounding: see engine
 from __future__ import annotations
 
 import concurrent.futures
+import ctypes
 import multiprocessing
+import os
 import signal
 import sys
 import threading
@@ -163,11 +165,15 @@ def process_pool(workers: int = 2) -> concurrent.futures.ProcessPoolExecutor:
     concurrent.futures.ProcessPoolExecutor
     """
     context = worker_context()
-    if context.get_start_method() == "fork":
+    forked = context.get_start_method() == "fork"
+    if forked:
         engine.load_compiler()
     return concurrent.futures.ProcessPoolExecutor(
-        max_workers=workers, mp_context=context, initializer=start_worker)
+        max_workers=workers, mp_context=context, initializer=start_worker,
+        initargs=(os.getpid() if forked else None,))
 
+
+PR_SET_PDEATHSIG = 1  # linux/prctl.h
 
 # what a fork server imports before it forks workers (the whole engine comes with them)
 WORKER_MODULES = ["trapscape.physics.analysis.screen", "trapscape.physics.analysis.sweep"]
@@ -202,11 +208,28 @@ def _fork_is_safe() -> bool:
     return layer in (None, "workqueue", "tbb") and "fmm3dpy" not in sys.modules
 
 
-def start_worker() -> None:
+def start_worker(parent: int | None = None) -> None:
     """A pool worker's start: the engine in in-process mode, and SIGTERM ending the worker
-    whatever handler a forked worker inherited (the command line's turns it into Ctrl-C)."""
+    whatever handler a forked worker inherited (the command line's turns it into Ctrl-C).
+
+    Parameters
+    ----------
+    parent : int, optional
+        The pid of the process the worker was forked from: the worker ends when it does. (Its
+        siblings hold copies of the pool's pipes, so a worker of a killed parent would never
+        see them close and would wait for work for ever.)
+    """
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    if parent is not None:
+        _end_with(parent)
     engine.use_in_process()
+
+
+def _end_with(parent: int) -> None:
+    """SIGTERM to this process when its parent ends (Linux prctl PR_SET_PDEATHSIG)."""
+    ctypes.CDLL(None).prctl(PR_SET_PDEATHSIG, signal.SIGTERM)
+    if os.getppid() != parent:  # it ended before the line above
+        os._exit(1)
 
 
 def _field_payload(analysis, points_m) -> dict:
