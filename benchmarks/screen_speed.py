@@ -8,7 +8,9 @@ worker, the process pool of 2 workers, and a Dask LocalCluster of 2 workers. For
 - whole: layouts a minute over the process's wall time, start-up included;
 - steady: layouts a minute after start-up, from the times the rows reach OUT.jsonl (watched
   here), from the row that follows each worker's first one to the last;
-- CPU: seconds of CPU of the whole process tree (every worker included) per layout.
+- CPU: seconds of CPU of the process tree per layout, counting the processes it waited for: a
+  forked pool's workers, not those a fork server or a Dask nanny started (never waited for by
+  the tree), so compare the CPU of 2-worker runs only between runs that fork.
 
 Then the 2-against-1 ratios of both figures, and one process that screens 2 layouts: its wall
 time and the share of it that is not the layouts' own time (start-up, imports, compilation).
