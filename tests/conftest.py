@@ -13,3 +13,10 @@ import tempfile
 # Equivalent-dipole fits are cached on disk (physics.field.fit_cache): the tests keep theirs in a
 # folder of their own, never in the user's cache.
 os.environ["TRAPSCAPE_CACHE"] = tempfile.mkdtemp(prefix="trapscape-test-cache-")
+
+# numba's compiled kernels: in the folder the program uses (viewers.cli.use_kernel_cache, named by
+# the kernels' sources, so never stale), set before numba starts; the commands the tests start
+# inherit it and share the kernels.
+from trapscape.viewers.cli import use_kernel_cache
+
+use_kernel_cache()

@@ -5,11 +5,13 @@ Exit codes: 0 done, 2 bad input (one clear line on stderr), 1 a bug.
 from __future__ import annotations
 
 import argparse
+import hashlib
 import importlib
 import os
 import re
 import sys
 import threading
+from pathlib import Path
 
 from trapscape.scene.errors import SceneError
 
@@ -18,6 +20,18 @@ from trapscape.scene.errors import SceneError
 # where a second BLAS thread only spins against numba's threads (2.5 x more CPU for `traps` on a
 # quiet machine, issue 14). numba's OpenMP threads sleep when idle instead of spinning.
 BLAS_THREAD_VARIABLES = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")
+
+# numba checks a cached kernel against its own file only, yet the cached code also holds the
+# compiled helpers it calls from other files (placed.py, ellipint.py): the program keeps numba's
+# cache in a folder named by a digest of every file that holds kernels, so an edit to any of them
+# compiles afresh instead of loading stale code (tests/viewers/test_kernel_cache.py keeps the
+# list whole).
+KERNEL_SOURCES = (
+    "scene/shapes/meshops.py", "scene/shapes/meshtree.py",
+    "physics/field/cuboid.py", "physics/field/cylinder.py", "physics/field/dipole_direct.py",
+    "physics/field/ellipint.py", "physics/field/engine.py", "physics/field/placed.py",
+    "physics/field/polyhedron.py", "physics/field/radial.py", "physics/traps/escape.py",
+)
 
 COMMANDS = {
     "check": "validate a scene and list its parts, volumes and moments",
@@ -136,9 +150,60 @@ def use_thread_policy(environ=os.environ) -> bool:
     return True
 
 
+def use_kernel_cache(environ=os.environ) -> str | None:
+    """Point numba's cache (NUMBA_CACHE_DIR) at `kernel_cache_folder`, before numba starts.
+
+    Nothing is set when the user set NUMBA_CACHE_DIR, numba is already imported, or a source or
+    the folder cannot be reached: numba then caches beside the sources, its default.
+
+    Parameters
+    ----------
+    environ : mapping
+        The environment to set.
+
+    Returns
+    -------
+    str or None
+        The folder set, or None.
+    """
+    if "NUMBA_CACHE_DIR" in environ or "numba" in sys.modules:
+        return None
+    base = environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
+    try:
+        folder = kernel_cache_folder(Path(__file__).resolve().parents[1], Path(base))
+        folder.mkdir(parents=True, exist_ok=True)
+    except OSError:
+        return None
+    if not os.access(folder, os.W_OK):
+        return None
+    environ["NUMBA_CACHE_DIR"] = str(folder)
+    return str(folder)
+
+
+def kernel_cache_folder(root, base) -> Path:
+    """base/trapscape/numba/DIGEST, DIGEST a sha256 of the KERNEL_SOURCES files under root.
+
+    Parameters
+    ----------
+    root : pathlib.Path
+        The folder holding scene/ and physics/.
+    base : pathlib.Path
+        The user's cache folder.
+
+    Returns
+    -------
+    pathlib.Path
+    """
+    digest = hashlib.sha256()
+    for name in KERNEL_SOURCES:
+        digest.update(name.encode() + b"\0" + (root / name).read_bytes())
+    return base / "trapscape" / "numba" / digest.hexdigest()[:16]
+
+
 def console_main() -> int:
-    """The `trapscape` program: the thread policy, then main()."""
+    """The `trapscape` program: the thread policy and numba's cache, then main()."""
     use_thread_policy()
+    use_kernel_cache()
     return main()
 
 

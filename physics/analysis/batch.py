@@ -11,9 +11,15 @@ the same JSON. (The command line's default engine agrees to rounding: see engine
 from __future__ import annotations
 
 import concurrent.futures
+import ctypes
 import multiprocessing
+import os
+import signal
+import sys
+import threading
 from dataclasses import dataclass, field
 
+import numba
 import numpy as np
 
 from trapscape.physics.analysis.results import json_ready
@@ -139,11 +145,15 @@ def run_batch(jobs, executor=None) -> list:
 
 
 def process_pool(workers: int = 2) -> concurrent.futures.ProcessPoolExecutor:
-    """A pool of fresh worker processes for `run_batch`, each in the engine's in-process mode.
+    """A pool of worker processes for `run_batch`, each in the engine's in-process mode.
 
-    Workers come from a fork server, not forked from this process: numba's default threading
-    layer (GNU OpenMP, the fastest here for the many small kernel calls of a trap search) aborts
-    a child forked from a process that has already run a parallel kernel.
+    The workers start warm when they can: forked from this process, they inherit the engine's
+    modules it has imported and numba's loaded compiler (a fresh process spends most of a small
+    layout's time importing and loading them).
+    A child forked from a process that has started numba's threading layer (GNU OpenMP, the
+    fastest here for the many small kernel calls of a trap search) is killed by numba on its
+    first parallel kernel, so such a process gets workers from a fork server instead, which
+    imports the engine once for all of them (`worker_context`).
 
     Parameters
     ----------
@@ -154,9 +164,72 @@ def process_pool(workers: int = 2) -> concurrent.futures.ProcessPoolExecutor:
     -------
     concurrent.futures.ProcessPoolExecutor
     """
+    context = worker_context()
+    forked = context.get_start_method() == "fork"
+    if forked:
+        engine.load_compiler()
     return concurrent.futures.ProcessPoolExecutor(
-        max_workers=workers, mp_context=multiprocessing.get_context("forkserver"),
-        initializer=engine.use_in_process)
+        max_workers=workers, mp_context=context, initializer=start_worker,
+        initargs=(os.getpid() if forked else None,))
+
+
+PR_SET_PDEATHSIG = 1  # linux/prctl.h
+
+# what a fork server imports before it forks workers (the whole engine comes with them)
+WORKER_MODULES = ["trapscape.physics.analysis.screen", "trapscape.physics.analysis.sweep"]
+
+
+def worker_context():
+    """The multiprocessing context of the pool's workers: "fork" where a forked worker is safe,
+    else a fork server that has imported the engine (WORKER_MODULES).
+
+    Forking is safe on Linux when this process runs no other Python thread (one could hold a
+    lock the child needs), has not started numba's threading layer or started one that survives
+    a fork (workqueue, TBB), and has not loaded fmm3dpy (whose OpenMP threads do not).
+
+    Returns
+    -------
+    multiprocessing.context.BaseContext
+    """
+    if _fork_is_safe():
+        return multiprocessing.get_context("fork")
+    context = multiprocessing.get_context("forkserver")
+    context.set_forkserver_preload(WORKER_MODULES)
+    return context
+
+
+def _fork_is_safe() -> bool:
+    if not sys.platform.startswith("linux") or threading.active_count() > 1:
+        return False
+    try:
+        layer = numba.threading_layer()
+    except ValueError:  # not started in this process
+        layer = None
+    return layer in (None, "workqueue", "tbb") and "fmm3dpy" not in sys.modules
+
+
+def start_worker(parent: int | None = None) -> None:
+    """A pool worker's start: the engine in in-process mode, and SIGTERM ending the worker
+    whatever handler a forked worker inherited (the command line's turns it into Ctrl-C).
+
+    Parameters
+    ----------
+    parent : int, optional
+        The pid of the process the worker was forked from: the worker ends when it does. (Its
+        siblings hold copies of the pool's pipes, so a worker of a killed parent would never
+        see them close and would wait for work for ever.)
+    """
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    if parent is not None:
+        _end_with(parent)
+    engine.use_in_process()
+
+
+def _end_with(parent: int) -> None:
+    """SIGTERM to this process when its parent ends (Linux prctl PR_SET_PDEATHSIG)."""
+    ctypes.CDLL(None).prctl(PR_SET_PDEATHSIG, signal.SIGTERM)
+    if os.getppid() != parent:  # it ended before the line above
+        os._exit(1)
 
 
 def _field_payload(analysis, points_m) -> dict:

@@ -16,7 +16,6 @@ from __future__ import annotations
 import itertools
 
 import numpy as np
-from scipy.stats import qmc
 
 from trapscape.physics.analysis.sweep import MAX_STEPS, parse_vary
 from trapscape.scene.errors import SceneError
@@ -106,6 +105,9 @@ def _latin(axes, table, where) -> list:
                          f"{MAX_STEPS * 25}.")
     if not isinstance(seed, int):
         raise SceneError(f"{where}: seed must be a whole number.")
+    # imported here: scipy.stats is a large share of a screening process's start-up
+    from scipy.stats import qmc
+
     unit = qmc.LatinHypercube(d=len(axes), seed=seed).random(samples)
     result = []
     for row in unit:

@@ -84,6 +84,19 @@ def in_process_mode():
         numba.set_num_threads(threads)
 
 
+@numba.njit(cache=True)
+def _identity(x):
+    return x
+
+
+def load_compiler() -> None:
+    """Load numba's typing and lowering registries now, in this process: the first compiled
+    kernel a process calls, even from numba's cache, loads them (a third of a second on the
+    development machine). Called before a pool forks its workers, so that each does not load
+    them again; it starts no threads (the fork stays safe)."""
+    _identity(0.0)
+
+
 def may_start_processes() -> bool:
     """Whether the engine may start child processes here: not in in-process mode, and never in
     a daemonic process (a multiprocessing pool worker), which Python forbids to have children."""

@@ -160,15 +160,19 @@ def _dilated(mask, kernel) -> np.ndarray:
     """Cells within the kernel's ball of a masked cell."""
     if kernel.size <= DIRECT_KERNEL_CELLS:
         return ndimage.binary_dilation(mask, structure=kernel > 0)
-    from scipy import signal  # here: importing scipy.signal costs every command 0.5-0.9 s
-
-    return signal.fftconvolve(mask.astype(float), (kernel > 0).astype(float), mode="same") > 0.5
+    return _fftconvolve()(mask.astype(float), (kernel > 0).astype(float), mode="same") > 0.5
 
 
 def _ball_mean(values, kernel) -> np.ndarray:
     """The kernel's weighted mean around each cell (zero outside the array; kernel symmetric)."""
     if kernel.size <= DIRECT_KERNEL_CELLS:
         return ndimage.correlate(values, kernel, mode="constant", cval=0.0)
-    from scipy import signal
+    return _fftconvolve()(values, kernel, mode="same")
 
-    return signal.fftconvolve(values, kernel, mode="same")
+
+def _fftconvolve():
+    # imported here: scipy.signal brings scipy.stats, a large share of a screening worker's
+    # start-up, and only wide probes take this path
+    from scipy.signal import fftconvolve
+
+    return fftconvolve

@@ -100,33 +100,41 @@ def _plot(output, rows, spec) -> None:
 
 
 def _run(args, todo, log, total) -> None:
-    from trapscape.physics.analysis import batch, screen
+    from trapscape.physics.analysis import screen
 
     workers = min(args.workers or (os.cpu_count() or 1), max(len(todo), 1))
     if workers < 1:
         raise SceneError("--workers must be 1 or more.")
     start = total - len(todo)
+    if workers > 1 and not args.dask:
+        _run_on_pool(args, todo, log, workers, start, total)
+        return
     with progress(args, unit="layout", desc="screen") as update:
         if args.dask:
             _run_on_dask(args, todo, log, workers, lambda i: update and update(start + i, total))
             return
-        if workers == 1:
-            for i, layout in enumerate(todo):
-                log.append(screen.screen_layout_in_worker(layout, args.spec, args.timeout))
-                if update:
-                    update(start + i + 1, total)
-            return
-        with batch.process_pool(workers) as pool:
-            futures = [pool.submit(screen.screen_layout_in_worker, x, args.spec, args.timeout)
-                       for x in todo]
-            try:
+        for i, layout in enumerate(todo):
+            log.append(screen.screen_layout_in_worker(layout, args.spec, args.timeout))
+            if update:
+                update(start + i + 1, total)
+
+
+def _run_on_pool(args, todo, log, workers, start, total) -> None:
+    from trapscape.physics.analysis import batch, screen
+
+    with batch.process_pool(workers) as pool:
+        # the workers start at the first submit, before the progress bar starts its thread
+        futures = [pool.submit(screen.screen_layout_in_worker, x, args.spec, args.timeout)
+                   for x in todo]
+        try:
+            with progress(args, unit="layout", desc="screen") as update:
                 for i, future in enumerate(concurrent.futures.as_completed(futures)):
                     log.append(future.result())
                     if update:
                         update(start + i + 1, total)
-            except BaseException:
-                pool.shutdown(wait=False, cancel_futures=True)
-                raise
+        except BaseException:
+            pool.shutdown(wait=False, cancel_futures=True)
+            raise
 
 
 def _run_on_dask(args, todo, log, workers, update) -> None:

@@ -108,23 +108,30 @@ def _output_folder(text) -> Path:
 
 
 def _run_steps(args, grid) -> list:
-    from trapscape.physics.analysis import batch, sweep
+    from trapscape.physics.analysis import sweep
 
     workers = args.workers or (os.cpu_count() or 1)
     if workers < 1:
         raise SceneError("--workers must be 1 or more.")
     workers = min(workers, len(grid))
+    if workers > 1:
+        return _steps_on_pool(args, grid, workers)
     with progress(args, unit="step", desc="sweep") as update:
-        if workers == 1:
-            steps = []
-            for i, params in enumerate(grid):
-                steps.append(sweep.step_result(args.scene, params, args.set))
-                if update:
-                    update(i + 1, len(grid))
-            return steps
-        with batch.process_pool(workers) as pool:
-            futures = [pool.submit(sweep.step_result, args.scene, p, tuple(args.set))
-                       for p in grid]
+        steps = []
+        for i, params in enumerate(grid):
+            steps.append(sweep.step_result(args.scene, params, args.set))
+            if update:
+                update(i + 1, len(grid))
+        return steps
+
+
+def _steps_on_pool(args, grid, workers) -> list:
+    from trapscape.physics.analysis import batch, sweep
+
+    with batch.process_pool(workers) as pool:
+        # the workers start at the first submit, before the progress bar starts its thread
+        futures = [pool.submit(sweep.step_result, args.scene, p, tuple(args.set)) for p in grid]
+        with progress(args, unit="step", desc="sweep") as update:
             steps = []
             for i, future in enumerate(futures):
                 steps.append(future.result())

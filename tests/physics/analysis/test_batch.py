@@ -2,12 +2,16 @@
 from __future__ import annotations
 
 import concurrent.futures
+import json
+import subprocess
+import sys
 import time
 
+import numba
 import pytest
-
 from repo_paths import SAMPLES
-from trapscape.physics.analysis.batch import Job, process_pool, run_batch
+
+from trapscape.physics.analysis.batch import Job, process_pool, run_batch, worker_context
 
 # eight variants of the level gauge: the tube moved out and the bead resized
 VARIANTS = [("gap=2.5",), ("gap=3",), ("gap=3.5",), ("gap=4",),
@@ -64,3 +68,42 @@ def test_hold_and_field_jobs_match_the_analysis():
 def test_a_job_says_what_it_lacks(bad):
     with pytest.raises(ValueError):
         Job("scene.toml", **bad)
+
+
+def _threads_in_worker(_):
+    from threadpoolctl import threadpool_info
+
+    blas = [pool["num_threads"] for pool in threadpool_info() if pool["user_api"] == "blas"]
+    return numba.get_num_threads(), blas
+
+
+def test_a_process_that_started_numba_threads_gets_workers_from_a_fork_server_on_one_thread():
+    numba.get_num_threads()  # starts numba's threading layer here, as any analysis does
+    # a child forked now would be killed by numba on its first parallel kernel
+    assert worker_context().get_start_method() == "forkserver"
+    with process_pool(2) as pool:
+        reports = list(pool.map(_threads_in_worker, range(4)))
+    assert all(threads == 1 and set(blas) <= {1} for threads, blas in reports), reports
+
+
+FRESH_PROCESS = """
+import json, sys
+import numba
+from trapscape.physics.analysis.batch import Job, process_pool, run_batch, worker_context, worker_context
+jobs = [Job(sys.argv[1], overrides=(f"gap={g}",)) for g in (2.5, 3.5, 4.5)]
+method = worker_context().get_start_method()
+with process_pool(2) as pool:
+    pooled = run_batch(jobs, executor=pool)
+    threads = {pool.submit(numba.get_num_threads).result() for _ in range(4)}
+    pids = {pool.submit(__import__("os").getppid).result() for _ in range(4)}
+print(json.dumps({"method": method, "threads": sorted(threads), "same": pooled == run_batch(jobs),
+                  "parent": sorted(pids) == [__import__("os").getpid()]}))
+"""
+
+
+def test_a_fresh_process_forks_its_workers_warm_each_on_one_thread_with_the_same_answers():
+    run = subprocess.run([sys.executable, "-c", FRESH_PROCESS, str(SAMPLES / "level_gauge.toml")],
+                         capture_output=True, text=True, timeout=600, check=False)
+    assert run.returncode == 0, run.stderr
+    report = json.loads(run.stdout.splitlines()[-1])
+    assert report == {"method": "fork", "threads": [1], "same": True, "parent": True}
