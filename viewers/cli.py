@@ -31,6 +31,7 @@ KERNEL_SOURCES = (
     "physics/field/cuboid.py", "physics/field/cylinder.py", "physics/field/dipole_direct.py",
     "physics/field/ellipint.py", "physics/field/engine.py", "physics/field/placed.py",
     "physics/field/polyhedron.py", "physics/field/radial.py", "physics/traps/escape.py",
+    "viewers/csv_text.py",
 )
 
 COMMANDS = {
