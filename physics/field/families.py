@@ -24,6 +24,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from trapscape.physics.field.cuboid import add_cuboids_H
+from trapscape.physics.field import local_cells
 from trapscape.physics.field.cylinder import add_rings_H
 from trapscape.physics.field.sources import FAR_FIELD_SIZES
 
@@ -76,7 +77,8 @@ class Family:
     kernel: object
 
     def add_H(self, points, gradient, H, G) -> None:
-        """Add the family's H (and dH/dx) at world points into H and G, in place.
+        """Add the family's H (and dH/dx) at world points into H and G, in place: a large family
+        at many points cell by cell (physics/field/local_cells.py), else part by part.
 
         Parameters
         ----------
@@ -88,6 +90,19 @@ class Family:
             Accumulator, A/m.
         G : numpy.ndarray, shape (N, 3, 3), or None
             Accumulator, A/m^2 (used only with gradient).
+        """
+        if len(self.centers) >= local_cells.MIN_PARTS and len(points) >= local_cells.MIN_POINTS:
+            local_cells.add_H_by_cells(self, points, gradient, H, G)
+            return
+        self.add_H_direct(points, gradient, H, G)
+
+    def add_H_direct(self, points, gradient, H, G) -> None:
+        """add_H with every part summed at every point (one kernel call).
+
+        Parameters
+        ----------
+        points, gradient, H, G
+            As add_H.
         """
         if len(points) == 0:
             return
