@@ -185,12 +185,42 @@ def basis_matrix(points, degree: int, regular: bool = False, lowest: int = 0) ->
 
 
 def channels(H, G) -> np.ndarray:
-    """H (N, 3) and G (N, 3, 3) as the CHANNELS columns (N, 8)."""
+    """H and its gradient as the CHANNELS columns.
+
+    Parameters
+    ----------
+    H : numpy.ndarray, shape (N, 3)
+        A/m.
+    G : numpy.ndarray, shape (N, 3, 3)
+        dH_i/dx_j, A/m^2.
+
+    Returns
+    -------
+    numpy.ndarray, shape (N, CHANNELS)
+        Hx, Hy, Hz, Gxx, Gxy, Gxz, Gyy, Gyz.
+    """
     return np.column_stack([H, G[:, 0, 0], G[:, 0, 1], G[:, 0, 2], G[:, 1, 1], G[:, 1, 2]])
 
 
 def lebedev_directions(min_order: int):
-    """The smallest Lebedev set of order >= min_order: directions (Q, 3) and weights (Q,)."""
+    """The smallest Lebedev set of order >= min_order.
+
+    Parameters
+    ----------
+    min_order : int
+        Polynomial order the set must integrate exactly.
+
+    Returns
+    -------
+    directions : numpy.ndarray, shape (Q, 3)
+        Unit vectors.
+    weights : numpy.ndarray, shape (Q,)
+        Summing to 4 pi.
+
+    References
+    ----------
+    Lebedev & Laikov, Doklady Mathematics 59, 477 (1999) (scipy.integrate.lebedev_rule).
+    """
     order = next(o for o in LEBEDEV_ORDERS if o >= min_order)
     directions, weights = lebedev_rule(order)
     return directions.T.copy(), weights
