@@ -32,12 +32,13 @@ from numba import njit, prange
 from trapscape.physics.field.solid_harmonics import (CHANNELS, TOP_DEGREE, SphereFit,
                                                     add_expansion, channels)
 
-MIN_PARTS = 64  # families below this many parts are summed part by part (every sample's board)
+MIN_PARTS = 100  # families below this many parts are summed part by part (every sample's board;
+# an 8 x 8 board by cells took 0.9 x the CPU time of part by part's: not worth it)
 MIN_POINTS = 2_000  # calls with fewer points are summed part by part
 THETA = 1.0 / 3.0  # the far parts lie outside r / THETA of a cell of radius r
 DEGREES = (6, 8, 10, 12, 14, 16, 18, 20)  # the local expansion's degrees tried, smallest first
 TOLERANCE = 1e-8  # of the far parts' field scale on the cell's sphere (see the docstring)
-EXPANSION_COST = 4.0  # one expansion at a point, in closed-form evaluations (degree ~16)
+EXPANSION_COST = 10.0  # one expansion at a point, in boxes' closed forms (degree 16: 4.4 us, a box 0.5 us)
 MIN_CELL_POINTS = 256  # cells are not halved below this many points
 PARALLEL_MIN_POINTS = 20_000  # the expansion's kernel runs on numba's threads above this
 
@@ -116,11 +117,7 @@ def plan_cells(points, centers, radii) -> tuple:
 
 
 @njit(cache=True)
-def _expansion_at(m, points, center, radius, degree, coef, want_g, H, G):
-    n = TOP_DEGREE + 1
-    cr = np.empty((n, n))
-    ci = np.empty((n, n))
-    row = np.empty(n * n)
+def _expansion_at(m, points, center, radius, degree, coef, want_g, H, G, cr, ci, row):
     Gm = G[m] if want_g else G[0]
     add_expansion((points[m, 0] - center[0]) / radius, (points[m, 1] - center[1]) / radius,
                   (points[m, 2] - center[2]) / radius, True, 0, degree, coef, want_g, H[m], Gm,
@@ -129,14 +126,18 @@ def _expansion_at(m, points, center, radius, degree, coef, want_g, H, G):
 
 @njit(cache=True)
 def _expansion_serial(points, center, radius, degree, coef, want_g, H, G):
+    n = TOP_DEGREE + 1
+    cr, ci, row = np.empty((n, n)), np.empty((n, n)), np.empty(n * n)
     for m in range(points.shape[0]):
-        _expansion_at(m, points, center, radius, degree, coef, want_g, H, G)
+        _expansion_at(m, points, center, radius, degree, coef, want_g, H, G, cr, ci, row)
 
 
 @njit(cache=True, parallel=True)
 def _expansion_parallel(points, center, radius, degree, coef, want_g, H, G):
+    n = TOP_DEGREE + 1
     for m in prange(points.shape[0]):
-        _expansion_at(m, points, center, radius, degree, coef, want_g, H, G)
+        cr, ci, row = np.empty((n, n)), np.empty((n, n)), np.empty(n * n)
+        _expansion_at(m, points, center, radius, degree, coef, want_g, H, G, cr, ci, row)
 
 
 def _parts(family, mask):
