@@ -59,7 +59,7 @@ def main():
           f"{'max |dH|/|H|':>13s} {'max |dG|/|G|':>13s}")
     for count in args.counts:
         family = board_family(count)
-        warm = np.ascontiguousarray(np.zeros((3000, 3)) + [0, 0, 5 * MM])
+        warm = point_sets(np.random.default_rng(1), 3000, 1)["scan"]
         timed(family.add_H, warm)  # numba's cache and the sphere fits' matrices
         for label, points in point_sets(np.random.default_rng(0), args.scan_points,
                                         args.balls).items():

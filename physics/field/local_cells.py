@@ -103,6 +103,8 @@ def plan_cells(points, centers, radii) -> tuple:
         n_near = int(near.sum())
         direct = len(index) * K
         expanded = samples * (K - n_near) + len(index) * (n_near + EXPANSION_COST)
+        if radius <= 0.0:  # one point, many times: nothing to expand about
+            expanded = math.inf
         best = [Cell(index, center, radius, near, expanded < direct)], min(direct, expanded)
         if len(index) >= 2 * MIN_CELL_POINTS and best[1] > len(index) * (1.0 + EXPANSION_COST):
             axis = int(np.argmax(pts.max(axis=0) - pts.min(axis=0)))

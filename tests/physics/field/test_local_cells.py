@@ -145,3 +145,13 @@ def test_small_families_and_calls_are_summed_part_by_part():
         family.add_H(points, True, H1, G1)
         family.add_H_direct(points, True, H2, G2)
         assert np.array_equal(H1, H2) and np.array_equal(G1, G2)
+
+
+def test_a_call_of_one_point_many_times():
+    family = one_family(checkerboard(12))
+    points = np.zeros((3000, 3)) + [1 * MM, 2 * MM, 5 * MM]
+    H1, G1 = np.zeros((3000, 3)), np.zeros((3000, 3, 3))
+    H2, G2 = np.zeros((3000, 3)), np.zeros((3000, 3, 3))
+    family.add_H(points, True, H1, G1)
+    family.add_H_direct(points, True, H2, G2)
+    assert np.array_equal(H1, H2) and np.array_equal(G1, G2)
