@@ -3,7 +3,7 @@ the far parts, physics/field/local_cells.py), in one process, CPU time, and the 
 the cells against the direct sum.
 
 Boards of N x N cubes (the graphite stage's, `--set count=N`); points: the scan's kind (uniform in
-the search box) and the finite-size probe's kind (a probe's 1454 surface samples at its centre and
+the search box) and the finite-size probe's kind (a probe's 2,030 surface samples at its centre and
 at the six shifts of its Hessian stencil, around a few centres).
 
     python benchmarks/local_cells_speed.py              # N = 16, 30
