@@ -145,7 +145,7 @@ def _expansion_parallel(points, center, radius, degree, coef, want_g, H, G):
 def _parts(family, mask):
     return replace(family, **{name: np.ascontiguousarray(getattr(family, name)[mask])
                               for name in ("centers", "matrices", "params", "magnetizations",
-                                           "moments", "far")})
+                                           "moments", "far", "radii")})
 
 
 def _direct(family, points, gradient):
@@ -209,7 +209,7 @@ def add_H_by_cells(family, points, gradient, H, G) -> None:
     ----------
     Greengard & Rokhlin, J. Comput. Phys. 73, 325 (1987).
     """
-    radii = part_radii(family)
+    radii = family.radii
     strength = np.linalg.norm(family.moments, axis=1)
     cells, _ = plan_cells(points, family.centers, radii)
     for cell in cells:
@@ -230,21 +230,3 @@ def add_H_by_cells(family, points, gradient, H, G) -> None:
         H[cell.index] += h
         if gradient:
             G[cell.index] += g
-
-
-def part_radii(family) -> np.ndarray:
-    """Each part's circumradius about its centre (boxes: half the diagonal; cylinders and rings:
-    the corner of the outer wall).
-
-    Parameters
-    ----------
-    family : physics.field.families.Family
-
-    Returns
-    -------
-    numpy.ndarray, shape (K,)
-        m.
-    """
-    if family.name == "box":
-        return 0.5 * np.linalg.norm(family.params, axis=1)
-    return np.hypot(family.params[:, 0], family.params[:, 2])

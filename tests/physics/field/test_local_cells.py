@@ -90,7 +90,7 @@ def test_cells_match_the_direct_sum_within_the_claim():
                                     (4, 3)))
     for points in (cloud, balls):
         points = np.ascontiguousarray(points)
-        cells, _ = local_cells.plan_cells(points, family.centers, local_cells.part_radii(family))
+        cells, _ = local_cells.plan_cells(points, family.centers, family.radii)
         assert any(c.expand for c in cells)  # the expansions are what is checked
         H, G = np.zeros_like(points), np.zeros((len(points), 3, 3))
         family.add_H(points, True, H, G)
@@ -106,7 +106,7 @@ def test_cells_match_the_direct_sum_within_the_claim():
 
 def far_field_error(family, center, radius, degree, theta, inside):
     """Largest error of the far parts' local expansion of one degree at points, over |H|."""
-    near = (np.linalg.norm(family.centers - center, axis=1) - local_cells.part_radii(family)
+    near = (np.linalg.norm(family.centers - center, axis=1) - family.radii
             < radius / theta)
     far = local_cells._parts(family, ~near)
     fit = local_cells.sphere_fit()
