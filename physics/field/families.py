@@ -24,6 +24,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from trapscape.physics.field.cuboid import add_cuboids_H
+from trapscape.physics.field import local_cells
 from trapscape.physics.field.cylinder import add_rings_H
 from trapscape.physics.field.sources import FAR_FIELD_SIZES
 
@@ -54,11 +55,20 @@ def _ring_dims(params):
     return np.array([0.5 * outer, 0.5 * inner, 0.5 * height], float)
 
 
-# source kind -> (family name, body dims from the source's params, the family's kernel)
+def _box_radius(dims):
+    return 0.5 * np.linalg.norm(dims, axis=1)  # half the diagonal
+
+
+def _ring_radius(dims):
+    return np.hypot(dims[:, 0], dims[:, 2])  # the outer wall's rim
+
+
+# source kind -> (family name, body dims from the source's params, the family's kernel, each
+# part's circumradius from its body dims)
 FAMILY_OF_KIND = {
-    "box": ("box", _box_dims, add_cuboids_H),
-    "cylinder": ("ring", _ring_dims, add_rings_H),
-    "ring": ("ring", _ring_dims, add_rings_H),
+    "box": ("box", _box_dims, add_cuboids_H, _box_radius),
+    "cylinder": ("ring", _ring_dims, add_rings_H, _ring_radius),
+    "ring": ("ring", _ring_dims, add_rings_H, _ring_radius),
 }
 
 
@@ -74,9 +84,11 @@ class Family:
     moments: np.ndarray  # (K, 3) A m^2
     far: np.ndarray  # (K,) m: beyond this distance from the centre, the point dipole
     kernel: object
+    radii: np.ndarray  # (K,) m: each part's circumradius about its centre
 
     def add_H(self, points, gradient, H, G) -> None:
-        """Add the family's H (and dH/dx) at world points into H and G, in place.
+        """Add the family's H (and dH/dx) at world points into H and G, in place: a large family
+        at many points cell by cell (physics/field/local_cells.py), else part by part.
 
         Parameters
         ----------
@@ -89,6 +101,19 @@ class Family:
         G : numpy.ndarray, shape (N, 3, 3), or None
             Accumulator, A/m^2 (used only with gradient).
         """
+        if len(self.centers) >= local_cells.MIN_PARTS and len(points) >= local_cells.MIN_POINTS:
+            local_cells.add_H_by_cells(self, points, gradient, H, G)
+            return
+        self.add_H_direct(points, gradient, H, G)
+
+    def add_H_direct(self, points, gradient, H, G) -> None:
+        """add_H with every part summed at every point (one kernel call).
+
+        Parameters
+        ----------
+        points, gradient, H, G
+            As add_H.
+        """
         if len(points) == 0:
             return
         scratch = G if gradient else np.zeros((1, 3, 3))
@@ -96,19 +121,21 @@ class Family:
         self.kernel(points, self, gradient, H, scratch, parallel)
 
 
-def _packed(name, sources, dims_of, kernel) -> Family:
+def _packed(name, sources, dims_of, kernel, radius_of) -> Family:
     def stacked(values, shape):
         return np.ascontiguousarray(np.array(values, float).reshape((len(sources),) + shape))
 
+    params = stacked([dims_of(s.params) for s in sources], (3,))
     return Family(
         name=name,
         centers=stacked([s.center for s in sources], (3,)),
         matrices=stacked([s.matrix for s in sources], (3, 3)),
-        params=stacked([dims_of(s.params) for s in sources], (3,)),
+        params=params,
         magnetizations=stacked([s.magnetization for s in sources], (3,)),
         moments=stacked([s.moment for s in sources], (3,)),
         far=stacked([FAR_FIELD_SIZES * s.size for s in sources], ()),
         kernel=kernel,
+        radii=np.ascontiguousarray(radius_of(params)),
     )
 
 
@@ -158,7 +185,7 @@ def evaluation_steps(sources) -> list:
 
     def close_run():
         if run:
-            steps.append(_packed(run_entry[0], list(run), run_entry[1], run_entry[2]))
+            steps.append(_packed(run_entry[0], list(run), *run_entry[1:]))
             run.clear()
 
     for source in sources:

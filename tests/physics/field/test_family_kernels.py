@@ -98,7 +98,8 @@ def test_turned_parts_in_the_kernel_agree_to_rounding():
               box(2, (-8, 5, 1), turn((1, -1, 0), 120))]
     points = near_points()
     H_ref, G_ref = per_part(turned, points)
-    family = families._packed("box", turned, families._box_dims, families.add_cuboids_H)
+    family = families._packed("box", turned, families._box_dims, families.add_cuboids_H,
+                              families._box_radius)
     H, G = np.zeros_like(points), np.zeros((len(points), 3, 3))
     family.add_H(points, True, H, G)
     assert np.abs(H - H_ref).max() <= 1e-13 * np.abs(H_ref).max()
