@@ -30,7 +30,8 @@ KERNEL_SOURCES = (
     "scene/shapes/meshops.py", "scene/shapes/meshtree.py",
     "physics/field/cuboid.py", "physics/field/cylinder.py", "physics/field/dipole_direct.py",
     "physics/field/ellipint.py", "physics/field/engine.py", "physics/field/placed.py",
-    "physics/field/polyhedron.py", "physics/field/radial.py", "physics/traps/escape.py",
+    "physics/field/local_cells.py", "physics/field/polyhedron.py", "physics/field/radial.py",
+    "physics/field/solid_harmonics.py", "physics/traps/escape.py",
     "viewers/csv_text.py",
 )
 
