@@ -7,11 +7,11 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.scene.shapes.frames import to_body
 from trapscape.scene.units import MU0
 from trapscape.physics.field.dipole_sum import dipole_H
 from trapscape.physics.field.families import Family, evaluation_steps
 from trapscape.physics.field.parts import body_bounds, part_magnetization, part_sdf, part_sources
-from trapscape.scene.shapes.frames import to_body
 from trapscape.physics.field.sources import Source, mirrored
 from trapscape.physics.field.surfaces import evaluation_points
 
@@ -385,6 +385,7 @@ class FieldModel:
                                           axis=1)
             ceilings[:, k] = np.linalg.norm(np.maximum(body - low, high - body), axis=1)
         return floors, ceilings
+
 
 def _accumulate(H, G, result, gradient, where):
     if gradient:

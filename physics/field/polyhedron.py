@@ -101,8 +101,8 @@ def mesh_tables(vertices: np.ndarray, faces: np.ndarray) -> MeshTables:
 
 
 def _frozen_pair(vertices, faces):
-    """(id, id) of two read-only arrays that own their data (a scene's mesh), whose contents
-    cannot change while they are held; None for anything else. Hashing a 100,000-triangle
+    """(id, id) of two read-only arrays that own their data (a scene's mesh, frozen when it
+    is loaded): held, their ids stay theirs, and nothing writes to them; None for anything else. Hashing a 100,000-triangle
     mesh's bytes takes milliseconds, and a trap search asks for the same mesh thousands of times."""
     if all(isinstance(a, np.ndarray) and a.flags.owndata and not a.flags.writeable
            for a in (vertices, faces)):
