@@ -17,7 +17,6 @@ import math
 
 import numpy as np
 from numba import njit
-from scipy.integrate import lebedev_rule
 
 TOP_DEGREE = 24  # the highest degree any expansion uses
 CHANNELS = 8  # Hx, Hy, Hz, Gxx, Gxy, Gxz, Gyy, Gyz (G is symmetric and traceless where harmonic)
@@ -221,6 +220,8 @@ def lebedev_directions(min_order: int):
     ----------
     Lebedev & Laikov, Doklady Mathematics 59, 477 (1999) (scipy.integrate.lebedev_rule).
     """
+    from scipy.integrate import lebedev_rule  # here: scipy.integrate costs every start 0.5 s
+
     order = next(o for o in LEBEDEV_ORDERS if o >= min_order)
     directions, weights = lebedev_rule(order)
     return directions.T.copy(), weights

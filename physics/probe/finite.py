@@ -34,7 +34,24 @@ LEBEDEV_ORDERS = (3, 5, 7, 9, 11, 13, 15, 17, 19, 21, 23, 25, 27, 29, 31, 35, 41
 
 def lebedev_rule(order: int):
     """scipy.integrate.lebedev_rule, imported on first use: scipy.integrate brings in
-    scipy.optimize, which costs every command 0.5 s at start-up."""
+    scipy.optimize, which costs every command 0.5 s at start-up.
+
+    Parameters
+    ----------
+    order : int
+        Polynomial order integrated exactly on the sphere (one of LEBEDEV_ORDERS).
+
+    Returns
+    -------
+    directions : numpy.ndarray, shape (3, M)
+        Unit vectors.
+    weights : numpy.ndarray, shape (M,)
+        Summing to 4 pi.
+
+    References
+    ----------
+    V. I. Lebedev and D. N. Laikov, Doklady Mathematics 59, 477 (1999).
+    """
     from scipy.integrate import lebedev_rule as rule
 
     return rule(order)
