@@ -118,13 +118,27 @@ def part_contains(magnet, points) -> np.ndarray:
     -------
     numpy.ndarray of bool, shape (N,)
     """
-    body = to_body(points, magnet.position, magnet.rotation)
+    points = np.asarray(points, float).reshape(-1, 3)
     lower, upper = body_bounds(magnet)
-    candidates = np.flatnonzero(np.all((body >= lower) & (body <= upper), axis=1))
-    inside = np.zeros(len(body), dtype=bool)
-    if len(candidates):
-        inside[candidates] = shape_of(magnet).inside(magnet, body[candidates])
+    near = np.flatnonzero(_within_world_box(points, magnet, lower, upper))
+    body = to_body(points[near], magnet.position, magnet.rotation)
+    in_box = np.all((body >= lower) & (body <= upper), axis=1)
+    inside = np.zeros(len(points), dtype=bool)
+    if in_box.any():
+        inside[near[in_box]] = shape_of(magnet).inside(magnet, body[in_box])
     return inside
+
+
+def _within_world_box(points, magnet, lower, upper) -> np.ndarray:
+    """Points in the world box around the rotated body box, widened far beyond rounding: a
+    superset of the body box's points, found without rotating every point (a 1e6-point field)."""
+    corners = np.array([[x, y, z] for x in (lower[0], upper[0]) for y in (lower[1], upper[1])
+                        for z in (lower[2], upper[2])])
+    world = corners @ np.asarray(magnet.rotation, float).T + magnet.position
+    margin = 1e-9 * (np.abs(world).max() + float(np.max(upper - lower)))
+    low, high = world.min(axis=0) - margin, world.max(axis=0) + margin
+    return ((points[:, 0] >= low[0]) & (points[:, 0] <= high[0]) & (points[:, 1] >= low[1])
+            & (points[:, 1] <= high[1]) & (points[:, 2] >= low[2]) & (points[:, 2] <= high[2]))
 
 
 def part_magnetization(magnet, points) -> np.ndarray:

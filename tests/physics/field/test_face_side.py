@@ -156,3 +156,33 @@ def test_the_band_is_relative_to_the_part_and_only_catches_faces():
         where, owner = evaluation_points([part], np.vstack([deep, skin]))
         assert owner.tolist() == [0, -1]
         assert np.array_equal(where[0], deep[0]) and where[1, 2] > edge / 2
+
+
+@pytest.mark.parametrize("kind", ["box", "cylinder", "ring", "sphere", "mesh"])
+def test_inside_test_equals_the_body_frame_test_at_every_point(tmp_path, kind):
+    """part_contains first keeps the points of a world box around the rotated part; the answer
+    must be the body-frame test's at every point, on faces and box corners too."""
+    from trapscape.physics.field.parts import body_bounds, part_contains
+    from trapscape.scene.shapes import shape_of
+    from trapscape.scene.shapes.frames import to_body
+
+    rng = np.random.default_rng(len(kind))
+    shape_text, body_points, _, size = _random_part(rng, kind, tmp_path, "mm", 0)
+    (tmp_path / "scene.toml").write_text(
+        f'units = "mm"\n[[magnet]]\nname = "part"\n{shape_text}\n'
+        f"position = {_list(rng.uniform(-30, 30, 3))}\nrotation = {_rotation_text(rng)}\n"
+        f"north = [0, 0, 1]\nremanence = {BR}\n")
+    magnet = load_analysis(tmp_path / "scene.toml").scene.magnets[0]
+    lower, upper = body_bounds(magnet)
+    R, c = np.asarray(magnet.rotation), magnet.position
+    corners = np.array([[x, y, z] for x in (lower[0], upper[0]) for y in (lower[1], upper[1])
+                        for z in (lower[2], upper[2])])
+    body = np.concatenate([rng.uniform(lower - 0.2 * (upper - lower), upper + 0.2 * (upper - lower),
+                                       (20_000, 3)), body_points * 1e-3, corners])
+    world = body @ R.T + c
+    in_body = to_body(world, c, R)
+    expected = np.zeros(len(world), dtype=bool)
+    in_box = np.all((in_body >= lower) & (in_body <= upper), axis=1)
+    expected[in_box] = shape_of(magnet).inside(magnet, in_body[in_box])
+    assert 0 < expected.sum() < len(world)
+    assert np.array_equal(part_contains(magnet, world), expected)
