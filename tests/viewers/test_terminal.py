@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import os
 import pty
+import re
 import subprocess
 import sys
 import time
@@ -16,10 +17,14 @@ from repo_paths import SAMPLES  # noqa: E402
 CLI = [sys.executable, "-m", "trapscape.viewers.cli"]
 
 
-def at_terminal(args, cwd, timeout=300):
-    """Run the CLI with stdout and stderr on a pseudo-terminal; return (exit code, screen text)."""
+def at_terminal(args, cwd, timeout=300, sized=True):
+    """Run the CLI with stdout and stderr on a pseudo-terminal; return (exit code, screen text).
+    With sized=False the terminal reports 0 columns and no COLUMNS is set (a new
+    pseudo-terminal, as `script` or a container gives)."""
     leader, follower = pty.openpty()
     env = {**os.environ, "COLUMNS": "120", "LINES": "40", "TERM": "xterm"}
+    if not sized:
+        env = {k: v for k, v in env.items() if k not in ("COLUMNS", "LINES")}
     process = subprocess.Popen([*CLI, *args], stdin=subprocess.DEVNULL, stdout=follower,
                                stderr=follower, cwd=cwd, env=env, close_fds=True)
     os.close(follower)
@@ -69,6 +74,14 @@ def test_command_at_a_terminal(command, tmp_path):
     code, screen = at_terminal(_commands(tmp_path)[command], cwd=tmp_path)
     assert "Traceback" not in screen, screen[-2000:]
     assert code == 0, screen[-2000:]
+
+
+def test_progress_bar_draws_at_a_terminal_of_no_width(tmp_path):
+    """At a pseudo-terminal that reports 0 x 0 the bar drew nothing at all (tqdm hid it below a
+    screen of 0 rows): a long run looked hung. It now takes 80 x 24 there."""
+    code, screen = at_terminal(_commands(tmp_path)["traps"], cwd=tmp_path, sized=False)
+    assert code == 0, screen[-2000:]
+    assert re.search(r"\d+/\d+ \[", screen), screen[:2000]  # a frame "12/40 [00:01<..."
 
 
 @pytest.mark.parametrize("command", ["check", "traps", "hold"])

@@ -146,7 +146,7 @@ def progress(args, unit="pt", desc=None):
         return
     from tqdm import tqdm
 
-    bar = tqdm(file=sys.stderr, unit=unit, desc=desc, leave=False)
+    bar = tqdm(file=sys.stderr, unit=unit, desc=desc, leave=False, **_bar_size())
 
     def update(done, total, stage=None):
         bar.total = total
@@ -158,6 +158,20 @@ def progress(args, unit="pt", desc=None):
         yield update
     finally:
         bar.close()
+
+
+FALLBACK_SIZE = {"ncols": 80, "nrows": 24}
+
+
+def _bar_size() -> dict:
+    """Nothing (tqdm measures the terminal) unless the terminal reports no size, as a new
+    pseudo-terminal or a container's may: tqdm then hides the bar (it takes the bar to lie below
+    a screen of 0 rows), and a long run looks hung."""
+    try:
+        size = os.get_terminal_size(sys.stderr.fileno())
+    except OSError:
+        return FALLBACK_SIZE
+    return {} if size.columns > 0 and size.lines > 0 else FALLBACK_SIZE
 
 
 def _progress_lines(desc, clock=time.monotonic):
