@@ -99,6 +99,17 @@ def _stiffness_words(eq, frame, units) -> str:
     return "; ".join(parts)
 
 
+def _rule_spread(eq, family, units) -> str:
+    """'0.98 N/m along around the ring and 11 N/m along radial': one per stiffness above."""
+    from trapscape.physics.analysis.trap_words import direction_words
+
+    frame = _ring_frame(family, eq)
+    parts = [f"{_number(units.stiffness(v))} {units.stiffness_label} along "
+             f"{direction_words(d, frame)}"
+             for v, d in zip(eq.rule_check.stiffness_difference_N_per_m, eq.directions)]
+    return " and ".join([", ".join(parts[:-1]), parts[-1]] if len(parts) > 1 else parts)
+
+
 def format_table(report, scene, units=None) -> str:
     """The headline, the margin warnings, one row per family, and what each family is, in the
     reader's display units (default: the scene's length unit, N and mT)."""
@@ -168,11 +179,8 @@ def format_table(report, scene, units=None) -> str:
     for f in families:
         eq = report.equilibria[f.representative]
         if eq.rule_check is not None:
-            spread = " ".join(_number(units.stiffness(v))
-                              for v in eq.rule_check.stiffness_difference_N_per_m)
-            checks.append(f"  #{f.number} stiffness to within {spread} {units.stiffness_label}, "
-                          "energy to "
-                          f"{_number(eq.rule_check.energy_difference_J)} J")
+            checks.append(f"  #{f.number} stiffness to within {_rule_spread(eq, f, units)}; "
+                          f"energy to {_number(eq.rule_check.energy_difference_J)} J")
     if checks:
         lines += ["", "Finite-size rule error (the rule against a coarser one):", *checks]
     lines += ["", report.finite_probe.note, *report.notes, "", report.caution]
