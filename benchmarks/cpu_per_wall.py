@@ -3,6 +3,7 @@
     python benchmarks/cpu_per_wall.py              # every case below
     python benchmarks/cpu_per_wall.py --quick      # without render, export, report and field 1e6
     python benchmarks/cpu_per_wall.py --quick --busy   # with the other core kept busy
+    python benchmarks/cpu_per_wall.py --only render export   # the cases whose label holds a word
 
 A command whose threads spin while they wait burns CPU that does no work: CPU time well above
 wall time on a quiet machine. A command that really works on both cores also shows CPU above
@@ -75,6 +76,8 @@ def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="leave out the long cases")
     parser.add_argument("--busy", action="store_true", help="keep one core busy meanwhile")
+    parser.add_argument("--only", nargs="+", default=(), metavar="WORD",
+                        help="only the cases whose label holds one of these words")
     parser.add_argument("--trapscape", default=shutil.which("trapscape") or "trapscape")
     args = parser.parse_args()
     one_thread = dict(os.environ, NUMBA_NUM_THREADS="1")
@@ -93,6 +96,8 @@ def main():
 def measure(args, one_thread):
     with tempfile.TemporaryDirectory() as tmp:
         for label, arguments in cases(Path(tmp), args.quick):
+            if args.only and not any(word in label for word in args.only):
+                continue
             wall, cpu = run([args.trapscape, *arguments], os.environ)
             wall1, cpu1 = run([args.trapscape, *arguments], one_thread)
             print(f"{label:34s} {wall:6.1f}s {cpu:6.1f}s {cpu / wall:8.2f} {wall1:12.1f}s "
