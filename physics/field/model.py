@@ -7,7 +7,10 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.scene.shapes import shape_of
 from trapscape.scene.shapes.frames import to_body
+from trapscape.scene.shapes.meshops import nearest_mesh_sdf
+from trapscape.scene.shapes.meshtree import pack_trees
 from trapscape.scene.units import MU0
 from trapscape.physics.field.dipole_sum import dipole_H
 from trapscape.physics.field.families import Family, evaluation_steps
@@ -26,6 +29,7 @@ class FieldModel:
         self.sources = sources
         self._steps = {}  # frozenset of excluded parts -> the evaluation steps
         self._body_boxes = None  # each magnet's body-frame bounding box, on first use
+        self._trees = self._forest = None  # the mesh parts' search trees, on first use
 
     @classmethod
     def from_scene(cls, scene, accuracy: float = 1e-3) -> "FieldModel":
@@ -364,27 +368,44 @@ class FieldModel:
         # and at most that of the box's farthest corner: a part whose box is farther than the
         # nearest farthest-corner cannot be the nearest part, and is not computed (exact mesh
         # distances are the cost of contact searches). The minimum is the same, bit for bit.
-        floors, ceilings = self._box_distances(points)
+        floors, ceilings, bodies = self._box_distances(points)
         reach = np.minimum(ceilings.min(axis=1), best)
+        trees = self._tree_parts()
         for k, magnet in enumerate(self.magnets):
             todo = floors[:, k] <= reach
-            if todo.any():
-                best[todo] = np.minimum(best[todo], part_sdf(magnet, points[todo]))
+            if k not in trees and todo.any():
+                best[todo] = np.minimum(best[todo], shape_of(magnet).sdf(magnet, bodies[k][todo]))
+        if trees:  # the mesh parts: one search of their packed trees
+            ks = list(trees)
+            meshes = [shape_of(self.magnets[k]).tessellation(self.magnets[k]) for k in ks]
+            best = nearest_mesh_sdf(np.stack([bodies[k] for k in ks]), meshes, self._forest, best,
+                                    floors[:, ks] <= reach[:, None], floors[:, ks] == 0.0)
         return best
 
-    def _box_distances(self, points) -> tuple[np.ndarray, np.ndarray]:
+    def _tree_parts(self) -> dict:
+        """Index -> search tree of the parts whose distance comes from one (meshes); their
+        trees packed into self._forest."""
+        if self._trees is None:
+            trees = {k: shape_of(m).search_tree(m) for k, m in enumerate(self.magnets)}
+            self._trees = {k: tree for k, tree in trees.items() if tree is not None}
+            self._forest = pack_trees(self._trees.values()) if self._trees else None
+        return self._trees
+
+    def _box_distances(self, points) -> tuple[np.ndarray, np.ndarray, list]:
         """(N, n_magnets) distances from each point to each part's body-frame bounding box
-        (0 inside it) and to the box's farthest corner, m."""
+        (0 inside it) and to the box's farthest corner, m; and the points in each body frame."""
         if self._body_boxes is None:
             self._body_boxes = [body_bounds(m) for m in self.magnets]
         floors = np.empty((len(points), len(self.magnets)))
         ceilings = np.empty_like(floors)
+        bodies = []
         for k, (magnet, (low, high)) in enumerate(zip(self.magnets, self._body_boxes)):
             body = to_body(points, magnet.position, magnet.rotation)
             floors[:, k] = np.linalg.norm(np.maximum(np.maximum(low - body, body - high), 0.0),
                                           axis=1)
             ceilings[:, k] = np.linalg.norm(np.maximum(body - low, high - body), axis=1)
-        return floors, ceilings
+            bodies.append(body)
+        return floors, ceilings, bodies
 
 
 def _accumulate(H, G, result, gradient, where):
