@@ -367,19 +367,21 @@ class FieldModel:
         # Every part's surface lies in its bounding box, so its distance is at least the box's
         # and at most that of the box's farthest corner: a part whose box is farther than the
         # nearest farthest-corner cannot be the nearest part, and is not computed (exact mesh
-        # distances are the cost of contact searches). The minimum is the same, bit for bit.
+        # distances are the cost of contact searches). The mesh parts' trees are searched in one
+        # pass, each bounded by the best distance so far. The minimum is the same, bit for bit.
         floors, ceilings, bodies = self._box_distances(points)
         reach = np.minimum(ceilings.min(axis=1), best)
         trees = self._tree_parts()
-        for k, magnet in enumerate(self.magnets):
+        for k in (k for k in range(len(self.magnets)) if k not in trees):
             todo = floors[:, k] <= reach
-            if k not in trees and todo.any():
+            if todo.any():
+                magnet = self.magnets[k]
                 best[todo] = np.minimum(best[todo], shape_of(magnet).sdf(magnet, bodies[k][todo]))
-        if trees:  # the mesh parts: one search of their packed trees
+        if trees:
             ks = list(trees)
             meshes = [shape_of(self.magnets[k]).tessellation(self.magnets[k]) for k in ks]
-            best = nearest_mesh_sdf(np.stack([bodies[k] for k in ks]), meshes, self._forest, best,
-                                    floors[:, ks] <= reach[:, None], floors[:, ks] == 0.0)
+            best = nearest_mesh_sdf(bodies[ks], meshes, self._forest, best,
+                                    floors[:, ks] <= reach[:, None], floors[:, ks])
         return best
 
     def _tree_parts(self) -> dict:
@@ -391,21 +393,17 @@ class FieldModel:
             self._forest = pack_trees(self._trees.values()) if self._trees else None
         return self._trees
 
-    def _box_distances(self, points) -> tuple[np.ndarray, np.ndarray, list]:
+    def _box_distances(self, points) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """(N, n_magnets) distances from each point to each part's body-frame bounding box
-        (0 inside it) and to the box's farthest corner, m; and the points in each body frame."""
+        (0 inside it) and to the box's farthest corner, m; and (n_magnets, N, 3) the points in
+        each body frame."""
         if self._body_boxes is None:
-            self._body_boxes = [body_bounds(m) for m in self.magnets]
-        floors = np.empty((len(points), len(self.magnets)))
-        ceilings = np.empty_like(floors)
-        bodies = []
-        for k, (magnet, (low, high)) in enumerate(zip(self.magnets, self._body_boxes)):
-            body = to_body(points, magnet.position, magnet.rotation)
-            floors[:, k] = np.linalg.norm(np.maximum(np.maximum(low - body, body - high), 0.0),
-                                          axis=1)
-            ceilings[:, k] = np.linalg.norm(np.maximum(body - low, high - body), axis=1)
-            bodies.append(body)
-        return floors, ceilings, bodies
+            self._body_boxes = np.array([body_bounds(m) for m in self.magnets])  # (P, 2, 3)
+        bodies = np.stack([to_body(points, m.position, m.rotation) for m in self.magnets])
+        low, high = self._body_boxes[:, :1], self._body_boxes[:, 1:]
+        floors = np.linalg.norm(np.maximum(np.maximum(low - bodies, bodies - high), 0.0), axis=2)
+        ceilings = np.linalg.norm(np.maximum(bodies - low, high - bodies), axis=2)
+        return floors.T, ceilings.T, bodies
 
 
 def _accumulate(H, G, result, gradient, where):

@@ -311,7 +311,7 @@ def mesh_sdf_and_normal(points, vertices, faces) -> tuple[np.ndarray, np.ndarray
     return distance, normal
 
 
-def nearest_mesh_sdf(bodies, meshes, forest, best, todo, in_box) -> np.ndarray:
+def nearest_mesh_sdf(bodies, meshes, forest, best, todo, box_distances) -> np.ndarray:
     """The smallest of best and mesh_sdf of each mesh a point is tried on, from one search of
     the meshes' packed trees (meshtree.forest_signed_distance) and mesh_sdf's far-field rule.
 
@@ -322,7 +322,8 @@ def nearest_mesh_sdf(bodies, meshes, forest, best, todo, in_box) -> np.ndarray:
     forest : meshtree.Forest of the P meshes' trees, in that order.
     best : (N,) float, m, the smallest signed distance known so far (inf for none).
     todo : (N, P) bool, the meshes each point is tried on.
-    in_box : (N, P) bool, the point lies in (or on) the mesh's bounding box.
+    box_distances : (N, P) float, m, from each point to each mesh's bounding box (0 inside),
+        as _far_from computes them (the same expression on the vertices' box).
 
     Returns
     -------
@@ -334,11 +335,13 @@ def nearest_mesh_sdf(bodies, meshes, forest, best, todo, in_box) -> np.ndarray:
     """
     best, todo = np.array(best, dtype=float), np.array(todo, dtype=bool)
     for j, (vertices, _) in enumerate(meshes):
-        far = todo[:, j] & _far_from(np.asarray(vertices, dtype=float), bodies[j])
+        V = np.asarray(vertices, dtype=float)
+        diagonal = float(np.linalg.norm(V.max(axis=0) - V.min(axis=0)))
+        far = todo[:, j] & (box_distances[:, j] > diagonal)  # as _far_from
         if far.any():
             best[far] = np.minimum(best[far], forest.trees[j].vertex_tree.query(bodies[j][far])[0])
             todo[far, j] = False
-    return forest_signed_distance(bodies, forest, best, todo, in_box)
+    return forest_signed_distance(bodies, forest, best, todo, box_distances == 0.0)
 
 
 def mesh_sdf(points, vertices, faces) -> np.ndarray:
