@@ -341,7 +341,7 @@ def nearest_mesh_sdf(bodies, meshes, forest, best, todo, box_distances) -> np.nd
         if far.any():
             best[far] = np.minimum(best[far], forest.trees[j].vertex_tree.query(bodies[j][far])[0])
             todo[far, j] = False
-    return forest_signed_distance(bodies, forest, best, todo, box_distances == 0.0)
+    return forest_signed_distance(bodies, forest, best, todo, box_distances)
 
 
 def mesh_sdf(points, vertices, faces) -> np.ndarray:

@@ -621,13 +621,14 @@ def pack_trees(trees) -> Forest:
 
 @njit(cache=True)
 def _nearest_one(m, bodies, tri, lower, upper, first, count, left, roots, face_n, corner_n,
-                 edge_n, manifold, todo, in_box, best, values, unknown):
-    """Point m against every tree j it is to be tried on (todo): a tree whose box holds the
-    point is searched whole (it may be inside); another only for triangles strictly nearer than
-    the best signed distance so far (none when that is not positive: outside its box the
-    point is outside the mesh)."""
+                 edge_n, manifold, todo, in_box, order, best, values, unknown):
+    """Point m against every tree j it is to be tried on (todo), in the given order (nearest
+    box first): a tree whose box holds the point is searched whole (it may be inside); another
+    only for triangles strictly nearer than the best signed distance so far (none when that is
+    not positive: outside its box the point is outside the mesh)."""
     b = best[m]
-    for j in range(roots.shape[0]):
+    for i in range(roots.shape[0]):
+        j = order[m, i]
         if not todo[m, j]:
             continue
         if in_box[m, j]:
@@ -652,21 +653,21 @@ def _nearest_one(m, bodies, tri, lower, upper, first, count, left, roots, face_n
 
 @njit(cache=True)
 def _nearest_serial(bodies, tri, lower, upper, first, count, left, roots, face_n, corner_n,
-                    edge_n, manifold, todo, in_box, best, values, unknown):
+                    edge_n, manifold, todo, in_box, order, best, values, unknown):
     for m in range(bodies.shape[1]):
         _nearest_one(m, bodies, tri, lower, upper, first, count, left, roots, face_n, corner_n,
-                     edge_n, manifold, todo, in_box, best, values, unknown)
+                     edge_n, manifold, todo, in_box, order, best, values, unknown)
 
 
 @njit(cache=True, parallel=True)
 def _nearest_parallel(bodies, tri, lower, upper, first, count, left, roots, face_n, corner_n,
-                      edge_n, manifold, todo, in_box, best, values, unknown):
+                      edge_n, manifold, todo, in_box, order, best, values, unknown):
     for m in prange(bodies.shape[1]):
         _nearest_one(m, bodies, tri, lower, upper, first, count, left, roots, face_n, corner_n,
-                     edge_n, manifold, todo, in_box, best, values, unknown)
+                     edge_n, manifold, todo, in_box, order, best, values, unknown)
 
 
-def forest_signed_distance(bodies, forest: Forest, best, todo, in_box) -> np.ndarray:
+def forest_signed_distance(bodies, forest: Forest, best, todo, box_distances) -> np.ndarray:
     """The smallest of best and the signed distances (tree_signed_distance's) to the meshes
     each point is to be tried on, from one search over the forest.
 
@@ -679,7 +680,8 @@ def forest_signed_distance(bodies, forest: Forest, best, todo, in_box) -> np.nda
     forest : Forest of P meshes.
     best : (N,) float, m, the smallest signed distance known so far (inf for none).
     todo : (N, P) bool, the meshes each point is tried on.
-    in_box : (N, P) bool, the point lies in (or on) the mesh's bounding box.
+    box_distances : (N, P) float, m, from each point to each mesh's bounding box (0 in it):
+        the meshes are tried nearest box first.
 
     Returns
     -------
@@ -698,7 +700,9 @@ def forest_signed_distance(bodies, forest: Forest, best, todo, in_box) -> np.nda
     kernel(bodies, forest.triangles, forest.lower, forest.upper, forest.first, forest.count,
            forest.left, forest.roots, forest.face_normals, forest.corner_normals,
            forest.edge_normals, forest.manifold, np.ascontiguousarray(todo, np.bool_),
-           np.ascontiguousarray(in_box, np.bool_), best, values, unknown)
+           np.ascontiguousarray(box_distances == 0.0),
+           np.ascontiguousarray(np.argsort(box_distances, axis=1, kind="stable")), best, values,
+           unknown)
     for j in np.flatnonzero(unknown.any(axis=0)):  # the sign from ray parity
         rows = np.flatnonzero(unknown[:, j])
         inside = tree_inside(bodies[j, rows], forest.trees[j])
