@@ -29,7 +29,7 @@ class FieldModel:
         self.sources = sources
         self._steps = {}  # frozenset of excluded parts -> the evaluation steps
         self._body_boxes = None  # each magnet's body-frame bounding box, on first use
-        self._trees = self._forest = None  # the mesh parts' search trees, on first use
+        self._forest = None  # the mesh parts and their packed search trees, on first use
 
     @classmethod
     def from_scene(cls, scene, accuracy: float = 1e-3) -> "FieldModel":
@@ -371,27 +371,28 @@ class FieldModel:
         # pass, each bounded by the best distance so far. The minimum is the same, bit for bit.
         floors, ceilings, bodies = self._box_distances(points)
         reach = np.minimum(ceilings.min(axis=1), best)
-        trees = self._tree_parts()
-        for k in (k for k in range(len(self.magnets)) if k not in trees):
+        meshes, forest = self._mesh_forest()
+        for k in (k for k in range(len(self.magnets)) if k not in meshes):
             todo = floors[:, k] <= reach
             if todo.any():
                 magnet = self.magnets[k]
                 best[todo] = np.minimum(best[todo], shape_of(magnet).sdf(magnet, bodies[k][todo]))
-        if trees:
-            ks = list(trees)
-            meshes = [shape_of(self.magnets[k]).tessellation(self.magnets[k]) for k in ks]
-            best = nearest_mesh_sdf(bodies[ks], meshes, self._forest, best,
-                                    floors[:, ks] <= reach[:, None], floors[:, ks])
+        if meshes:
+            parts = [self.magnets[k] for k in meshes]
+            tessellations = [shape_of(m).tessellation(m) for m in parts]
+            best = nearest_mesh_sdf(bodies[meshes], tessellations, forest, best,
+                                    floors[:, meshes] <= reach[:, None], floors[:, meshes])
         return best
 
-    def _tree_parts(self) -> dict:
-        """Index -> search tree of the parts whose distance comes from one (meshes); their
-        trees packed into self._forest."""
-        if self._trees is None:
-            trees = {k: shape_of(m).search_tree(m) for k, m in enumerate(self.magnets)}
-            self._trees = {k: tree for k, tree in trees.items() if tree is not None}
-            self._forest = pack_trees(self._trees.values()) if self._trees else None
-        return self._trees
+    def _mesh_forest(self) -> tuple[list, object]:
+        """The indices of the parts whose distance comes from a search tree (meshes) and their
+        trees packed into one meshtree.Forest (None without such parts), built on first use."""
+        if self._forest is None:
+            trees = [(k, shape_of(m).search_tree(m)) for k, m in enumerate(self.magnets)]
+            trees = [(k, tree) for k, tree in trees if tree is not None]
+            self._forest = ([k for k, _ in trees],
+                            pack_trees([tree for _, tree in trees]) if trees else None)
+        return self._forest
 
     def _box_distances(self, points) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """(N, n_magnets) distances from each point to each part's body-frame bounding box
