@@ -133,8 +133,8 @@ class FieldModel:
             H[near] += h
             if gradient:
                 G[near] += g
-        far = ~near
-        if far.any():
+        far = slice(None) if not near.any() else ~near  # all of them: no copy
+        if not near.all():
             result = dipole_H(points[far], source.dipole_positions, source.dipole_moments,
                               gradient=gradient)
             _accumulate(H, G, result, gradient, far)
