@@ -11,6 +11,7 @@ other jobs share the machine, while wall time does. Cases:
 
     python benchmarks/side_by_side.py --previous ../base/.venv/bin/trapscape
     python benchmarks/side_by_side.py --previous ... --only graphite   # one group of cases
+    python benchmarks/side_by_side.py --previous ... --only samples --samples arc_rotor --runs 3
 
 The previous tree is e.g. a git worktree of main at the commit before the change, with its own
 virtual environment (`pip install -e .`).
@@ -64,15 +65,15 @@ def field_points_file(folder: Path) -> Path:
     return path
 
 
-def cases(groups, folder: Path, skip=(), counts=BOARD_COUNTS):
+def cases(groups, folder: Path, skip=(), counts=BOARD_COUNTS, chosen=()):
     """(label, arguments after `trapscape`) for each case of the chosen groups, in their order."""
     out = []
     for group in groups:
-        out += _group_cases(group, folder, skip, counts)
+        out += _group_cases(group, folder, skip, counts, chosen)
     return out
 
 
-def _group_cases(group, folder: Path, skip, counts):
+def _group_cases(group, folder: Path, skip, counts, chosen=()):
     out = []
     if group == "graphite":
         for n in counts:
@@ -88,6 +89,8 @@ def _group_cases(group, folder: Path, skip, counts):
         for sample in sorted(SAMPLES.glob("*.toml")):
             if sample.name.endswith((".spec.toml", ".template.toml")) or sample.stem in skip:
                 continue
+            if chosen and sample.stem not in chosen:
+                continue
             out.append((f"traps {sample.stem}",
                         ["traps", str(sample), "--json", str(folder / f"{sample.stem}.json"),
                          "--quiet"]))
@@ -102,6 +105,10 @@ def main():
     parser.add_argument("--only", nargs="+", default=["graphite", "field", "samples"],
                         choices=["graphite", "field", "samples"], help="groups, run in this order")
     parser.add_argument("--skip-sample", nargs="*", default=[], help="samples left out")
+    parser.add_argument("--samples", nargs="*", default=[], help="only these samples")
+    parser.add_argument("--runs", type=int, default=1,
+                        help="runs of each case, previous and current in turn (A B A B); "
+                             "with more than one, the medians are printed too")
     parser.add_argument("--counts", type=int, nargs="+", default=list(BOARD_COUNTS),
                         help="board sizes N of the graphite cases")
     parser.add_argument("--current-only", action="store_true",
@@ -115,18 +122,27 @@ def main():
           f"{'cpu/wall':>8s} {'wall ratio':>10s} {'cpu ratio':>9s}", flush=True)
     with tempfile.TemporaryDirectory() as tmp:
         folder = Path(tmp)
-        for label, arguments in cases(args.only, folder, args.skip_sample, args.counts):
+        for label, arguments in cases(args.only, folder, args.skip_sample, args.counts,
+                                      args.samples):
             if args.current_only:
                 new_wall, new_cpu, _ = run_timed([args.current, *arguments])
                 print(f"{label:32s} {'-':>13s} {'-':>7s} {new_wall:12.1f}s {new_cpu:6.1f}s "
                       f"{new_cpu / new_wall:8.2f}", flush=True)
                 continue
-            old_wall, old_cpu, _ = run_timed([args.previous, *arguments])
-            new_wall, new_cpu, _ = run_timed([args.current, *arguments])
-            print(f"{label:32s} {old_wall:12.1f}s {old_cpu:6.1f}s {new_wall:12.1f}s "
-                  f"{new_cpu:6.1f}s {new_cpu / new_wall:8.2f} {old_wall / new_wall:9.1f}x "
-                  f"{old_cpu / new_cpu:8.1f}x", flush=True)
+            runs = []
+            for _ in range(args.runs):
+                runs.append(run_timed([args.previous, *arguments])[:2]
+                            + run_timed([args.current, *arguments])[:2])
+                _print_row(label, *runs[-1])
+            if args.runs > 1:
+                _print_row(f"{label} (median)", *np.median(np.array(runs), axis=0))
     print(f"load average {os.getloadavg()[0]:.1f} at the end")
+
+
+def _print_row(label, old_wall, old_cpu, new_wall, new_cpu):
+    print(f"{label:32s} {old_wall:12.1f}s {old_cpu:6.1f}s {new_wall:12.1f}s "
+          f"{new_cpu:6.1f}s {new_cpu / new_wall:8.2f} {old_wall / new_wall:9.1f}x "
+          f"{old_cpu / new_cpu:8.1f}x", flush=True)
 
 
 if __name__ == "__main__":

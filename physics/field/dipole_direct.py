@@ -17,6 +17,12 @@ import numpy as np
 
 COINCIDENT_M = 1e-12
 _INV_4PI = 1.0 / (4.0 * math.pi)
+_FASTMATH = {"contract", "reassoc", "arcp"}
+# Target-dipole pairs below which the sum runs on one thread: a parallel call costs a thread
+# start and join (about 0.1 ms of CPU at 10 targets, 1 ms on a busy machine), more than the sum of
+# a few thousand pairs; the same bound as physics/field/families.py. Both kernels give the same
+# numbers (tests/physics/field/test_serial_kernels.py).
+PARALLEL_MIN_WORK = 50_000
 
 
 def direct_dipole_H(targets, positions, moments, gradient=False):
@@ -51,10 +57,12 @@ def direct_dipole_H(targets, positions, moments, gradient=False):
     """
     targets, positions, moments = as_points(targets), as_points(positions), as_points(moments)
     source_columns = tuple(np.ascontiguousarray(c) for c in (*positions.T, *moments.T))
+    parallel = len(targets) * len(positions) >= PARALLEL_MIN_WORK
     if gradient:
-        H, G6 = _direct_H_gradient_kernel(targets, *source_columns)
+        kernel = _direct_H_gradient_kernel if parallel else _direct_H_gradient_serial
+        H, G6 = kernel(targets, *source_columns)
         return H, symmetric_from_six(G6)
-    return _direct_H_kernel(targets, *source_columns)
+    return (_direct_H_kernel if parallel else _direct_H_serial)(targets, *source_columns)
 
 
 def as_points(a) -> np.ndarray:
@@ -98,80 +106,103 @@ def symmetric_from_six(G6: np.ndarray) -> np.ndarray:
     return G6[:, index]
 
 
-@numba.njit(parallel=True, cache=True, fastmath={"contract", "reassoc", "arcp"})
-def _direct_H_kernel(targets, px, py, pz, mx, my, mz):
-    n = targets.shape[0]
+@numba.njit(cache=True, fastmath=_FASTMATH)
+def _H_at(i, targets, px, py, pz, mx, my, mz, out):
     k = px.shape[0]
-    out = np.empty((n, 3))
     threshold = COINCIDENT_M * COINCIDENT_M
-    for i in numba.prange(n):
-        tx, ty, tz = targets[i, 0], targets[i, 1], targets[i, 2]
-        hx = 0.0
-        hy = 0.0
-        hz = 0.0
-        for s in range(k):
-            rx = tx - px[s]
-            ry = ty - py[s]
-            rz = tz - pz[s]
-            r2 = rx * rx + ry * ry + rz * rz
-            inv_r2 = 1.0 / r2 if r2 >= threshold else 0.0
-            inv_r3 = inv_r2 * math.sqrt(inv_r2)
-            a = 3.0 * (mx[s] * rx + my[s] * ry + mz[s] * rz) * inv_r2
-            hx += (a * rx - mx[s]) * inv_r3
-            hy += (a * ry - my[s]) * inv_r3
-            hz += (a * rz - mz[s]) * inv_r3
-        out[i, 0] = hx * _INV_4PI
-        out[i, 1] = hy * _INV_4PI
-        out[i, 2] = hz * _INV_4PI
+    tx, ty, tz = targets[i, 0], targets[i, 1], targets[i, 2]
+    hx = 0.0
+    hy = 0.0
+    hz = 0.0
+    for s in range(k):
+        rx = tx - px[s]
+        ry = ty - py[s]
+        rz = tz - pz[s]
+        r2 = rx * rx + ry * ry + rz * rz
+        inv_r2 = 1.0 / r2 if r2 >= threshold else 0.0
+        inv_r3 = inv_r2 * math.sqrt(inv_r2)
+        a = 3.0 * (mx[s] * rx + my[s] * ry + mz[s] * rz) * inv_r2
+        hx += (a * rx - mx[s]) * inv_r3
+        hy += (a * ry - my[s]) * inv_r3
+        hz += (a * rz - mz[s]) * inv_r3
+    out[i, 0] = hx * _INV_4PI
+    out[i, 1] = hy * _INV_4PI
+    out[i, 2] = hz * _INV_4PI
+
+
+@numba.njit(parallel=True, cache=True, fastmath=_FASTMATH)
+def _direct_H_kernel(targets, px, py, pz, mx, my, mz):
+    out = np.empty((targets.shape[0], 3))
+    for i in numba.prange(targets.shape[0]):
+        _H_at(i, targets, px, py, pz, mx, my, mz, out)
     return out
 
 
-@numba.njit(parallel=True, cache=True, fastmath={"contract", "reassoc", "arcp"})
-def _direct_H_gradient_kernel(targets, px, py, pz, mx, my, mz):
-    n = targets.shape[0]
+@numba.njit(cache=True, fastmath=_FASTMATH)
+def _direct_H_serial(targets, px, py, pz, mx, my, mz):
+    out = np.empty((targets.shape[0], 3))
+    for i in range(targets.shape[0]):
+        _H_at(i, targets, px, py, pz, mx, my, mz, out)
+    return out
+
+
+@numba.njit(cache=True, fastmath=_FASTMATH)
+def _H_gradient_at(i, targets, px, py, pz, mx, my, mz, H, G):
     k = px.shape[0]
-    H = np.empty((n, 3))
-    G = np.empty((n, 6))
     threshold = COINCIDENT_M * COINCIDENT_M
-    for i in numba.prange(n):
-        tx, ty, tz = targets[i, 0], targets[i, 1], targets[i, 2]
-        hx = 0.0
-        hy = 0.0
-        hz = 0.0
-        gxx = 0.0
-        gyy = 0.0
-        gzz = 0.0
-        gxy = 0.0
-        gxz = 0.0
-        gyz = 0.0
-        for s in range(k):
-            rx = tx - px[s]
-            ry = ty - py[s]
-            rz = tz - pz[s]
-            r2 = rx * rx + ry * ry + rz * rz
-            inv_r2 = 1.0 / r2 if r2 >= threshold else 0.0
-            inv_r3 = inv_r2 * math.sqrt(inv_r2)
-            inv_r5 = inv_r3 * inv_r2
-            mr = mx[s] * rx + my[s] * ry + mz[s] * rz
-            a = 3.0 * mr * inv_r2
-            hx += (a * rx - mx[s]) * inv_r3
-            hy += (a * ry - my[s]) * inv_r3
-            hz += (a * rz - mz[s]) * inv_r3
-            b = 5.0 * mr * inv_r2
-            gxx += (2.0 * mx[s] * rx + mr - b * rx * rx) * inv_r5
-            gyy += (2.0 * my[s] * ry + mr - b * ry * ry) * inv_r5
-            gzz += (2.0 * mz[s] * rz + mr - b * rz * rz) * inv_r5
-            gxy += (mx[s] * ry + my[s] * rx - b * rx * ry) * inv_r5
-            gxz += (mx[s] * rz + mz[s] * rx - b * rx * rz) * inv_r5
-            gyz += (my[s] * rz + mz[s] * ry - b * ry * rz) * inv_r5
-        H[i, 0] = hx * _INV_4PI
-        H[i, 1] = hy * _INV_4PI
-        H[i, 2] = hz * _INV_4PI
-        c = 3.0 * _INV_4PI
-        G[i, 0] = gxx * c
-        G[i, 1] = gyy * c
-        G[i, 2] = gzz * c
-        G[i, 3] = gxy * c
-        G[i, 4] = gxz * c
-        G[i, 5] = gyz * c
+    tx, ty, tz = targets[i, 0], targets[i, 1], targets[i, 2]
+    hx = 0.0
+    hy = 0.0
+    hz = 0.0
+    gxx = 0.0
+    gyy = 0.0
+    gzz = 0.0
+    gxy = 0.0
+    gxz = 0.0
+    gyz = 0.0
+    for s in range(k):
+        rx = tx - px[s]
+        ry = ty - py[s]
+        rz = tz - pz[s]
+        r2 = rx * rx + ry * ry + rz * rz
+        inv_r2 = 1.0 / r2 if r2 >= threshold else 0.0
+        inv_r3 = inv_r2 * math.sqrt(inv_r2)
+        inv_r5 = inv_r3 * inv_r2
+        mr = mx[s] * rx + my[s] * ry + mz[s] * rz
+        a = 3.0 * mr * inv_r2
+        hx += (a * rx - mx[s]) * inv_r3
+        hy += (a * ry - my[s]) * inv_r3
+        hz += (a * rz - mz[s]) * inv_r3
+        b = 5.0 * mr * inv_r2
+        gxx += (2.0 * mx[s] * rx + mr - b * rx * rx) * inv_r5
+        gyy += (2.0 * my[s] * ry + mr - b * ry * ry) * inv_r5
+        gzz += (2.0 * mz[s] * rz + mr - b * rz * rz) * inv_r5
+        gxy += (mx[s] * ry + my[s] * rx - b * rx * ry) * inv_r5
+        gxz += (mx[s] * rz + mz[s] * rx - b * rx * rz) * inv_r5
+        gyz += (my[s] * rz + mz[s] * ry - b * ry * rz) * inv_r5
+    H[i, 0] = hx * _INV_4PI
+    H[i, 1] = hy * _INV_4PI
+    H[i, 2] = hz * _INV_4PI
+    c = 3.0 * _INV_4PI
+    G[i, 0] = gxx * c
+    G[i, 1] = gyy * c
+    G[i, 2] = gzz * c
+    G[i, 3] = gxy * c
+    G[i, 4] = gxz * c
+    G[i, 5] = gyz * c
+
+
+@numba.njit(parallel=True, cache=True, fastmath=_FASTMATH)
+def _direct_H_gradient_kernel(targets, px, py, pz, mx, my, mz):
+    H, G = np.empty((targets.shape[0], 3)), np.empty((targets.shape[0], 6))
+    for i in numba.prange(targets.shape[0]):
+        _H_gradient_at(i, targets, px, py, pz, mx, my, mz, H, G)
+    return H, G
+
+
+@numba.njit(cache=True, fastmath=_FASTMATH)
+def _direct_H_gradient_serial(targets, px, py, pz, mx, my, mz):
+    H, G = np.empty((targets.shape[0], 3)), np.empty((targets.shape[0], 6))
+    for i in range(targets.shape[0]):
+        _H_gradient_at(i, targets, px, py, pz, mx, my, mz, H, G)
     return H, G

@@ -7,6 +7,7 @@ direct sum for coincident targets); this module only chooses, so the imports run
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 
 import numpy as np
 
@@ -78,6 +79,7 @@ def dipole_H(targets, positions, moments, gradient=False, method="auto", eps=1e-
     raise ValueError(f"dipole_H: unknown method {method!r}; use 'auto', 'direct' or 'fmm'")
 
 
+@lru_cache(maxsize=4096)  # a trap search asks for the same sizes thousands of times
 def choose_method(n_targets: int, n_sources: int, gradient: bool = False, eps: float = 1e-6) -> str:
     """'direct' or 'fmm', whichever the measured cost model says finishes first.
 

@@ -7,7 +7,10 @@ from __future__ import annotations
 
 import numpy as np
 
+from trapscape.scene.shapes import shape_of
 from trapscape.scene.shapes.frames import to_body
+from trapscape.scene.shapes.meshops import nearest_mesh_sdf
+from trapscape.scene.shapes.meshtree import pack_trees
 from trapscape.scene.units import MU0
 from trapscape.physics.field.dipole_sum import dipole_H
 from trapscape.physics.field.families import Family, evaluation_steps
@@ -26,6 +29,7 @@ class FieldModel:
         self.sources = sources
         self._steps = {}  # frozenset of excluded parts -> the evaluation steps
         self._body_boxes = None  # each magnet's body-frame bounding box, on first use
+        self._forest = None  # the mesh parts and their packed search trees, on first use
 
     @classmethod
     def from_scene(cls, scene, accuracy: float = 1e-3) -> "FieldModel":
@@ -129,8 +133,8 @@ class FieldModel:
             H[near] += h
             if gradient:
                 G[near] += g
-        far = ~near
-        if far.any():
+        far = slice(None) if not near.any() else ~near  # all of them: no copy
+        if not near.all():
             result = dipole_H(points[far], source.dipole_positions, source.dipole_moments,
                               gradient=gradient)
             _accumulate(H, G, result, gradient, far)
@@ -363,28 +367,44 @@ class FieldModel:
         # Every part's surface lies in its bounding box, so its distance is at least the box's
         # and at most that of the box's farthest corner: a part whose box is farther than the
         # nearest farthest-corner cannot be the nearest part, and is not computed (exact mesh
-        # distances are the cost of contact searches). The minimum is the same, bit for bit.
-        floors, ceilings = self._box_distances(points)
+        # distances are the cost of contact searches). The mesh parts' trees are searched in one
+        # pass, each bounded by the best distance so far. The minimum is the same, bit for bit.
+        floors, ceilings, bodies = self._box_distances(points)
         reach = np.minimum(ceilings.min(axis=1), best)
-        for k, magnet in enumerate(self.magnets):
+        meshes, forest = self._mesh_forest()
+        for k in (k for k in range(len(self.magnets)) if k not in meshes):
             todo = floors[:, k] <= reach
             if todo.any():
-                best[todo] = np.minimum(best[todo], part_sdf(magnet, points[todo]))
+                magnet = self.magnets[k]
+                best[todo] = np.minimum(best[todo], shape_of(magnet).sdf(magnet, bodies[k][todo]))
+        if meshes:
+            parts = [self.magnets[k] for k in meshes]
+            tessellations = [shape_of(m).tessellation(m) for m in parts]
+            best = nearest_mesh_sdf(bodies[meshes], tessellations, forest, best,
+                                    floors[:, meshes] <= reach[:, None], floors[:, meshes])
         return best
 
-    def _box_distances(self, points) -> tuple[np.ndarray, np.ndarray]:
+    def _mesh_forest(self) -> tuple[list, object]:
+        """The indices of the parts whose distance comes from a search tree (meshes) and their
+        trees packed into one meshtree.Forest (None without such parts), built on first use."""
+        if self._forest is None:
+            trees = [(k, shape_of(m).search_tree(m)) for k, m in enumerate(self.magnets)]
+            trees = [(k, tree) for k, tree in trees if tree is not None]
+            self._forest = ([k for k, _ in trees],
+                            pack_trees([tree for _, tree in trees]) if trees else None)
+        return self._forest
+
+    def _box_distances(self, points) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """(N, n_magnets) distances from each point to each part's body-frame bounding box
-        (0 inside it) and to the box's farthest corner, m."""
+        (0 inside it) and to the box's farthest corner, m; and (n_magnets, N, 3) the points in
+        each body frame."""
         if self._body_boxes is None:
-            self._body_boxes = [body_bounds(m) for m in self.magnets]
-        floors = np.empty((len(points), len(self.magnets)))
-        ceilings = np.empty_like(floors)
-        for k, (magnet, (low, high)) in enumerate(zip(self.magnets, self._body_boxes)):
-            body = to_body(points, magnet.position, magnet.rotation)
-            floors[:, k] = np.linalg.norm(np.maximum(np.maximum(low - body, body - high), 0.0),
-                                          axis=1)
-            ceilings[:, k] = np.linalg.norm(np.maximum(body - low, high - body), axis=1)
-        return floors, ceilings
+            self._body_boxes = np.array([body_bounds(m) for m in self.magnets])  # (P, 2, 3)
+        bodies = np.stack([to_body(points, m.position, m.rotation) for m in self.magnets])
+        low, high = self._body_boxes[:, :1], self._body_boxes[:, 1:]
+        floors = np.linalg.norm(np.maximum(np.maximum(low - bodies, bodies - high), 0.0), axis=2)
+        ceilings = np.linalg.norm(np.maximum(bodies - low, high - bodies), axis=2)
+        return floors.T, ceilings.T, bodies
 
 
 def _accumulate(H, G, result, gradient, where):

@@ -31,6 +31,11 @@ from numba import njit, prange
 SURFACE_TOL = 1e-12  # relative to the mesh size; the same convention as physics.field.cuboid
 EDGE_PUSH = 1e-9  # relative to the mesh size
 _CHUNK = 64  # points per scratch allocation
+# Point-face pairs below which the field runs on one thread: a parallel call costs a thread start
+# and join (about 1 ms of CPU on a busy machine), more than a few hundred points of a mesh of a
+# few hundred faces; the same bound as physics/field/families.py. Both kernels give the same
+# numbers (tests/physics/field/test_serial_kernels.py).
+PARALLEL_MIN_WORK = 50_000
 CHARGE_CUT = 1e-12  # faces and edges below this share of the largest charge are not summed
 _INV_4PI = 1.0 / (4.0 * math.pi)
 
@@ -273,84 +278,99 @@ def _solid_angle(f, FV, FE, A2, r, R, dot):
     return 2.0 * math.atan2(num, den)
 
 
+@njit(cache=True, error_model="numpy")
+def _field_chunk(chunk, points, V, FV, FE, EV, elen, A2, sn, ce, de, vpush, epush, faces_on,
+                 edges_on, want_h, want_g, H, G):
+    """H (4 pi H / (sigma-weighted) sums) and G at the points of one chunk, in scaled units (see
+    polyhedron_H). Only the charged faces (faces_on) and the edges next to one (edges_on) are
+    summed."""
+    n = points.shape[0]
+    r = np.empty((V.shape[0], 3))
+    R = np.empty(V.shape[0])
+    dot = np.empty(EV.shape[0])
+    q = np.empty(EV.shape[0])
+    s = np.empty(EV.shape[0])
+    for m in range(chunk * _CHUNK, min(n, (chunk + 1) * _CHUNK)):
+        px, py, pz = _locate_pushed(points[m, 0], points[m, 1], points[m, 2], V, EV, elen,
+                                    vpush, epush, r, R, dot, q, s)
+        hx = 0.0
+        hy = 0.0
+        hz = 0.0
+        gxx = gxy = gxz = gyx = gyy = gyz = gzx = gzy = gzz = 0.0
+        for k in range(edges_on.shape[0]):
+            e = edges_on[k]
+            a = EV[e, 0]
+            b = EV[e, 1]
+            l = elen[e]
+            if want_h:
+                sl = s[e] + l
+                L = math.log(sl * sl / (2.0 * q[e]))
+                hx += ce[e, 0] * L
+                hy += ce[e, 1] * L
+                hz += ce[e, 2] * L
+            if want_g:
+                inv_q = 1.0 / q[e]
+                ia = 1.0 / R[a]
+                ib = 1.0 / R[b]
+                # grad of the edge log: l (r_a / R_a + r_b / R_b) / q
+                t = l * inv_q
+                lx = t * (r[a, 0] * ia + r[b, 0] * ib)
+                ly = t * (r[a, 1] * ia + r[b, 1] * ib)
+                lz = t * (r[a, 2] * ia + r[b, 2] * ib)
+                # Biot-Savart vector of the edge a -> b: -(r_a x r_b) (R_a + R_b) / (R_a R_b q)
+                w = -s[e] * ia * ib * inv_q
+                bx = w * (r[a, 1] * r[b, 2] - r[a, 2] * r[b, 1])
+                by = w * (r[a, 2] * r[b, 0] - r[a, 0] * r[b, 2])
+                bz = w * (r[a, 0] * r[b, 1] - r[a, 1] * r[b, 0])
+                c0, c1, c2 = ce[e, 0], ce[e, 1], ce[e, 2]
+                d0, d1, d2 = de[e, 0], de[e, 1], de[e, 2]
+                gxx += c0 * lx + d0 * bx
+                gxy += c0 * ly + d0 * by
+                gxz += c0 * lz + d0 * bz
+                gyx += c1 * lx + d1 * bx
+                gyy += c1 * ly + d1 * by
+                gyz += c1 * lz + d1 * bz
+                gzx += c2 * lx + d2 * bx
+                gzy += c2 * ly + d2 * by
+                gzz += c2 * lz + d2 * bz
+        if want_h:
+            for k in range(faces_on.shape[0]):
+                f = faces_on[k]
+                om = _solid_angle(f, FV, FE, A2, r, R, dot)
+                hx += sn[f, 0] * om
+                hy += sn[f, 1] * om
+                hz += sn[f, 2] * om
+            H[m, 0] = hx
+            H[m, 1] = hy
+            H[m, 2] = hz
+        if want_g:
+            G[m, 0, 0] = gxx
+            G[m, 0, 1] = gxy
+            G[m, 0, 2] = gxz
+            G[m, 1, 0] = gyx
+            G[m, 1, 1] = gyy
+            G[m, 1, 2] = gyz
+            G[m, 2, 0] = gzx
+            G[m, 2, 1] = gzy
+            G[m, 2, 2] = gzz
+
+
 @njit(cache=True, parallel=True, error_model="numpy")
 def _field_kernel(points, V, FV, FE, EV, elen, A2, sn, ce, de, vpush, epush, faces_on, edges_on,
                   want_h, want_g, H, G):
-    """H (4 pi H / (sigma-weighted) sums) and G per point, in scaled units (see polyhedron_H).
-    Only the charged faces (faces_on) and the edges next to one (edges_on) are summed."""
-    n = points.shape[0]
-    nV = V.shape[0]
-    nE = EV.shape[0]
-    n_chunks = (n + _CHUNK - 1) // _CHUNK
-    for chunk in prange(n_chunks):
-        r = np.empty((nV, 3))
-        R = np.empty(nV)
-        dot = np.empty(nE)
-        q = np.empty(nE)
-        s = np.empty(nE)
-        for m in range(chunk * _CHUNK, min(n, (chunk + 1) * _CHUNK)):
-            px, py, pz = _locate_pushed(points[m, 0], points[m, 1], points[m, 2], V, EV, elen,
-                                        vpush, epush, r, R, dot, q, s)
-            hx = 0.0
-            hy = 0.0
-            hz = 0.0
-            gxx = gxy = gxz = gyx = gyy = gyz = gzx = gzy = gzz = 0.0
-            for k in range(edges_on.shape[0]):
-                e = edges_on[k]
-                a = EV[e, 0]
-                b = EV[e, 1]
-                l = elen[e]
-                if want_h:
-                    sl = s[e] + l
-                    L = math.log(sl * sl / (2.0 * q[e]))
-                    hx += ce[e, 0] * L
-                    hy += ce[e, 1] * L
-                    hz += ce[e, 2] * L
-                if want_g:
-                    inv_q = 1.0 / q[e]
-                    ia = 1.0 / R[a]
-                    ib = 1.0 / R[b]
-                    # grad of the edge log: l (r_a / R_a + r_b / R_b) / q
-                    t = l * inv_q
-                    lx = t * (r[a, 0] * ia + r[b, 0] * ib)
-                    ly = t * (r[a, 1] * ia + r[b, 1] * ib)
-                    lz = t * (r[a, 2] * ia + r[b, 2] * ib)
-                    # Biot-Savart vector of the edge a -> b: -(r_a x r_b) (R_a + R_b) / (R_a R_b q)
-                    w = -s[e] * ia * ib * inv_q
-                    bx = w * (r[a, 1] * r[b, 2] - r[a, 2] * r[b, 1])
-                    by = w * (r[a, 2] * r[b, 0] - r[a, 0] * r[b, 2])
-                    bz = w * (r[a, 0] * r[b, 1] - r[a, 1] * r[b, 0])
-                    c0, c1, c2 = ce[e, 0], ce[e, 1], ce[e, 2]
-                    d0, d1, d2 = de[e, 0], de[e, 1], de[e, 2]
-                    gxx += c0 * lx + d0 * bx
-                    gxy += c0 * ly + d0 * by
-                    gxz += c0 * lz + d0 * bz
-                    gyx += c1 * lx + d1 * bx
-                    gyy += c1 * ly + d1 * by
-                    gyz += c1 * lz + d1 * bz
-                    gzx += c2 * lx + d2 * bx
-                    gzy += c2 * ly + d2 * by
-                    gzz += c2 * lz + d2 * bz
-            if want_h:
-                for k in range(faces_on.shape[0]):
-                    f = faces_on[k]
-                    om = _solid_angle(f, FV, FE, A2, r, R, dot)
-                    hx += sn[f, 0] * om
-                    hy += sn[f, 1] * om
-                    hz += sn[f, 2] * om
-                H[m, 0] = hx
-                H[m, 1] = hy
-                H[m, 2] = hz
-            if want_g:
-                G[m, 0, 0] = gxx
-                G[m, 0, 1] = gxy
-                G[m, 0, 2] = gxz
-                G[m, 1, 0] = gyx
-                G[m, 1, 1] = gyy
-                G[m, 1, 2] = gyz
-                G[m, 2, 0] = gzx
-                G[m, 2, 1] = gzy
-                G[m, 2, 2] = gzz
+    """_field_chunk over every chunk of the points, the chunks shared out over the threads."""
+    for chunk in prange((points.shape[0] + _CHUNK - 1) // _CHUNK):
+        _field_chunk(chunk, points, V, FV, FE, EV, elen, A2, sn, ce, de, vpush, epush, faces_on,
+                     edges_on, want_h, want_g, H, G)
+
+
+@njit(cache=True, error_model="numpy")
+def _field_serial(points, V, FV, FE, EV, elen, A2, sn, ce, de, vpush, epush, faces_on, edges_on,
+                  want_h, want_g, H, G):
+    """_field_kernel on one thread (the same numbers)."""
+    for chunk in range((points.shape[0] + _CHUNK - 1) // _CHUNK):
+        _field_chunk(chunk, points, V, FV, FE, EV, elen, A2, sn, ce, de, vpush, epush, faces_on,
+                     edges_on, want_h, want_g, H, G)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -408,8 +428,9 @@ def _run_field(points, vertices, faces, magnetization, want_h, want_g):
     p = _scaled_points(t, points)
     H = np.empty((len(p), 3)) if want_h else np.empty((1, 3))
     G = np.empty((len(p), 3, 3)) if want_g else np.empty((1, 3, 3))
-    _field_kernel(p, t.vertices, t.faces, t.face_edges, t.edges, t.edge_length, t.area_normal,
-                  sn, ce, de, t.vertex_push, t.edge_push, faces_on, edges_on, want_h, want_g, H, G)
+    kernel = _field_kernel if len(p) * len(faces_on) >= PARALLEL_MIN_WORK else _field_serial
+    kernel(p, t.vertices, t.faces, t.face_edges, t.edges, t.edge_length, t.area_normal,
+           sn, ce, de, t.vertex_push, t.edge_push, faces_on, edges_on, want_h, want_g, H, G)
     # the unused output is a never-written placeholder: scale only what was computed
     return (H * _INV_4PI if want_h else None), (G * (_INV_4PI / t.scale) if want_g else None)
 

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import importlib
 from dataclasses import dataclass, replace
+from functools import cached_property
 
 import numpy as np
 
@@ -97,6 +98,12 @@ class Source:
         """
         return (points - self.center) @ self.matrix
 
+    @cached_property
+    def unrotated(self) -> bool:
+        """The body frame is the world's (the matrix is the identity): every product of the
+        rotation is exact (x * 1 + y * 0 + z * 0 = x), so it is skipped."""
+        return bool(np.array_equal(self.matrix, np.eye(3)))
+
     def is_far(self, points: np.ndarray) -> np.ndarray:
         """Which points lie beyond FAR_FIELD_SIZES part sizes from the centre (dipole used there).
 
@@ -182,12 +189,16 @@ class Source:
         R = self.matrix
         if gradient:
             H_body, G_body = closed_form(self.kind, True)(body, *self.params, self.magnetization)
-            # R G_b R^T for every point, through BLAS (batched 3x3 matmul is slow in numpy)
-            rotated = np.tensordot(np.tensordot(G_body, R, axes=([2], [1])), R, axes=([1], [1]))
-            G[near] += rotated.transpose(0, 2, 1)
+            if self.unrotated:
+                G[near] += G_body
+            else:
+                # R G_b R^T for every point, through BLAS (batched 3x3 matmul is slow in numpy)
+                rotated = np.tensordot(np.tensordot(G_body, R, axes=([2], [1])), R,
+                                       axes=([1], [1]))
+                G[near] += rotated.transpose(0, 2, 1)
         else:
             H_body = closed_form(self.kind)(body, *self.params, self.magnetization)
-        H[near] += H_body @ R.T
+        H[near] += H_body if self.unrotated else H_body @ R.T
 
 
 def point_dipole(points, center, moment, gradient=False):

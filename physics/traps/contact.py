@@ -87,11 +87,12 @@ class ProbeGeometry:
         """
         return self.field_model.clearance(np.asarray(points, float).reshape(-1, 3))
 
-    def admissible(self, points, tolerance=1e-9) -> np.ndarray:
+    def admissible(self, points, tolerance=1e-9, clearance=None) -> np.ndarray:
         """Inside the box, in front of every plate and at least d/2 from every part.
 
         A part's signed distance is only computed near its bounding box (exact distances are costly
-        for meshes).
+        for meshes). Given the points' clearance, nothing is computed again: a part farther
+        than d/2 from a point's box is farther than d/2 from it, so both tests agree.
 
         Parameters
         ----------
@@ -100,6 +101,8 @@ class ProbeGeometry:
         tolerance : float
             Relative slack (dimensionless): the box is widened by tolerance * spacing and d/2 is
             relaxed to d/2 (1 - tolerance).
+        clearance : numpy.ndarray, shape (N,), optional
+            The points' clearance (m), when known.
 
         Returns
         -------
@@ -108,6 +111,8 @@ class ProbeGeometry:
         points = np.asarray(points, float).reshape(-1, 3)
         limit = self.radius * (1.0 - tolerance)
         ok = in_box(points, self.low, self.high, tolerance * self.spacing)
+        if clearance is not None:
+            return ok & (clearance >= limit)
         plates = self.field_model.plate_distances(points)
         if plates.shape[1]:
             ok &= plates.min(axis=1) >= limit
@@ -391,6 +396,7 @@ def surface_descent(model, geometry, starts, basis, iterations=DESCENT_ITERATION
     """
     x = geometry.project_to_surface(starts, basis)
     U, F = model.energy_and_force(x)
+    normals = geometry.normal(x)
     h = geometry.spacing
     step = np.full(len(x), 0.25 * h)
     active = np.ones(len(x), bool)
@@ -398,15 +404,19 @@ def surface_descent(model, geometry, starts, basis, iterations=DESCENT_ITERATION
         idx = np.flatnonzero(active)
         if len(idx) == 0:
             break
-        tangents = tangent_basis(geometry.normal(x[idx]), basis)
+        tangents = tangent_basis(normals[idx], basis)
         push = np.einsum("nmi,ni->nm", tangents, F[idx])  # -grad U along the surface
         size = np.linalg.norm(push, axis=1)
         move = np.einsum("nm,nmi->ni", push / np.maximum(size, 1e-300)[:, None], tangents)
         trial = geometry.project_to_surface(x[idx] + step[idx, None] * move, basis, 3)
         U_t, F_t = model.energy_and_force(trial)
-        better = (U_t < U[idx]) & geometry.admissible(trial, tolerance=1e-6)
+        # one distance search at the trials: their admissibility, and the normal there for
+        # the next step of those accepted (a rejected start keeps its point and normal)
+        clearance, normal = geometry.clearance_and_normal(trial)
+        better = (U_t < U[idx]) & geometry.admissible(trial, 1e-6, clearance)
         accepted = idx[better]
         x[accepted], U[accepted], F[accepted] = trial[better], U_t[better], F_t[better]
+        normals[accepted] = normal[better]
         step[accepted] *= 2.0
         step[idx[~better]] *= 0.25
         active[idx[(step[idx] < 1e-7 * h) | (size == 0.0)]] = False

@@ -232,6 +232,11 @@ class BaseShape:
         """(N,) bool: body points strictly inside (sdf < 0; a point on the surface is outside)."""
         return self.sdf(part, points) < 0.0
 
+    def search_tree(self, part):
+        """The shape's bounding-volume tree (meshtree.MeshTree) when its distance comes from
+        one, else None (a closed form)."""
+        return None
+
     def sdf_and_normal(self, part, points) -> tuple:
         """The signed distance (N,) m of body points and its gradient, the outward unit normal
         (N, 3) in the body frame, where the shape knows it from its closest feature; None for

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from trapscape.scene.shapes import meshops
+from trapscape.scene.shapes import meshops, meshtree
 from trapscape.scene.shapes.base import BaseShape, as_directions
 from trapscape.scene.shapes.patches import triangle_patches
 
@@ -33,6 +33,9 @@ class Mesh(BaseShape):
 
     def sdf(self, part, points) -> np.ndarray:
         return meshops.mesh_sdf(points, *self.tessellation(part))
+
+    def search_tree(self, part):
+        return meshtree.mesh_tree(*self.tessellation(part))
 
     def sdf_and_normal(self, part, points) -> tuple:
         """The distance and the closest feature's outward normal, from one tree search."""

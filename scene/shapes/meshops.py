@@ -14,8 +14,9 @@ import numba
 import numpy as np
 from numba import njit, prange
 
-from trapscape.scene.shapes.meshtree import (JITTER, _closest_distance2, mesh_tree,
-                                             tree_distance, tree_inside, tree_signed_distance)
+from trapscape.scene.shapes.meshtree import (JITTER, _closest_distance2, forest_signed_distance,
+                                             mesh_tree, tree_distance, tree_inside,
+                                             tree_signed_distance)
 
 SURFACE_TOL = 1e-12  # relative to the mesh's largest bounding-box side
 
@@ -308,6 +309,39 @@ def mesh_sdf_and_normal(points, vertices, faces) -> tuple[np.ndarray, np.ndarray
     if not far.all():
         distance[~far], normal[~far] = tree_signed_distance(p[~far], tree)
     return distance, normal
+
+
+def nearest_mesh_sdf(bodies, meshes, forest, best, todo, box_distances) -> np.ndarray:
+    """The smallest of best and mesh_sdf of each mesh a point is tried on, from one search of
+    the meshes' packed trees (meshtree.forest_signed_distance) and mesh_sdf's far-field rule.
+
+    Parameters
+    ----------
+    bodies : (P, N, 3) float, m, the points in each mesh's frame.
+    meshes : sequence of P (vertices (V, 3) m, faces (F, 3) int).
+    forest : meshtree.Forest of the P meshes' trees, in that order.
+    best : (N,) float, m, the smallest signed distance known so far (inf for none).
+    todo : (N, P) bool, the meshes each point is tried on.
+    box_distances : (N, P) float, m, from each point to each mesh's bounding box (0 inside),
+        as _far_from computes them (the same expression on the vertices' box).
+
+    Returns
+    -------
+    (N,) float64, m.
+
+    References
+    ----------
+    As mesh_sdf_and_normal.
+    """
+    best, todo = np.array(best, dtype=float), np.array(todo, dtype=bool)
+    for j, (vertices, _) in enumerate(meshes):
+        V = np.asarray(vertices, dtype=float)
+        diagonal = float(np.linalg.norm(V.max(axis=0) - V.min(axis=0)))
+        far = todo[:, j] & (box_distances[:, j] > diagonal)  # as _far_from
+        if far.any():
+            best[far] = np.minimum(best[far], forest.trees[j].vertex_tree.query(bodies[j][far])[0])
+            todo[far, j] = False
+    return forest_signed_distance(bodies, forest, best, todo, box_distances)
 
 
 def mesh_sdf(points, vertices, faces) -> np.ndarray:

@@ -320,13 +320,14 @@ def _feature(px, py, pz, tri, t):
 
 
 @njit(cache=True)
-def _nearest_row(px, py, pz, tri, lower, upper, first, count, left):
-    """Row of the closest triangle and the squared distance to it (depth-first, nearer child
-    first, boxes farther than the best so far skipped)."""
+def _nearest_row(px, py, pz, tri, lower, upper, first, count, left, root=0, bound=np.inf):
+    """Row of the closest triangle under the tree's node root and the squared distance to it
+    (depth-first, nearer child first, boxes farther than the best so far skipped); row -1 when
+    no triangle is strictly nearer than the squared distance bound."""
     stack = np.empty(_STACK, np.int64)
-    stack[0] = 0
+    stack[0] = root
     top = 1
-    best, row = np.inf, -1
+    best, row = bound, -1
     while top > 0:
         top -= 1
         node = stack[top]
@@ -373,6 +374,18 @@ def _distance_parallel(points, tri, lower, upper, first, count, left, out):
 
 
 @njit(cache=True)
+def _pseudonormal(row, feature, face_n, corner_n, edge_n):
+    """The pseudonormal of a feature of triangle row (face, vertex or edge)."""
+    if feature == _FACE:
+        return face_n[row, 0], face_n[row, 1], face_n[row, 2]
+    if feature <= _VERTEX_C:
+        k = feature - _VERTEX_A
+        return corner_n[row, k, 0], corner_n[row, k, 1], corner_n[row, k, 2]
+    k = feature - _EDGE_AB
+    return edge_n[row, k, 0], edge_n[row, k, 1], edge_n[row, k, 2]
+
+
+@njit(cache=True)
 def _signed_one(m, points, tri, lower, upper, first, count, left, face_n, corner_n, edge_n,
                 distance, normal, sign_known):
     """Distance, the outward unit normal of the distance field and (where the pseudonormal
@@ -380,14 +393,7 @@ def _signed_one(m, points, tri, lower, upper, first, count, left, face_n, corner
     px, py, pz = points[m, 0], points[m, 1], points[m, 2]
     row, d2 = _nearest_row(px, py, pz, tri, lower, upper, first, count, left)
     feature, qx, qy, qz = _feature(px, py, pz, tri, row)
-    if feature == _FACE:
-        nx, ny, nz = face_n[row, 0], face_n[row, 1], face_n[row, 2]
-    elif feature <= _VERTEX_C:
-        k = feature - _VERTEX_A
-        nx, ny, nz = corner_n[row, k, 0], corner_n[row, k, 1], corner_n[row, k, 2]
-    else:
-        k = feature - _EDGE_AB
-        nx, ny, nz = edge_n[row, k, 0], edge_n[row, k, 1], edge_n[row, k, 2]
+    nx, ny, nz = _pseudonormal(row, feature, face_n, corner_n, edge_n)
     dx, dy, dz = px - qx, py - qy, pz - qz
     along = dx * nx + dy * ny + dz * nz
     distance[m] = math.sqrt(d2)
@@ -564,3 +570,141 @@ def tree_signed_distance(points, tree: MeshTree) -> tuple[np.ndarray, np.ndarray
         normal[unknown] *= (parity * np.where(sign[unknown] == 0.0, 1.0, sign[unknown]))[:, None]
         sign[unknown] = parity
     return sign * distance, normal
+
+
+# -- several meshes at once: the nearest of them --------------------------------------------------
+
+@dataclass(frozen=True, eq=False)
+class Forest:
+    """The trees of several meshes packed into one set of arrays (``pack_trees``): tree j's
+    nodes start at roots[j], its rows of ``triangles`` where its leaves say."""
+
+    trees: tuple
+    triangles: np.ndarray
+    lower: np.ndarray
+    upper: np.ndarray
+    first: np.ndarray
+    count: np.ndarray
+    left: np.ndarray
+    roots: np.ndarray
+    face_normals: np.ndarray
+    corner_normals: np.ndarray
+    edge_normals: np.ndarray
+    manifold: np.ndarray
+
+
+def pack_trees(trees) -> Forest:
+    """One Forest of the given MeshTrees (their rows and nodes renumbered, nothing recomputed).
+
+    Parameters
+    ----------
+    trees : sequence of MeshTree
+
+    Returns
+    -------
+    Forest
+    """
+    trees = tuple(trees)
+    rows = np.cumsum([0] + [len(t.triangles) for t in trees])[:-1]
+    roots = np.cumsum([0] + [len(t.lower) for t in trees])[:-1]
+    left = [np.where(t.count == 0, t.left + root, -1) for t, root in zip(trees, roots)]
+
+    def joined(name):
+        return np.ascontiguousarray(np.concatenate([getattr(t, name) for t in trees]))
+
+    return Forest(trees, joined("triangles"), joined("lower"), joined("upper"),
+                  np.concatenate([t.first + r for t, r in zip(trees, rows)]), joined("count"),
+                  np.concatenate(left), roots.astype(np.int64), joined("face_normals"),
+                  joined("corner_normals"), joined("edge_normals"),
+                  np.array([t.manifold for t in trees]))
+
+
+@njit(cache=True)
+def _nearest_one(m, bodies, tri, lower, upper, first, count, left, roots, face_n, corner_n,
+                 edge_n, manifold, todo, in_box, order, best, values, unknown):
+    """Point m against every tree j it is to be tried on (todo), in the given order (nearest
+    box first): a tree whose box holds the point is searched whole (it may be inside); another
+    only for triangles strictly nearer than the best signed distance so far (none when that is
+    not positive: outside its box the point is outside the mesh)."""
+    b = best[m]
+    for i in range(roots.shape[0]):
+        j = order[m, i]
+        if not todo[m, j]:
+            continue
+        if in_box[m, j]:
+            bound = np.inf
+        elif b > 0.0:
+            bound = b * b * (1.0 + 1e-12)  # a bound, not a decision: sqrt may round either way
+        else:
+            continue
+        px, py, pz = bodies[j, m, 0], bodies[j, m, 1], bodies[j, m, 2]
+        row, d2 = _nearest_row(px, py, pz, tri, lower, upper, first, count, left, roots[j],
+                               bound)
+        if row < 0:
+            continue
+        feature, qx, qy, qz = _feature(px, py, pz, tri, row)
+        nx, ny, nz = _pseudonormal(row, feature, face_n, corner_n, edge_n)
+        along = (px - qx) * nx + (py - qy) * ny + (pz - qz) * nz
+        distance = math.sqrt(d2)
+        values[m, j] = -distance if along < 0.0 else distance
+        unknown[m, j] = along == 0.0 or not manifold[j]
+        b = min(b, values[m, j])
+
+
+@njit(cache=True)
+def _nearest_serial(bodies, tri, lower, upper, first, count, left, roots, face_n, corner_n,
+                    edge_n, manifold, todo, in_box, order, best, values, unknown):
+    for m in range(bodies.shape[1]):
+        _nearest_one(m, bodies, tri, lower, upper, first, count, left, roots, face_n, corner_n,
+                     edge_n, manifold, todo, in_box, order, best, values, unknown)
+
+
+@njit(cache=True, parallel=True)
+def _nearest_parallel(bodies, tri, lower, upper, first, count, left, roots, face_n, corner_n,
+                      edge_n, manifold, todo, in_box, order, best, values, unknown):
+    for m in prange(bodies.shape[1]):
+        _nearest_one(m, bodies, tri, lower, upper, first, count, left, roots, face_n, corner_n,
+                     edge_n, manifold, todo, in_box, order, best, values, unknown)
+
+
+def forest_signed_distance(bodies, forest: Forest, best, todo, box_distances) -> np.ndarray:
+    """The smallest of best and the signed distances (tree_signed_distance's) to the meshes
+    each point is to be tried on, from one search over the forest.
+
+    Equal to taking the minimum over every tried mesh's tree_signed_distance: a mesh is only
+    skipped, or its search cut short, where none of its triangles can beat the best so far.
+
+    Parameters
+    ----------
+    bodies : (P, N, 3) float, m, the points in each mesh's frame.
+    forest : Forest of P meshes.
+    best : (N,) float, m, the smallest signed distance known so far (inf for none).
+    todo : (N, P) bool, the meshes each point is tried on.
+    box_distances : (N, P) float, m, from each point to each mesh's bounding box (0 in it):
+        the meshes are tried nearest box first.
+
+    Returns
+    -------
+    (N,) float64, m.
+
+    References
+    ----------
+    As tree_signed_distance; pruning against the best so far: Ericson (2005) 6.2.
+    """
+    bodies = np.ascontiguousarray(bodies, dtype=float)
+    best = np.ascontiguousarray(best, dtype=float)
+    n = bodies.shape[1]
+    values = np.full((n, len(forest.trees)), np.inf)
+    unknown = np.zeros((n, len(forest.trees)), np.bool_)
+    kernel = _nearest_parallel if n >= PARALLEL_FROM else _nearest_serial
+    kernel(bodies, forest.triangles, forest.lower, forest.upper, forest.first, forest.count,
+           forest.left, forest.roots, forest.face_normals, forest.corner_normals,
+           forest.edge_normals, forest.manifold, np.ascontiguousarray(todo, np.bool_),
+           np.ascontiguousarray(box_distances == 0.0),
+           np.ascontiguousarray(np.argsort(box_distances, axis=1, kind="stable")), best, values,
+           unknown)
+    for j in np.flatnonzero(unknown.any(axis=0)):  # the sign from ray parity
+        rows = np.flatnonzero(unknown[:, j])
+        inside = tree_inside(bodies[j, rows], forest.trees[j])
+        values[rows, j] = np.where(inside, -1.0, 1.0) * np.abs(values[rows, j])
+    return np.minimum(best, values.min(axis=1))
