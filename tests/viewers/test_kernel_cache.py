@@ -45,3 +45,21 @@ def test_the_program_sets_the_folder_and_keeps_a_users_choice(tmp_path):
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                           env=env, check=True)
     assert Path(done.stdout.strip()) == kernel_cache_folder(REPO, tmp_path)
+
+
+def test_no_two_cached_kernels_share_a_cache_file():
+    """numba names a cached kernel's files by module, name and first line, not by its options: two
+    builds of one function (serial and parallel) would load each other's code."""
+    import importlib
+
+    import numba.core.registry
+
+    names = {}
+    for source in KERNEL_SOURCES:
+        module = importlib.import_module("trapscape." + source[:-3].replace("/", "."))
+        for value in vars(module).values():
+            cache = getattr(value, "_cache", None)
+            if isinstance(value, numba.core.registry.CPUDispatcher) and hasattr(cache, "_cache_file"):
+                names.setdefault(cache._cache_file._index_path, set()).add(id(value))
+    shared = {key for key, dispatchers in names.items() if len(dispatchers) > 1}
+    assert not shared, f"kernels sharing a cache file: {sorted(shared)}"
