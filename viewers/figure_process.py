@@ -64,17 +64,13 @@ class FigureProcess:
         return getattr(importlib.import_module(self.module), name)(*args)
 
     def close(self) -> None:
-        """End the process (forked workers may hold its pipe open: it is told to end)."""
+        """End the process: idle or still warming up, or drawing for a call cut short by
+        Ctrl-C (it ends through its `finally` blocks: no temporary file is left)."""
         if self.connection is None:
             return
-        try:
-            self.connection.send(None)
-        except OSError:  # already gone
-            pass
+        self.process.terminate()
+        self.process.join()
         self.connection.close()
-        self.process.join(timeout=5)
-        if self.process.is_alive():
-            self.process.terminate()
         self.connection = None
 
     def __enter__(self):
@@ -87,23 +83,25 @@ class FigureProcess:
 
 def _serve(connection, parents_end, module, parent) -> None:
     # Ctrl-C reaches the whole process group: the parent handles it and still asks for the
-    # figure of what finished; SIGTERM ends this process whatever the parent's handler was
+    # figure of what finished; SIGTERM (also the parent's end) ends this process through its
+    # `finally` blocks, so a figure being written leaves no temporary file
     signal.signal(signal.SIGINT, signal.SIG_IGN)
-    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    signal.signal(signal.SIGTERM, _end_now)
     end_with(parent)
     parents_end.close()
     functions = importlib.import_module(module)
     functions.warm_up()
     while True:
         try:
-            message = connection.recv()
+            name, args = connection.recv()
         except EOFError:
             return
-        if message is None:
-            return
-        name, args = message
         try:
             reply = (True, getattr(functions, name)(*args))
         except Exception as error:  # noqa: BLE001  raised in the parent
             reply = (False, error)
         connection.send(reply)
+
+
+def _end_now(signum, frame):
+    raise SystemExit(1)

@@ -57,19 +57,19 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    from trapscape.viewers.figure_process import FigureProcess
-
-    # the figure's process imports matplotlib on the other core while this one loads the engine
-    with FigureProcess("trapscape.viewers.screen_plot") as figures:
-        return _screen(args, figures)
-
-
-def _screen(args, figures) -> int:
-    from trapscape.physics.analysis import screen, sweep
     from trapscape.physics.analysis.spec import load_spec
+    from trapscape.viewers.figure_process import FigureProcess
 
     check_output_path(args.output, (".csv",))
     spec = load_spec(args.spec)
+    # the figure's process imports matplotlib on the other core while this one loads the engine
+    with FigureProcess("trapscape.viewers.screen_plot") as figures:
+        return _screen(args, spec, figures)
+
+
+def _screen(args, spec, figures) -> int:
+    from trapscape.physics.analysis import screen, sweep
+
     grid = sweep.grid_of([sweep.parse_vary(v) for v in args.vary]) if args.vary else []
     if args.template:
         folder = Path(args.output).with_name(Path(args.output).stem + "-layouts")
