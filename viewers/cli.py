@@ -203,10 +203,38 @@ def kernel_cache_folder(root, base) -> Path:
 
 
 def console_main() -> int:
-    """The `trapscape` program: the thread policy and numba's cache, then main()."""
+    """The `trapscape` program: the thread policy and numba's cache, then main(), then the end
+    of the process (`end_without_teardown`)."""
     use_thread_policy()
     use_kernel_cache()
-    return main()
+    code = main()
+    end_without_teardown(code)
+    return code  # (other threads still run: the usual exit)
+
+
+def end_without_teardown(code: int) -> None:
+    """End the process now, unless other threads run: the exit handlers run and stdout and
+    stderr are flushed, but the modules are not torn down one by one, which takes 0.2-0.4 s
+    once the engine and numba's compiler are loaded (measured 2026-12-03: 0.42 s against 0.03 s
+    for a process that screened one layout). Every output is complete before main() returns
+    (viewers.atomic), so nothing is lost.
+
+    Parameters
+    ----------
+    code : int
+        The exit code.
+    """
+    if threading.active_count() > 1:
+        return
+    import atexit
+
+    atexit._run_exitfuncs()
+    for stream in (sys.stdout, sys.stderr):
+        try:
+            stream.flush()
+        except (OSError, ValueError):  # a closed pipe or stream: nothing more to say
+            pass
+    os._exit(code)
 
 
 if __name__ == "__main__":

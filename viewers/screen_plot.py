@@ -2,12 +2,15 @@
 failing layouts marked, the spec's bounds drawn (from the rows; nothing computed here)."""
 from __future__ import annotations
 
+import io
 import math
 
 import matplotlib
 
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt
+
+from trapscape.viewers.atomic import save_figure
 
 
 def swept_value(row, name):
@@ -73,3 +76,40 @@ def screen_figure(rows, spec, title):
     figure.suptitle(title, fontsize=11)
     figure.tight_layout()
     return figure
+
+
+def save_screen_figure(rows, spec, path) -> bool:
+    """`screen_figure` with the spec's title, saved whole to `path`.
+
+    Parameters
+    ----------
+    rows : list of dict
+    spec : Spec
+    path : str
+
+    Returns
+    -------
+    bool
+        False when no parameter is swept (no figure).
+    """
+    figure = screen_figure(rows, spec, spec.title or "screening")
+    if figure is None:
+        return False
+    try:
+        save_figure(figure, path, dpi=150)
+    finally:
+        plt.close(figure)
+    return True
+
+
+def warm_up() -> None:
+    """Draw a throwaway figure to memory: the fonts and the text layout's caches are loaded
+    before the figure that counts (viewers.figure_process). It changes no setting."""
+    figure, axis = plt.subplots(figsize=(2, 2))
+    axis.plot([0, 1], [0, 1], "o", label="passes")
+    axis.axhline(0.5, color="grey", ls="--", lw=1)
+    axis.legend(fontsize=8)
+    axis.set_title("warm-up", fontsize=9, loc="left")
+    figure.tight_layout()
+    figure.savefig(io.BytesIO(), format="png", dpi=150, bbox_inches="tight")
+    plt.close(figure)

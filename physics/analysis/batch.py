@@ -11,17 +11,14 @@ the same JSON. (The command line's default engine agrees to rounding: see engine
 from __future__ import annotations
 
 import concurrent.futures
-import ctypes
 import multiprocessing
 import os
 import signal
-import sys
-import threading
 from dataclasses import dataclass, field
 
-import numba
 import numpy as np
 
+from trapscape.physics.analysis.forking import end_with, fork_is_safe
 from trapscape.physics.analysis.results import json_ready
 from trapscape.physics.analysis.run import load_analysis
 from trapscape.physics.field import engine
@@ -173,8 +170,6 @@ def process_pool(workers: int = 2) -> concurrent.futures.ProcessPoolExecutor:
         initargs=(os.getpid() if forked else None,))
 
 
-PR_SET_PDEATHSIG = 1  # linux/prctl.h
-
 # what a fork server imports before it forks workers (the whole engine comes with them)
 WORKER_MODULES = ["trapscape.physics.analysis.screen", "trapscape.physics.analysis.sweep"]
 
@@ -183,29 +178,17 @@ def worker_context():
     """The multiprocessing context of the pool's workers: "fork" where a forked worker is safe,
     else a fork server that has imported the engine (WORKER_MODULES).
 
-    Forking is safe on Linux when this process runs no other Python thread (one could hold a
-    lock the child needs), has not started numba's threading layer or started one that survives
-    a fork (workqueue, TBB), and has not loaded fmm3dpy (whose OpenMP threads do not).
+    Forking is safe as `forking.fork_is_safe` says.
 
     Returns
     -------
     multiprocessing.context.BaseContext
     """
-    if _fork_is_safe():
+    if fork_is_safe():
         return multiprocessing.get_context("fork")
     context = multiprocessing.get_context("forkserver")
     context.set_forkserver_preload(WORKER_MODULES)
     return context
-
-
-def _fork_is_safe() -> bool:
-    if not sys.platform.startswith("linux") or threading.active_count() > 1:
-        return False
-    try:
-        layer = numba.threading_layer()
-    except ValueError:  # not started in this process
-        layer = None
-    return layer in (None, "workqueue", "tbb") and "fmm3dpy" not in sys.modules
 
 
 def start_worker(parent: int | None = None) -> None:
@@ -221,15 +204,8 @@ def start_worker(parent: int | None = None) -> None:
     """
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
     if parent is not None:
-        _end_with(parent)
+        end_with(parent)
     engine.use_in_process()
-
-
-def _end_with(parent: int) -> None:
-    """SIGTERM to this process when its parent ends (Linux prctl PR_SET_PDEATHSIG)."""
-    ctypes.CDLL(None).prctl(PR_SET_PDEATHSIG, signal.SIGTERM)
-    if os.getppid() != parent:  # it ended before the line above
-        os._exit(1)
 
 
 def _field_payload(analysis, points_m) -> dict:

@@ -23,8 +23,6 @@ from trapscape.physics.analysis.run import load_analysis
 from trapscape.physics.analysis.spec import layout_figures, load_spec, scores, verdict
 from trapscape.physics.analysis.variants import scene_variants
 from trapscape.physics.field import engine
-from trapscape.scene.cad.importing import cad_files, import_cad
-from trapscape.scene.cad.template import read_template, write_layout_scene
 from trapscape.scene.errors import SceneError
 from trapscape.scene.files import is_scene_file
 
@@ -69,6 +67,9 @@ def cad_layouts(inputs, template: str, parts: str | None, folder, grid=()) -> li
     SceneError
         A bad template, or an input that is no CAD export.
     """
+    from trapscape.scene.cad.importing import cad_files  # here: only CAD screenings need them
+    from trapscape.scene.cad.template import read_template
+
     read_template(template)
     layouts, stems = [], set()
     for export in cad_files(inputs):
@@ -91,6 +92,9 @@ def cad_layouts(inputs, template: str, parts: str | None, folder, grid=()) -> li
 def _scene_from_export(layout: Layout) -> None:
     """Import the layout's CAD export into its template and write the scene (in the worker, so
     a bad export is that layout's row, not the end of the batch)."""
+    from trapscape.scene.cad.importing import import_cad
+    from trapscape.scene.cad.template import read_template, write_layout_scene
+
     target = Path(layout.scene)
     imported = import_cad([layout.cad], target, parts_list=layout.parts or None)
     target.parent.mkdir(parents=True, exist_ok=True)

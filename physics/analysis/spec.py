@@ -30,7 +30,6 @@ import numpy as np
 
 from trapscape.scene.errors import SceneError
 from trapscape.scene.files import read_limited
-from trapscape.scene.measures import mass
 from trapscape.scene.tomlfile import parse_toml
 
 MAX_SPEC_BYTES = 1 << 20
@@ -179,6 +178,8 @@ def layout_figures(analysis, spec: Spec) -> dict:
     dict
         Figure key -> value (None where the layout has no such figure, e.g. no stable trap).
     """
+    from trapscape.scene.measures import mass  # here: the spec alone loads no shapes (numba)
+
     scene = analysis.scene
     figures = {"magnet_mass_g": sum(mass(m) or 0.0 for m in scene.magnets) * 1e3}
     if spec.needs_traps():

@@ -111,5 +111,11 @@ def box_corners(lower, upper) -> np.ndarray:
     ----------
     Common practice.
     """
-    return np.array(np.meshgrid(*zip(lower, upper), indexing="ij")).reshape(3, -1).T
+    return np.array([lower, upper])[_CORNER_SIDES, _AXES].T  # (laid out as meshgrid's was)
+
+
+# which of (lower, upper) each corner takes along x (row 0), y, z: x slowest, z fastest
+_CORNER_SIDES = np.ascontiguousarray(
+    np.array([[i, j, k] for i in (0, 1) for j in (0, 1) for k in (0, 1)]).T)
+_AXES = np.arange(3)[:, None]
 

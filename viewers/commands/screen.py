@@ -14,7 +14,7 @@ from dataclasses import replace
 from pathlib import Path
 
 from trapscape.scene.errors import SceneError
-from trapscape.viewers.atomic import replaced_atomically, save_figure
+from trapscape.viewers.atomic import replaced_atomically
 from trapscape.viewers.commands.common import (
     add_output_argument,
     add_run_options,
@@ -57,11 +57,19 @@ def add_arguments(parser) -> None:
 
 
 def run(args) -> int:
-    from trapscape.physics.analysis import screen, sweep
     from trapscape.physics.analysis.spec import load_spec
+    from trapscape.viewers.figure_process import FigureProcess
 
     check_output_path(args.output, (".csv",))
     spec = load_spec(args.spec)
+    # the figure's process imports matplotlib on the other core while this one loads the engine
+    with FigureProcess("trapscape.viewers.screen_plot") as figures:
+        return _screen(args, spec, figures)
+
+
+def _screen(args, spec, figures) -> int:
+    from trapscape.physics.analysis import screen, sweep
+
     grid = sweep.grid_of([sweep.parse_vary(v) for v in args.vary]) if args.vary else []
     if args.template:
         folder = Path(args.output).with_name(Path(args.output).stem + "-layouts")
@@ -87,16 +95,8 @@ def run(args) -> int:
         log.close()
         rows = screen.ranked(args.spec, [r for r in log.rows if r["key"] in keys])
         _write_csv(args.output, rows, spec)
-        _plot(args.output, rows, spec)
+        figures.call("save_screen_figure", rows, spec, str(Path(args.output).with_suffix(".png")))
     return _summary(args, rows, len(layouts) - len(todo))
-
-
-def _plot(output, rows, spec) -> None:
-    from trapscape.viewers.screen_plot import screen_figure
-
-    figure = screen_figure(rows, spec, spec.title or "screening")
-    if figure is not None:
-        save_figure(figure, Path(output).with_suffix(".png"), dpi=150)
 
 
 def _run(args, todo, log, total) -> None:
