@@ -9,6 +9,7 @@ import numpy as np
 
 from trapscape.scene.shapes.frames import to_body
 from trapscape.scene.units import MU0
+from trapscape.physics.field.box_distance import Boxes
 from trapscape.physics.field.dipole_sum import dipole_H
 from trapscape.physics.field.families import Family, evaluation_steps
 from trapscape.physics.field.parts import body_bounds, part_magnetization, part_sdf, part_sources
@@ -26,6 +27,8 @@ class FieldModel:
         self.sources = sources
         self._steps = {}  # frozenset of excluded parts -> the evaluation steps
         self._body_boxes = None  # each magnet's body-frame bounding box, on first use
+        self._boxes = None  # the axis-aligned boxes among the magnets (box_distance.Boxes)
+        self._others = None  # the indices of the other magnets
 
     @classmethod
     def from_scene(cls, scene, accuracy: float = 1e-3) -> "FieldModel":
@@ -290,7 +293,19 @@ class FieldModel:
         points = np.asarray(points, dtype=float).reshape(-1, 3)
         if not self.magnets:
             return np.full((len(points), 0), np.inf)
-        return np.stack([part_sdf(m, points) for m in self.magnets], axis=1)
+        boxes, others = self._box_split()
+        out = np.empty((len(points), len(self.magnets)))
+        out[:, boxes.index] = boxes.table(points)
+        for k in others:
+            out[:, k] = part_sdf(self.magnets[k], points)
+        return out
+
+    def _box_split(self) -> tuple[Boxes, list]:
+        """The axis-aligned boxes (computed together) and the indices of the other magnets."""
+        if self._boxes is None:
+            self._boxes = Boxes.of(self.magnets)
+            self._others = sorted(set(range(len(self.magnets))) - set(self._boxes.index.tolist()))
+        return self._boxes, self._others
 
     def inside_magnet(self, points) -> np.ndarray:
         """Index of the magnet containing each point, -1 where none does (or on its face).
@@ -360,30 +375,36 @@ class FieldModel:
         best = plates.min(axis=1) if plates.shape[1] else np.full(len(points), np.inf)
         if not self.magnets:
             return best
+        boxes, others = self._box_split()
+        best = boxes.lower(points, best)  # all axis-aligned boxes in one call, exact
+        if not others:
+            return best
         # Every part's surface lies in its bounding box, so its distance is at least the box's
         # and at most that of the box's farthest corner: a part whose box is farther than the
-        # nearest farthest-corner cannot be the nearest part, and is not computed (exact mesh
-        # distances are the cost of contact searches). The minimum is the same, bit for bit.
-        floors, ceilings = self._box_distances(points)
+        # nearest farthest-corner (or than an exact distance already known) cannot be the nearest
+        # part, and is not computed (exact mesh distances are the cost of contact searches). The
+        # minimum is the same, bit for bit.
+        floors, ceilings = self._box_distances(points, others)
         reach = np.minimum(ceilings.min(axis=1), best)
-        for k, magnet in enumerate(self.magnets):
-            todo = floors[:, k] <= reach
+        for column, k in enumerate(others):
+            todo = floors[:, column] <= reach
             if todo.any():
-                best[todo] = np.minimum(best[todo], part_sdf(magnet, points[todo]))
+                best[todo] = np.minimum(best[todo], part_sdf(self.magnets[k], points[todo]))
         return best
 
-    def _box_distances(self, points) -> tuple[np.ndarray, np.ndarray]:
-        """(N, n_magnets) distances from each point to each part's body-frame bounding box
-        (0 inside it) and to the box's farthest corner, m."""
+    def _box_distances(self, points, chosen) -> tuple[np.ndarray, np.ndarray]:
+        """(N, len(chosen)) distances from each point to each chosen part's body-frame bounding
+        box (0 inside it) and to the box's farthest corner, m."""
         if self._body_boxes is None:
             self._body_boxes = [body_bounds(m) for m in self.magnets]
-        floors = np.empty((len(points), len(self.magnets)))
+        floors = np.empty((len(points), len(chosen)))
         ceilings = np.empty_like(floors)
-        for k, (magnet, (low, high)) in enumerate(zip(self.magnets, self._body_boxes)):
+        for column, k in enumerate(chosen):
+            magnet, (low, high) = self.magnets[k], self._body_boxes[k]
             body = to_body(points, magnet.position, magnet.rotation)
-            floors[:, k] = np.linalg.norm(np.maximum(np.maximum(low - body, body - high), 0.0),
-                                          axis=1)
-            ceilings[:, k] = np.linalg.norm(np.maximum(body - low, high - body), axis=1)
+            floors[:, column] = np.linalg.norm(np.maximum(np.maximum(low - body, body - high),
+                                                          0.0), axis=1)
+            ceilings[:, column] = np.linalg.norm(np.maximum(body - low, high - body), axis=1)
         return floors, ceilings
 
 
