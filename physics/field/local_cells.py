@@ -41,6 +41,9 @@ TOLERANCE = 1e-8  # of the far parts' field scale on the cell's sphere (see the 
 EXPANSION_COST = 10.0  # one expansion at a point, in boxes' closed forms (degree 16: 4.4 us, a box 0.5 us)
 MIN_CELL_POINTS = 256  # cells are not halved below this many points
 PARALLEL_MIN_POINTS = 20_000  # the expansion's kernel runs on numba's threads above this
+MARGIN = 0.25  # an expansion is fitted on a ball this much wider than its cell's, so that the
+# points of later calls close by (Newton's steps, the Hessian's stencil) fall inside and reuse it
+CACHE_SIZE = 256  # expansions kept per family, newest first
 
 
 @dataclass(frozen=True)
@@ -62,6 +65,17 @@ def sphere_fit() -> SphereFit:
     if not _FIT:
         _FIT.append(SphereFit(DEGREES, 0))
     return _FIT[0]
+
+
+@dataclass(frozen=True, eq=False)
+class Expansion:
+    """The local expansion of the parts outside `near`, valid in the ball (center, radius)."""
+
+    center: np.ndarray  # (3,) m
+    radius: float  # m
+    near_parts: object  # physics.field.families.Family: the parts summed one by one
+    degree: int
+    coefficients: np.ndarray  # (CHANNELS, (TOP_DEGREE + 1)^2)
 
 
 def _samples_per_cell() -> int:
@@ -209,24 +223,39 @@ def add_H_by_cells(family, points, gradient, H, G) -> None:
     ----------
     Greengard & Rokhlin, J. Comput. Phys. 73, 325 (1987).
     """
-    radii = family.radii
-    strength = np.linalg.norm(family.moments, axis=1)
-    cells, _ = plan_cells(points, family.centers, radii)
+    cells, _ = plan_cells(points, family.centers, family.radii)
     for cell in cells:
         pts = np.ascontiguousarray(points[cell.index])
-        expansion = None
-        if cell.expand:
-            far = ~cell.near
-            expansion = local_expansion(
-                _parts(family, far), cell.center, cell.radius, strength[far],
-                np.linalg.norm(family.centers[far] - cell.center, axis=1))
-        parts = _parts(family, cell.near) if expansion is not None else family
-        h, g = _direct(parts, pts, gradient)
+        expansion = _expansion_for(family, cell) if cell.expand else None
+        h, g = _direct(family if expansion is None else expansion.near_parts, pts, gradient)
         if expansion is not None:
-            degree, coef, _ = expansion
             kernel = _expansion_parallel if len(pts) >= PARALLEL_MIN_POINTS else _expansion_serial
-            kernel(pts, cell.center, cell.radius, degree, coef, gradient, h,
-                   g if gradient else np.zeros((1, 3, 3)))
+            kernel(pts, expansion.center, expansion.radius, expansion.degree,
+                   expansion.coefficients, gradient, h, g if gradient else np.zeros((1, 3, 3)))
         H[cell.index] += h
         if gradient:
             G[cell.index] += g
+
+
+def _expansion_for(family, cell):
+    """A cached expansion whose ball holds the cell's, else one fitted on a ball MARGIN wider
+    (and cached), else None (no degree met the tolerance).
+
+    The cached expansion's error was checked on its own sphere, so it holds anywhere inside
+    its ball (the maximum principle), wherever the cell lies in it.
+    """
+    cache = family.expansions
+    for expansion in cache:
+        if np.linalg.norm(cell.center - expansion.center) + cell.radius <= expansion.radius:
+            return expansion
+    radius = cell.radius * (1.0 + MARGIN)
+    distances = np.linalg.norm(family.centers - cell.center, axis=1)
+    far = distances - family.radii >= radius / THETA
+    fitted = local_expansion(_parts(family, far), cell.center, radius,
+                             np.linalg.norm(family.moments[far], axis=1), distances[far])
+    if fitted is None:
+        return None
+    expansion = Expansion(cell.center, radius, _parts(family, ~far), fitted[0], fitted[1])
+    cache.insert(0, expansion)
+    del cache[CACHE_SIZE:]
+    return expansion
