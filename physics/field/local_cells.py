@@ -19,7 +19,11 @@ any point is then below TOLERANCE / 0.01 = 1e-6 of the local field scale of DESI
 max(|B|, 0.01 sum_k |B_k|) (derived here).
 
 Cells are chosen by halving the points along the longest side of their box while a cost model
-(in closed-form evaluations of one part at one point) says the halves are cheaper.
+(in closed-form evaluations of one part at one point) says the halves are cheaper. Each
+expansion is fitted on a ball MARGIN wider than its cell's and kept on the family: a later call's
+cell inside that ball (the trap search's Newton steps and Hessian stencils come back to nearly
+the same points many times) uses it without summing the far parts again; the bound above holds
+anywhere in the ball, so a reused expansion is as accurate as a new one.
 """
 from __future__ import annotations
 
