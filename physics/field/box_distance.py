@@ -86,7 +86,7 @@ def _lower_at(points, n, centers, axes, halves, best):
     b = best[n]
     for k in range(centers.shape[0]):
         d = _sdf(points, n, centers, axes, halves, k)
-        if d < b:
+        if d < b or d != d:  # a NaN stays, as numpy's minimum keeps it
             b = d
     best[n] = b
 

@@ -65,3 +65,6 @@ def test_the_turned_board_mixes_both_paths_and_threads_agree():
     assert np.array_equal(boxes.lower(points, np.full(len(points), np.inf)), reference.min(axis=1))
     assert np.array_equal(boxes.lower(points[:50], np.zeros(50)),
                           np.minimum(reference[:50].min(axis=1), 0.0))
+    nan = np.full((1, 3), np.nan)  # as the per-part minimum: NaN, not the starting value
+    assert np.isnan(boxes.lower(nan, [np.inf])).all()
+    assert np.isnan(FieldModel.from_scene(scene).clearance(nan)).all()
