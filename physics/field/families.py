@@ -19,7 +19,7 @@ numba's threads costs more than they save, and shares the points out over the th
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -85,6 +85,8 @@ class Family:
     far: np.ndarray  # (K,) m: beyond this distance from the centre, the point dipole
     kernel: object
     radii: np.ndarray  # (K,) m: each part's circumradius about its centre
+    # local_cells' expansions of the far parts, reused by later calls (a sub-family starts empty)
+    expansions: list = field(default_factory=list, init=False, repr=False)
 
     def add_H(self, points, gradient, H, G) -> None:
         """Add the family's H (and dH/dx) at world points into H and G, in place: a large family

@@ -19,7 +19,11 @@ any point is then below TOLERANCE / 0.01 = 1e-6 of the local field scale of DESI
 max(|B|, 0.01 sum_k |B_k|) (derived here).
 
 Cells are chosen by halving the points along the longest side of their box while a cost model
-(in closed-form evaluations of one part at one point) says the halves are cheaper.
+(in closed-form evaluations of one part at one point) says the halves are cheaper. Each
+expansion is fitted on a ball MARGIN wider than its cell's and kept on the family: a later call's
+cell inside that ball (the trap search's Newton steps and Hessian stencils come back to nearly
+the same points many times) uses it without summing the far parts again; the bound above holds
+anywhere in the ball, so a reused expansion is as accurate as a new one.
 """
 from __future__ import annotations
 
@@ -41,6 +45,11 @@ TOLERANCE = 1e-8  # of the far parts' field scale on the cell's sphere (see the 
 EXPANSION_COST = 10.0  # one expansion at a point, in boxes' closed forms (degree 16: 4.4 us, a box 0.5 us)
 MIN_CELL_POINTS = 256  # cells are not halved below this many points
 PARALLEL_MIN_POINTS = 20_000  # the expansion's kernel runs on numba's threads above this
+MARGIN = 0.25  # an expansion is fitted on a ball this much wider than its cell's, so that the
+# points of later calls close by (Newton's steps, the Hessian's stencil) fall inside and reuse it
+CACHE_SIZE = 256  # expansions kept per family, newest first
+REUSE = 4.0  # calls an expansion is expected to serve, for the cost model (a 16 x 16 board's
+# `traps`: 465 cells served by 65 expansions)
 
 
 @dataclass(frozen=True)
@@ -64,6 +73,18 @@ def sphere_fit() -> SphereFit:
     return _FIT[0]
 
 
+@dataclass(frozen=True, eq=False)
+class Expansion:
+    """The local expansion of the parts outside `near`, valid in the ball (center, radius)."""
+
+    center: np.ndarray  # (3,) m
+    radius: float  # m
+    near: np.ndarray  # (K,) bool over the family's parts: those summed one by one
+    near_parts: object  # physics.field.families.Family: those parts
+    degree: int
+    coefficients: np.ndarray  # (CHANNELS, (TOP_DEGREE + 1)^2)
+
+
 def _samples_per_cell() -> int:
     fit = sphere_fit()
     return len(fit.directions) + len(fit.check)
@@ -75,8 +96,11 @@ def _ball(points):
     return center, float(np.sqrt(np.max(np.sum((points - center) ** 2, axis=1))))
 
 
-def plan_cells(points, centers, radii) -> tuple:
+def plan_cells(points, centers, radii, cache=()) -> tuple:
     """The cells of points and the cost of each plan, in closed-form evaluations.
+
+    A cell inside a cached expansion's ball costs its near parts and the expansion at its
+    points; any other its far parts at the sphere's samples over REUSE as well.
 
     Parameters
     ----------
@@ -86,6 +110,8 @@ def plan_cells(points, centers, radii) -> tuple:
         The parts' centres, m.
     radii : numpy.ndarray, shape (K,)
         Their circumradii, m.
+    cache : sequence of Expansion
+        The family's expansions so far.
 
     Returns
     -------
@@ -99,10 +125,15 @@ def plan_cells(points, centers, radii) -> tuple:
     def plan(index):
         pts = points[index]
         center, radius = _ball(pts)
-        near = np.linalg.norm(centers - center, axis=1) - radii < radius / THETA
-        n_near = int(near.sum())
+        hit = _cached(cache, center, radius)
+        if hit is None:
+            near = (np.linalg.norm(centers - center, axis=1) - radii
+                    < radius * (1.0 + MARGIN) / THETA)
+            n_near, fit = int(near.sum()), samples * (K - int(near.sum())) / REUSE
+        else:
+            near, n_near, fit = hit.near, int(hit.near.sum()), 0.0
         direct = len(index) * K
-        expanded = samples * (K - n_near) + len(index) * (n_near + EXPANSION_COST)
+        expanded = fit + len(index) * (n_near + EXPANSION_COST)
         if radius <= 0.0:  # one point, many times: nothing to expand about
             expanded = math.inf
         best = [Cell(index, center, radius, near, expanded < direct)], min(direct, expanded)
@@ -209,24 +240,49 @@ def add_H_by_cells(family, points, gradient, H, G) -> None:
     ----------
     Greengard & Rokhlin, J. Comput. Phys. 73, 325 (1987).
     """
-    radii = family.radii
-    strength = np.linalg.norm(family.moments, axis=1)
-    cells, _ = plan_cells(points, family.centers, radii)
+    cells, _ = plan_cells(points, family.centers, family.radii, family.expansions)
     for cell in cells:
         pts = np.ascontiguousarray(points[cell.index])
-        expansion = None
-        if cell.expand:
-            far = ~cell.near
-            expansion = local_expansion(
-                _parts(family, far), cell.center, cell.radius, strength[far],
-                np.linalg.norm(family.centers[far] - cell.center, axis=1))
-        parts = _parts(family, cell.near) if expansion is not None else family
-        h, g = _direct(parts, pts, gradient)
+        expansion = _expansion_for(family, cell) if cell.expand else None
+        h, g = _direct(family if expansion is None else expansion.near_parts, pts, gradient)
         if expansion is not None:
-            degree, coef, _ = expansion
             kernel = _expansion_parallel if len(pts) >= PARALLEL_MIN_POINTS else _expansion_serial
-            kernel(pts, cell.center, cell.radius, degree, coef, gradient, h,
-                   g if gradient else np.zeros((1, 3, 3)))
+            kernel(pts, expansion.center, expansion.radius, expansion.degree,
+                   expansion.coefficients, gradient, h, g if gradient else np.zeros((1, 3, 3)))
         H[cell.index] += h
         if gradient:
             G[cell.index] += g
+
+
+def _expansion_for(family, cell):
+    """A cached expansion whose ball holds the cell's, else one fitted on a ball MARGIN wider
+    (and cached), else None (no degree met the tolerance).
+
+    The cached expansion's error was checked on its own sphere, so it holds anywhere inside
+    its ball (the maximum principle), wherever the cell lies in it.
+    """
+    cache = family.expansions
+    hit = _cached(cache, cell.center, cell.radius)
+    if hit is not None:
+        return hit
+    radius = cell.radius * (1.0 + MARGIN)
+    distances = np.linalg.norm(family.centers - cell.center, axis=1)
+    far = distances - family.radii >= radius / THETA
+    fitted = local_expansion(_parts(family, far), cell.center, radius,
+                             np.linalg.norm(family.moments[far], axis=1), distances[far])
+    if fitted is None:
+        return None
+    expansion = Expansion(cell.center, radius, ~far, _parts(family, ~far), fitted[0], fitted[1])
+    cache.insert(0, expansion)
+    del cache[CACHE_SIZE:]
+    return expansion
+
+
+def _cached(cache, center, radius):
+    """The first expansion of the cache whose ball holds the ball (center, radius), or None."""
+    if not cache:
+        return None
+    reach = np.array([e.radius for e in cache]) - np.linalg.norm(
+        np.array([e.center for e in cache]) - center, axis=1)
+    first = int(np.argmax(reach >= radius))
+    return cache[first] if reach[first] >= radius else None

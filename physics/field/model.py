@@ -12,6 +12,7 @@ from trapscape.scene.shapes.frames import to_body
 from trapscape.scene.shapes.meshops import nearest_mesh_sdf
 from trapscape.scene.shapes.meshtree import pack_trees
 from trapscape.scene.units import MU0
+from trapscape.physics.field.box_distance import Boxes
 from trapscape.physics.field.dipole_sum import dipole_H
 from trapscape.physics.field.families import Family, evaluation_steps
 from trapscape.physics.field.parts import body_bounds, part_magnetization, part_sdf, part_sources
@@ -29,6 +30,8 @@ class FieldModel:
         self.sources = sources
         self._steps = {}  # frozenset of excluded parts -> the evaluation steps
         self._body_boxes = None  # each magnet's body-frame bounding box, on first use
+        self._boxes = None  # the axis-aligned boxes among the magnets (box_distance.Boxes)
+        self._others = None  # the indices of the other magnets
         self._forest = None  # the mesh parts and their packed search trees, on first use
 
     @classmethod
@@ -294,7 +297,19 @@ class FieldModel:
         points = np.asarray(points, dtype=float).reshape(-1, 3)
         if not self.magnets:
             return np.full((len(points), 0), np.inf)
-        return np.stack([part_sdf(m, points) for m in self.magnets], axis=1)
+        boxes, others = self._box_split()
+        out = np.empty((len(points), len(self.magnets)))
+        out[:, boxes.index] = boxes.table(points)
+        for k in others:
+            out[:, k] = part_sdf(self.magnets[k], points)
+        return out
+
+    def _box_split(self) -> tuple[Boxes, list]:
+        """The axis-aligned boxes (computed together) and the indices of the other magnets."""
+        if self._boxes is None:
+            self._boxes = Boxes.of(self.magnets)
+            self._others = sorted(set(range(len(self.magnets))) - set(self._boxes.index.tolist()))
+        return self._boxes, self._others
 
     def inside_magnet(self, points) -> np.ndarray:
         """Index of the magnet containing each point, -1 where none does (or on its face).
@@ -364,24 +379,31 @@ class FieldModel:
         best = plates.min(axis=1) if plates.shape[1] else np.full(len(points), np.inf)
         if not self.magnets:
             return best
+        boxes, others = self._box_split()
+        best = boxes.lower(points, best)  # all axis-aligned boxes in one call, exact
+        if not others:
+            return best
         # Every part's surface lies in its bounding box, so its distance is at least the box's
         # and at most that of the box's farthest corner: a part whose box is farther than the
-        # nearest farthest-corner cannot be the nearest part, and is not computed (exact mesh
-        # distances are the cost of contact searches). The mesh parts' trees are searched in one
-        # pass, each bounded by the best distance so far. The minimum is the same, bit for bit.
-        floors, ceilings, bodies = self._box_distances(points)
+        # nearest farthest-corner (or than an exact distance already known) cannot be the nearest
+        # part, and is not computed (exact mesh distances are the cost of contact searches). The
+        # mesh parts' trees are searched in one pass, each bounded by the best distance so far.
+        # The minimum is the same, bit for bit.
+        floors, ceilings, bodies = self._box_distances(points, others)
         reach = np.minimum(ceilings.min(axis=1), best)
         meshes, forest = self._mesh_forest()
-        for k in (k for k in range(len(self.magnets)) if k not in meshes):
-            todo = floors[:, k] <= reach
-            if todo.any():
+        for column, k in enumerate(others):
+            todo = floors[:, column] <= reach
+            if k not in meshes and todo.any():
                 magnet = self.magnets[k]
-                best[todo] = np.minimum(best[todo], shape_of(magnet).sdf(magnet, bodies[k][todo]))
+                best[todo] = np.minimum(best[todo],
+                                        shape_of(magnet).sdf(magnet, bodies[column][todo]))
         if meshes:
-            parts = [self.magnets[k] for k in meshes]
-            tessellations = [shape_of(m).tessellation(m) for m in parts]
-            best = nearest_mesh_sdf(bodies[meshes], tessellations, forest, best,
-                                    floors[:, meshes] <= reach[:, None], floors[:, meshes])
+            columns = [others.index(k) for k in meshes]
+            tessellations = [shape_of(self.magnets[k]).tessellation(self.magnets[k])
+                             for k in meshes]
+            best = nearest_mesh_sdf(bodies[columns], tessellations, forest, best,
+                                    floors[:, columns] <= reach[:, None], floors[:, columns])
         return best
 
     def _mesh_forest(self) -> tuple[list, object]:
@@ -394,14 +416,15 @@ class FieldModel:
                             pack_trees([tree for _, tree in trees]) if trees else None)
         return self._forest
 
-    def _box_distances(self, points) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        """(N, n_magnets) distances from each point to each part's body-frame bounding box
-        (0 inside it) and to the box's farthest corner, m; and (n_magnets, N, 3) the points in
-        each body frame."""
+    def _box_distances(self, points, chosen) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """(N, len(chosen)) distances from each point to each chosen part's body-frame bounding
+        box (0 inside it) and to the box's farthest corner, m; and (len(chosen), N, 3) the points
+        in each chosen part's body frame."""
         if self._body_boxes is None:
             self._body_boxes = np.array([body_bounds(m) for m in self.magnets])  # (P, 2, 3)
-        bodies = np.stack([to_body(points, m.position, m.rotation) for m in self.magnets])
-        low, high = self._body_boxes[:, :1], self._body_boxes[:, 1:]
+        bodies = np.stack([to_body(points, self.magnets[k].position, self.magnets[k].rotation)
+                           for k in chosen])
+        low, high = self._body_boxes[chosen, :1], self._body_boxes[chosen, 1:]
         floors = np.linalg.norm(np.maximum(np.maximum(low - bodies, bodies - high), 0.0), axis=2)
         ceilings = np.linalg.norm(np.maximum(bodies - low, high - bodies), axis=2)
         return floors.T, ceilings.T, bodies

@@ -1,6 +1,6 @@
 """Real solid harmonics and the fit of a harmonic field's components to them on a sphere: the
-expansions of physics/field/part_groups.py (outside a group of parts) and
-physics/field/local_cells.py (inside a cell of target points).
+local expansions of physics/field/local_cells.py (inside a cell of target points); the
+irregular ones are for expansions outside a group of sources.
 
 C_lm(u) = sqrt(4 pi / (2l + 1)) Y_lm(u) (Racah's normalisation) by the recurrences of
 T. Helgaker, P. Jorgensen & J. Olsen, Molecular Electronic-Structure Theory (Wiley 2000),

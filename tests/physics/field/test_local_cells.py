@@ -155,3 +155,26 @@ def test_a_call_of_one_point_many_times():
     family.add_H(points, True, H1, G1)
     family.add_H_direct(points, True, H2, G2)
     assert np.array_equal(H1, H2) and np.array_equal(G1, G2)
+
+
+def test_later_calls_reuse_an_expansion_only_inside_its_ball():
+    # Newton's steps and the Hessian's stencil call the field at points close to the last call's:
+    # their cells fall inside the last expansion's ball (MARGIN wider than its cell) and reuse it,
+    # within the same claim; a cell reaching out of every cached ball gets its own expansion.
+    sources = checkerboard(16)
+    family = one_family(sources)
+    centre = np.array([-4.0, 5.0, 1.5]) * MM
+    radius = 1.0 * MM
+    shift = 0.5 * local_cells.MARGIN * radius
+    counts = []
+    for offset in (0.0, shift, -shift, 1.2 * local_cells.MARGIN * radius):
+        points = np.ascontiguousarray(probe_balls([centre + [offset, 0.0, 0.0]], radius=radius))
+        H, G = np.zeros_like(points), np.zeros((len(points), 3, 3))
+        family.add_H(points, True, H, G)
+        counts.append(len(family.expansions))
+        H0, G0, H_abs, G_abs = part_by_part(sources, points)
+        scale_H = np.maximum(np.linalg.norm(H0, axis=1), 0.01 * H_abs)
+        scale_G = np.maximum(np.linalg.norm(G0, axis=(1, 2)), 0.01 * G_abs)
+        assert np.max(np.linalg.norm(H - H0, axis=1) / scale_H) <= CLAIM
+        assert np.max(np.linalg.norm(G - G0, axis=(1, 2)) / scale_G) <= CLAIM
+    assert counts[0] >= 1 and counts[1] == counts[2] == counts[0] and counts[3] > counts[0]
