@@ -14,6 +14,7 @@ import numpy as np
 from numba import njit, prange
 
 from trapscape.physics.field.families import axis_aligned
+from trapscape.scene.shapes import shape_of
 
 PARALLEL_MIN_PAIRS = 200_000  # point-part pairs above which the points are shared over threads
 
@@ -29,7 +30,7 @@ class Boxes:
 
     @classmethod
     def of(cls, magnets) -> "Boxes":
-        """The magnets of shape "box" turned by right angles only (others are left out).
+        """The magnets that are rectangular blocks turned by right angles only (others are left out).
 
         Parameters
         ----------
@@ -41,7 +42,7 @@ class Boxes:
         Boxes
         """
         chosen = [k for k, m in enumerate(magnets)
-                  if m.shape == "box" and axis_aligned(m.rotation)]
+                  if shape_of(m).is_block and axis_aligned(m.rotation)]
         axes = [np.argmax(np.abs(np.asarray(magnets[k].rotation, float)), axis=0) for k in chosen]
         return cls(np.array(chosen, dtype=np.int64),
                    np.array([magnets[k].position for k in chosen], float).reshape(-1, 3),

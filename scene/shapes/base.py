@@ -45,6 +45,7 @@ class Shape(Protocol):
     radial_ok: bool  # may be magnetised radial-out / radial-in
     is_ball: bool  # a sphere: forces on it have a closed form
     cheap_distance: bool  # sdf is a closed form (else a mesh distance through a tree)
+    is_block: bool  # a rectangular block with dims its edges: sdf as box.py (box_distance.py)
     fit_far_field: bool  # a large tessellation may be replaced by fitted dipoles far away
     closed_form: str  # key of physics.field.sources.CLOSED_FORMS that draws its field
     radial_closed_form: str | None  # the key that draws it magnetised radially (None: dipoles)
@@ -178,6 +179,7 @@ class BaseShape:
     from_file = False
     radial_ok = False
     is_ball = False
+    is_block = False
     cheap_distance = True
     fit_far_field = False
     closed_form = "polyhedron"

@@ -20,6 +20,7 @@ class Box(BaseShape):
     size_example = "size = [10, 10, 5] (edge lengths along body x, y, z)"
     takes_named = False
     closed_form = "box"
+    is_block = True
 
     def volume(self, part) -> float:
         """a b c, m^3 (textbook)."""
