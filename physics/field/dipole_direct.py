@@ -15,6 +15,8 @@ import math
 import numba
 import numpy as np
 
+from trapscape.physics.field.engine import serial_twin
+
 COINCIDENT_M = 1e-12
 _INV_4PI = 1.0 / (4.0 * math.pi)
 _FASTMATH = {"contract", "reassoc", "arcp"}
@@ -138,12 +140,7 @@ def _direct_H_kernel(targets, px, py, pz, mx, my, mz):
     return out
 
 
-@numba.njit(cache=True, fastmath=_FASTMATH)
-def _direct_H_serial(targets, px, py, pz, mx, my, mz):
-    out = np.empty((targets.shape[0], 3))
-    for i in range(targets.shape[0]):
-        _H_at(i, targets, px, py, pz, mx, my, mz, out)
-    return out
+_direct_H_serial = serial_twin(_direct_H_kernel)
 
 
 @numba.njit(cache=True, fastmath=_FASTMATH)
@@ -200,9 +197,4 @@ def _direct_H_gradient_kernel(targets, px, py, pz, mx, my, mz):
     return H, G
 
 
-@numba.njit(cache=True, fastmath=_FASTMATH)
-def _direct_H_gradient_serial(targets, px, py, pz, mx, my, mz):
-    H, G = np.empty((targets.shape[0], 3)), np.empty((targets.shape[0], 6))
-    for i in range(targets.shape[0]):
-        _H_gradient_at(i, targets, px, py, pz, mx, my, mz, H, G)
-    return H, G
+_direct_H_gradient_serial = serial_twin(_direct_H_gradient_kernel)

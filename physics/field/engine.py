@@ -18,6 +18,7 @@ from __future__ import annotations
 import contextlib
 import multiprocessing
 import threading
+import types
 
 import numba
 
@@ -82,6 +83,32 @@ def in_process_mode():
             if _blocks == 0 and _switched_on_by_blocks:
                 use_in_process(False)
         numba.set_num_threads(threads)
+
+
+def serial_twin(kernel):
+    """A parallel numba kernel's code compiled for one thread (prange runs as range), with its
+    other options: for small calls, where starting the threads costs more than the work. It
+    gets its own name, because numba's disk cache names a kernel's files by module, name and
+    first line, not by its options: two builds under one name load each other's code
+    (tests/viewers/test_kernel_cache.py).
+
+    Parameters
+    ----------
+    kernel : numba dispatcher
+        Compiled with parallel=True.
+
+    Returns
+    -------
+    numba dispatcher
+        The same numbers as the kernel (tests/physics/field/test_serial_kernels.py).
+    """
+    function = kernel.py_func
+    copy = types.FunctionType(function.__code__, function.__globals__,
+                              function.__name__ + "_serial", function.__defaults__,
+                              function.__closure__)
+    copy.__qualname__ = copy.__name__
+    options = {k: v for k, v in kernel.targetoptions.items() if k not in ("parallel", "nopython")}
+    return numba.njit(cache=True, **options)(copy)
 
 
 @numba.njit(cache=True)

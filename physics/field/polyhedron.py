@@ -28,6 +28,8 @@ from functools import lru_cache
 import numpy as np
 from numba import njit, prange
 
+from trapscape.physics.field.engine import serial_twin
+
 SURFACE_TOL = 1e-12  # relative to the mesh size; the same convention as physics.field.cuboid
 EDGE_PUSH = 1e-9  # relative to the mesh size
 _CHUNK = 64  # points per scratch allocation
@@ -364,13 +366,7 @@ def _field_kernel(points, V, FV, FE, EV, elen, A2, sn, ce, de, vpush, epush, fac
                      edges_on, want_h, want_g, H, G)
 
 
-@njit(cache=True, error_model="numpy")
-def _field_serial(points, V, FV, FE, EV, elen, A2, sn, ce, de, vpush, epush, faces_on, edges_on,
-                  want_h, want_g, H, G):
-    """_field_kernel on one thread (the same numbers)."""
-    for chunk in range((points.shape[0] + _CHUNK - 1) // _CHUNK):
-        _field_chunk(chunk, points, V, FV, FE, EV, elen, A2, sn, ce, de, vpush, epush, faces_on,
-                     edges_on, want_h, want_g, H, G)
+_field_serial = serial_twin(_field_kernel)
 
 
 # ---------------------------------------------------------------------------------------------

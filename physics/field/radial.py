@@ -35,10 +35,11 @@ Surfaces: a point within 1e-9 of the part size of a charged wall or a top/bottom
 from __future__ import annotations
 
 import math
-import types
 
 import numpy as np
 from numba import njit, prange
+
+from trapscape.physics.field.engine import serial_twin
 
 # Gauss-Legendre nodes per panel in s = asinh(dphi / eps) and the panels' width: against 24 nodes
 # on panels of 0.4, the largest errors at 0.5 % to 50 % of the wall were 2e-8 of |H| and 1e-4 of
@@ -227,19 +228,10 @@ def _kernel(points, a, b, height, angle, m, nodes, weights, panel_width):
     return result
 
 
-def _serial_copy(function):
-    """The function's code under another name: numba's disk cache names a kernel's file by its
-    module, name and first line, not by its options, so a serial and a parallel build of one
-    function would load each other's code (tests/viewers/test_kernel_cache.py)."""
-    copy = types.FunctionType(function.__code__, function.__globals__, function.__name__ + "_serial")
-    copy.__qualname__ = copy.__name__
-    return copy
-
-
 # small batches (the trap search's refinements and contact steps) run on one thread: starting the
 # parallel region cost more than the work for ten points on a busy machine
 _radial_kernel = njit(cache=True, parallel=True)(_kernel)
-_radial_kernel_serial = njit(cache=True)(_serial_copy(_kernel))
+_radial_kernel_serial = serial_twin(_radial_kernel)
 SERIAL_BELOW = 64  # points
 
 
