@@ -393,8 +393,10 @@ class FieldModel:
         reach = np.minimum(ceilings.min(axis=1), best)
         meshes, forest = self._mesh_forest()
         for column, k in enumerate(others):
+            if k in meshes:
+                continue
             todo = floors[:, column] <= reach
-            if k not in meshes and todo.any():
+            if todo.any():
                 magnet = self.magnets[k]
                 best[todo] = np.minimum(best[todo],
                                         shape_of(magnet).sdf(magnet, bodies[column][todo]))
