@@ -29,6 +29,7 @@ import numpy as np
 from numba import njit, prange
 
 from trapscape.physics.field.engine import serial_twin
+from trapscape.physics.field.flat_regions import add_regions, flat_regions
 
 SURFACE_TOL = 1e-12  # relative to the mesh size; the same convention as physics.field.cuboid
 EDGE_PUSH = 1e-9  # relative to the mesh size
@@ -373,11 +374,9 @@ _field_serial = serial_twin(_field_kernel)
 # public functions
 
 
-def _charges(tables: MeshTables, magnetization) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def _charges(tables: MeshTables, sigma: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """sigma_f n_f (F, 3), the edge-log coefficients c_e (E, 3) and the solid-angle gradient
-    coefficients d_e (E, 3), all for M in A/m."""
-    M = np.asarray(magnetization, dtype=float).reshape(3)
-    sigma = tables.unit_normal @ M
+    coefficients d_e (E, 3) of face charges sigma_f, A/m."""
     sn = sigma[:, None] * tables.unit_normal
     n_edges = len(tables.edges)
     ce = np.zeros((n_edges, 3))
@@ -401,15 +400,43 @@ def _charged(sn, ce, de) -> tuple[np.ndarray, np.ndarray]:
     return nonzero(sn), nonzero(np.hstack([ce, de]))
 
 
+@dataclass(frozen=True, eq=False)
+class FaceSums:
+    """The charges of faces summed one by one: sigma n, edge coefficients, and the faces and
+    edges that carry any."""
+
+    sn: np.ndarray
+    ce: np.ndarray
+    de: np.ndarray
+    faces_on: np.ndarray
+    edges_on: np.ndarray
+
+
+def _face_sums(tables: MeshTables, sigma: np.ndarray) -> FaceSums:
+    sn, ce, de = _charges(tables, sigma)
+    sums = FaceSums(sn, ce, de, *_charged(sn, ce, de))
+    for array in vars(sums).values():
+        array.flags.writeable = False  # one copy serves every later call
+    return sums
+
+
 @lru_cache(maxsize=128)
 def _charge_tables(tables: MeshTables, magnetization: tuple) -> tuple:
-    """_charges and _charged of one mesh and M, remembered: a trap search asks for the same part
-    thousands of times."""
-    sn, ce, de = _charges(tables, magnetization)
-    shared = (sn, ce, de, *_charged(sn, ce, de))
-    for array in shared:
-        array.flags.writeable = False  # one copy serves every later call
-    return shared
+    """The faces summed one by one, the flat regions summed by their boundary (or None), and
+    for each region its faces alone (for points in its plane), remembered: a trap search asks
+    for the same part thousands of times."""
+    sigma = tables.unit_normal @ np.asarray(magnetization, dtype=float)
+    regions = flat_regions(tables, sigma)
+    if regions is None:
+        return _face_sums(tables, sigma), None, ()
+    rest = sigma.copy()
+    rest[regions.faces] = 0.0
+    alone = []
+    for faces in regions.face_groups:
+        own = np.zeros_like(sigma)
+        own[faces] = sigma[faces]
+        alone.append(_face_sums(tables, own))
+    return _face_sums(tables, rest), regions, tuple(alone)
 
 
 def _scaled_points(tables: MeshTables, points) -> np.ndarray:
@@ -417,16 +444,34 @@ def _scaled_points(tables: MeshTables, points) -> np.ndarray:
     return np.ascontiguousarray((points - tables.centre) / tables.scale)
 
 
+def _sum_faces(p, t: MeshTables, sums: FaceSums, want_h, want_g, H, G):
+    """Writes the faces' 4 pi H and 4 pi grad H (scaled units) into H, G."""
+    work = len(p) * len(sums.faces_on)
+    kernel = _field_kernel if work >= PARALLEL_MIN_WORK else _field_serial
+    kernel(p, t.vertices, t.faces, t.face_edges, t.edges, t.edge_length, t.area_normal,
+           sums.sn, sums.ce, sums.de, t.vertex_push, t.edge_push, sums.faces_on, sums.edges_on,
+           want_h, want_g, H, G)
+
+
 def _run_field(points, vertices, faces, magnetization, want_h, want_g):
     t = mesh_tables(vertices, faces)
     M = tuple(float(m) for m in np.asarray(magnetization, dtype=float).reshape(3))
-    sn, ce, de, faces_on, edges_on = _charge_tables(t, M)
+    sums, regions, alone = _charge_tables(t, M)
     p = _scaled_points(t, points)
-    H = np.empty((len(p), 3)) if want_h else np.empty((1, 3))
-    G = np.empty((len(p), 3, 3)) if want_g else np.empty((1, 3, 3))
-    kernel = _field_kernel if len(p) * len(faces_on) >= PARALLEL_MIN_WORK else _field_serial
-    kernel(p, t.vertices, t.faces, t.face_edges, t.edges, t.edge_length, t.area_normal,
-           sn, ce, de, t.vertex_push, t.edge_push, faces_on, edges_on, want_h, want_g, H, G)
+    H = np.zeros((len(p), 3)) if want_h else np.empty((1, 3))
+    G = np.zeros((len(p), 3, 3)) if want_g else np.empty((1, 3, 3))
+    if regions is None or len(sums.faces_on):
+        _sum_faces(p, t, sums, want_h, want_g, H, G)
+    if regions is not None:
+        in_plane = add_regions(p, regions, want_h, want_g, H, G)
+        for g in np.flatnonzero(in_plane.any(axis=0)):
+            rows = np.flatnonzero(in_plane[:, g])
+            H_g, G_g = np.zeros((len(rows), 3)), np.zeros((len(rows), 3, 3))
+            _sum_faces(np.ascontiguousarray(p[rows]), t, alone[g], True, True, H_g, G_g)
+            if want_h:
+                H[rows] += H_g
+            if want_g:
+                G[rows] += G_g
     # the unused output is a never-written placeholder: scale only what was computed
     return (H * _INV_4PI if want_h else None), (G * (_INV_4PI / t.scale) if want_g else None)
 

@@ -1,0 +1,432 @@
+"""Coplanar faces of one charge summed through their boundary: the exact field of a flat region
+for about log(n) of its n boundary edges.
+
+A CAD cylinder's end cap is a fan of n long thin triangles from its centre; summing them costs n
+triangles at every point, and no near/far split by triangle helps, since every sliver passes the
+centre. The faces of one plane and one charge sigma form a flat region; its field is the sum,
+over the boundary edges a -> b, of the field of the signed triangle (c, a, b), c any point of the
+plane (the triangles cover the region once and cancel outside it). A chain of consecutive
+boundary edges from v_i to v_j adds up to the triangle (c, v_i, v_j) plus the lens between the
+chain and its chord (the polygon v_i ... v_j). Each loop of the boundary is halved recursively;
+far from a chain's ball the lens enters by its charge, dipole and quadrupole moments, near it the
+chain is split, down to single edges. The chains used cover the loop, so the edges c -> v of
+their triangles cancel in pairs: a chain adds the solid angle of (c, v_i, v_j) and the logarithm
+of its chord (derived here from the face formula of physics/field/polyhedron.py, Guptasarma &
+Singh, Geophysics 64, 70 (1999); the multipole terms are the Taylor series of 1/|x - y|).
+
+Error: the remainder of a quadrupole expansion of charges within rho of its centre, at r >= 2 rho,
+is at most (|q| / 4 pi) 24 rho^3 / r^5 in H and (|q| / 4 pi) 128 rho^3 / r^6 in grad H (the
+Legendre series from degree 3, bounded term by term; derived here). A chain's lens is used only
+where both are below NODE_TOLERANCE |sigma| (lengths in units of the mesh size), so a point's
+error is below NODE_TOLERANCE times the number of chains used (a few hundred).
+
+Units as in polyhedron.py: scaled lengths, and the kernels add 4 pi H and 4 pi grad H.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from numba import njit, prange
+
+from trapscape.physics.field.engine import serial_twin
+
+MIN_FACES = 500  # fewer coplanar faces are summed face by face, which costs about the same
+NODE_TOLERANCE = 1e-9  # a chain's lens error bound, relative to |sigma| (and |sigma| / L)
+KEY_TOLERANCE = 1e-10  # normals, plane offsets and charges equal to this are one region
+PLANE_TOLERANCE = 1e-10  # a point this near a region's plane, inside its box, is summed by face
+_STACK = 128
+# Points below which the regions are summed on one thread: a parallel call costs a thread start
+# and join (about 1 ms of CPU on a busy machine), more than a few dozen points take.
+PARALLEL_MIN_POINTS = 64
+
+
+@dataclass(frozen=True, eq=False)
+class FlatRegions:
+    """The flat regions of one mesh and magnetisation, packed for the kernel.
+
+    Groups g: normal (g, 3), sigma (g,), centre (g, 3) the fan point c, low/high (g, 3) the box of
+    its faces; loops of group g are loop_first[g]:loop_first[g + 1]; loop k's tree starts at node
+    root[k]. Nodes: the chain v[lo] .. v[hi] of the packed loop vertices (each loop repeats its
+    first vertex at its end), children left/right (-1 for a single edge), ball centre, reach2 (the
+    squared distance beyond which the lens's moments are used), and the lens's charge, dipole and
+    quadrupole about the centre (sigma included)."""
+
+    face_groups: tuple  # (faces of group g) for each g, ids into MeshTables.faces
+    normal: np.ndarray
+    sigma: np.ndarray
+    centre: np.ndarray
+    low: np.ndarray
+    high: np.ndarray
+    loop_first: np.ndarray
+    root: np.ndarray
+    vertices: np.ndarray
+    lo: np.ndarray
+    hi: np.ndarray
+    left: np.ndarray
+    right: np.ndarray
+    ball: np.ndarray
+    reach2: np.ndarray
+    charge: np.ndarray
+    dipole: np.ndarray
+    quadrupole: np.ndarray
+
+    @property
+    def faces(self) -> np.ndarray:
+        return np.concatenate(self.face_groups)
+
+
+# ---------------------------------------------------------------------------------------------
+# grouping and loops
+
+
+def _groups(tables, sigma) -> list:
+    """Face ids of each set of at least MIN_FACES charged faces sharing a plane and a charge."""
+    scale = max(float(np.abs(sigma).max()), np.finfo(float).tiny)
+    charged = np.flatnonzero(np.abs(sigma) > 1e-12 * scale)
+    if len(charged) < MIN_FACES:
+        return []
+    n = tables.unit_normal[charged]
+    offset = np.einsum("ij,ij->i", n, tables.vertices[tables.faces[charged, 0]])
+    key = np.round(np.column_stack([n, offset, sigma[charged] / scale]) / KEY_TOLERANCE)
+    _, inverse, counts = np.unique(key, axis=0, return_inverse=True, return_counts=True)
+    inverse = inverse.ravel()
+    return [charged[inverse == g] for g in np.flatnonzero(counts >= MIN_FACES)]
+
+
+def _loops(faces: np.ndarray, vertex_count: int) -> list | None:
+    """The boundary loops (vertex ids, in the faces' winding) of a set of faces; None when a
+    vertex is met twice on the boundary (two loops touching), which the faces then handle."""
+    directed = np.concatenate([faces[:, [0, 1]], faces[:, [1, 2]], faces[:, [2, 0]]])
+    forward = directed[:, 0] * vertex_count + directed[:, 1]
+    backward = directed[:, 1] * vertex_count + directed[:, 0]
+    boundary = directed[~np.isin(forward, backward)]
+    if len(boundary) == 0 or len(np.unique(boundary[:, 0])) != len(boundary):
+        return None
+    following = dict(zip(boundary[:, 0].tolist(), boundary[:, 1].tolist()))
+    loops = []
+    while following:
+        start = next(iter(following))
+        loop = [start]
+        nxt = following.pop(start)
+        while nxt != start:
+            loop.append(nxt)
+            nxt = following.pop(nxt, None)
+            if nxt is None:
+                return None
+        loops.append(np.array(loop, dtype=np.int64))
+    return loops
+
+
+# ---------------------------------------------------------------------------------------------
+# the chain trees
+
+
+@njit(cache=True)
+def _split(lo, hi, left, right, first_node, first, last):
+    """Nodes of the chain first .. last (vertex ids), halved down to single edges; parents before
+    children. Returns the number of nodes written."""
+    count = 0
+    stack_lo = np.empty(_STACK, np.int64)
+    stack_hi = np.empty(_STACK, np.int64)
+    stack_parent = np.empty(_STACK, np.int64)
+    stack_side = np.empty(_STACK, np.int64)
+    stack_lo[0], stack_hi[0], stack_parent[0], stack_side[0] = first, last, -1, 0
+    top = 1
+    while top > 0:
+        top -= 1
+        a, b, parent, side = stack_lo[top], stack_hi[top], stack_parent[top], stack_side[top]
+        k = first_node + count
+        count += 1
+        lo[k], hi[k], left[k], right[k] = a, b, -1, -1
+        if parent >= 0:
+            if side == 0:
+                left[parent] = k
+            else:
+                right[parent] = k
+        if b - a > 1:
+            m = (a + b) // 2
+            stack_lo[top], stack_hi[top], stack_parent[top], stack_side[top] = m, b, k, 1
+            top += 1
+            stack_lo[top], stack_hi[top], stack_parent[top], stack_side[top] = a, m, k, 0
+            top += 1
+    return count
+
+
+@njit(cache=True)
+def _moments(v, n, sigma, lo, hi, left, right, first_node, count, ball, radius, area, charge,
+             dipole, quadrupole):
+    """Ball, absolute lens area and the lens moments of nodes first_node .. + count, children
+    first: a lens is its children's lenses and the triangle (v_lo, v_mid, v_hi)."""
+    for k in range(first_node + count - 1, first_node - 1, -1):
+        a, b = lo[k], hi[k]
+        low = v[a].copy()
+        high = v[a].copy()
+        for i in range(a, b + 1):
+            for j in range(3):
+                low[j] = min(low[j], v[i, j])
+                high[j] = max(high[j], v[i, j])
+        y0 = 0.5 * (low + high)
+        ball[k] = y0
+        r2 = 0.0
+        for i in range(a, b + 1):
+            d = v[i] - y0
+            r2 = max(r2, d[0] * d[0] + d[1] * d[1] + d[2] * d[2])
+        radius[k] = math.sqrt(r2)
+        if left[k] < 0:
+            continue
+        for child in (left[k], right[k]):
+            d = ball[child] - y0
+            q = charge[child]
+            D = dipole[child]
+            charge[k] += q
+            dipole[k] += D + q * d
+            quadrupole[k] += (quadrupole[child] + np.outer(D, d) + np.outer(d, D)
+                              + q * np.outer(d, d))
+            area[k] += area[child]
+        m = (a + b) // 2
+        p0, p1, p2 = v[a] - y0, v[m] - y0, v[b] - y0
+        cross = np.cross(p1 - p0, p2 - p0)
+        signed = 0.5 * (cross[0] * n[0] + cross[1] * n[1] + cross[2] * n[2])
+        q = sigma * signed
+        s = p0 + p1 + p2
+        charge[k] += q
+        dipole[k] += q * s / 3.0
+        quadrupole[k] += (q / 12.0) * (np.outer(p0, p0) + np.outer(p1, p1) + np.outer(p2, p2)
+                                       + np.outer(s, s))
+        area[k] += abs(signed)
+
+
+def _reach2(radius: np.ndarray, area: np.ndarray) -> np.ndarray:
+    """Squared distance from a ball's centre beyond which its lens's quadrupole is within
+    NODE_TOLERANCE (the module's bound; at least twice the radius)."""
+    load = area * radius**3 / (4.0 * math.pi * NODE_TOLERANCE)
+    reach = np.maximum.reduce([2.0 * radius, (24.0 * load) ** 0.2, (128.0 * load) ** (1.0 / 6.0)])
+    return reach * reach
+
+
+def flat_regions(tables, sigma: np.ndarray) -> FlatRegions | None:
+    """The flat regions of a mesh whose faces carry the charges sigma, or None if it has none.
+
+    Parameters
+    ----------
+    tables : MeshTables
+        physics.field.polyhedron's tables (scaled units).
+    sigma : numpy.ndarray, shape (F,)
+        M . n of each face, A/m.
+
+    Returns
+    -------
+    FlatRegions or None
+    """
+    groups, loops_of = [], []
+    for faces in _groups(tables, sigma):
+        loops = _loops(tables.faces[faces], len(tables.vertices))
+        if loops is not None:
+            groups.append(faces)
+            loops_of.append(loops)
+    if not groups:
+        return None
+    v = tables.vertices
+    loop_vertices = [np.append(loop, loop[0]) for loops in loops_of for loop in loops]
+    sizes = np.array([len(ids) for ids in loop_vertices])
+    starts = np.concatenate([[0], np.cumsum(sizes)[:-1]])
+    packed = np.ascontiguousarray(v[np.concatenate(loop_vertices)])
+    total_nodes = int(np.sum(2 * (sizes - 1) - 1))
+    lo, hi, left, right = (np.empty(total_nodes, np.int64) for _ in range(4))
+    ball = np.zeros((total_nodes, 3))
+    radius, area, charge = (np.zeros(total_nodes) for _ in range(3))
+    dipole = np.zeros((total_nodes, 3))
+    quadrupole = np.zeros((total_nodes, 3, 3))
+    normal = np.array([tables.unit_normal[faces].mean(axis=0) for faces in groups])
+    normal /= np.linalg.norm(normal, axis=1, keepdims=True)
+    group_sigma = np.array([sigma[faces].mean() for faces in groups])
+    roots, loop_first, node = [], [0], 0
+    loop_index = 0
+    for g, loops in enumerate(loops_of):
+        for _ in loops:
+            first, last = starts[loop_index], starts[loop_index] + sizes[loop_index] - 1
+            count = _split(lo, hi, left, right, node, first, last)
+            _moments(packed, normal[g], group_sigma[g], lo, hi, left, right, node, count, ball,
+                     radius, area, charge, dipole, quadrupole)
+            roots.append(node)
+            node += count
+            loop_index += 1
+        loop_first.append(loop_index)
+    corners = [v[tables.faces[faces]].reshape(-1, 3) for faces in groups]
+    return FlatRegions(
+        face_groups=tuple(groups), normal=normal, sigma=group_sigma,
+        centre=np.array([c.mean(axis=0) for c in corners]),
+        low=np.array([c.min(axis=0) for c in corners]),
+        high=np.array([c.max(axis=0) for c in corners]),
+        loop_first=np.array(loop_first, np.int64), root=np.array(roots, np.int64),
+        vertices=packed, lo=lo, hi=hi, left=left, right=right, ball=ball,
+        reach2=_reach2(radius, area), charge=charge, dipole=dipole, quadrupole=quadrupole)
+
+
+# ---------------------------------------------------------------------------------------------
+# the field
+
+
+@njit(cache=True)
+def _chord(px, py, pz, c, a, b, n, sigma, want_h, want_g, H, G):
+    """4 pi H (and grad) of a chain's chord a -> b seen from the fan point c: sigma times the
+    solid angle of (c, a, b) along n, plus the chord's edge logarithm along its in-plane normal."""
+    cx, cy, cz = c[0] - px, c[1] - py, c[2] - pz
+    ax, ay, az = a[0] - px, a[1] - py, a[2] - pz
+    bx, by, bz = b[0] - px, b[1] - py, b[2] - pz
+    Rc = math.sqrt(cx * cx + cy * cy + cz * cz)
+    Ra = math.sqrt(ax * ax + ay * ay + az * az)
+    Rb = math.sqrt(bx * bx + by * by + bz * bz)
+    ab = ax * bx + ay * by + az * bz
+    tx, ty, tz = b[0] - a[0], b[1] - a[1], b[2] - a[2]
+    l = math.sqrt(tx * tx + ty * ty + tz * tz)
+    RR = Ra * Rb
+    ux = ay * bz - az * by
+    uy = az * bx - ax * bz
+    uz = ax * by - ay * bx
+    if ab >= 0.0:
+        q = RR + ab
+    else:
+        q = (ux * ux + uy * uy + uz * uz) / (RR - ab)
+    # the chord's in-plane normal m = t x n
+    mx = (ty * n[2] - tz * n[1]) / l
+    my = (tz * n[0] - tx * n[2]) / l
+    mz = (tx * n[1] - ty * n[0]) / l
+    if want_h:
+        # solid angle of (c, a, b): r_c . (r_a x r_b) over Van Oosterom & Strackee's denominator
+        num = -(cx * ux + cy * uy + cz * uz)
+        den = Rc * Ra * Rb + (cx * ax + cy * ay + cz * az) * Rb + ab * Rc \
+            + (bx * cx + by * cy + bz * cz) * Ra
+        omega = 2.0 * math.atan2(num, den)
+        s = Ra + Rb + l
+        L = math.log(s * s / (2.0 * q))
+        H[0] += sigma * (n[0] * omega + mx * L)
+        H[1] += sigma * (n[1] * omega + my * L)
+        H[2] += sigma * (n[2] * omega + mz * L)
+    if want_g:
+        t = l / q
+        ia, ib = 1.0 / Ra, 1.0 / Rb
+        gl = (t * (ax * ia + bx * ib), t * (ay * ia + by * ib), t * (az * ia + bz * ib))
+        w = -(Ra + Rb) * ia * ib / q
+        bs = (w * ux, w * uy, w * uz)
+        m = (mx, my, mz)
+        for i in range(3):
+            for j in range(3):
+                G[i, j] += sigma * (m[i] * gl[j] + n[i] * bs[j])
+
+
+@njit(cache=True)
+def _lens(px, py, pz, y0, Q, D, S, want_h, want_g, H, G):
+    """4 pi H (and grad) of charge Q, dipole D and second moments S about y0: minus the gradient
+    of Q/r - D . grad(1/r) + (1/2) S : grad grad(1/r), R = x - y0 (Taylor series of 1/|x - y|)."""
+    R0, R1, R2 = px - y0[0], py - y0[1], pz - y0[2]
+    r2 = R0 * R0 + R1 * R1 + R2 * R2
+    r = math.sqrt(r2)
+    i3 = 1.0 / (r2 * r)
+    i5 = i3 / r2
+    i7 = i5 / r2
+    DR = D[0] * R0 + D[1] * R1 + D[2] * R2
+    q0 = S[0, 0] * R0 + S[0, 1] * R1 + S[0, 2] * R2
+    q1 = S[1, 0] * R0 + S[1, 1] * R1 + S[1, 2] * R2
+    q2 = S[2, 0] * R0 + S[2, 1] * R1 + S[2, 2] * R2
+    s = R0 * q0 + R1 * q1 + R2 * q2
+    tr = S[0, 0] + S[1, 1] + S[2, 2]
+    # H_m = -(Q t_m - D_i t_im + S_ij t_ijm / 2), t the derivatives of 1/r
+    a = Q * i3 + 3.0 * DR * i5 + 7.5 * s * i7 - 1.5 * tr * i5
+    if want_h:
+        H[0] += a * R0 - D[0] * i3 - 3.0 * q0 * i5
+        H[1] += a * R1 - D[1] * i3 - 3.0 * q1 * i5
+        H[2] += a * R2 - D[2] * i3 - 3.0 * q2 * i5
+    if want_g:
+        i9 = i7 / r2
+        R = (R0, R1, R2)
+        Dv = (D[0], D[1], D[2])
+        qv = (q0, q1, q2)
+        # G_mk = -(Q t_mk - D_i t_imk + S_ij t_ijmk / 2)
+        c_rr = -3.0 * Q * i5 - 15.0 * DR * i7 - 52.5 * s * i9 + 7.5 * tr * i7
+        c_d = a
+        for m in range(3):
+            for k in range(3):
+                g = c_rr * R[m] * R[k] + 3.0 * (Dv[m] * R[k] + Dv[k] * R[m]) * i5 \
+                    + 15.0 * (qv[m] * R[k] + qv[k] * R[m]) * i7 - 3.0 * S[m, k] * i5
+                if m == k:
+                    g += c_d
+                G[m, k] += g
+
+
+@njit(cache=True)
+def _region_point(px, py, pz, g, normal, sigma, centre, loop_first, root, v, lo, hi, left, right,
+                  ball, reach2, charge, dipole, quadrupole, want_h, want_g, H, G, stack):
+    n = normal[g]
+    for loop in range(loop_first[g], loop_first[g + 1]):
+        stack[0] = root[loop]
+        top = 1
+        while top > 0:
+            top -= 1
+            k = stack[top]
+            a, b = lo[k], hi[k]
+            if left[k] >= 0:
+                dx, dy, dz = px - ball[k, 0], py - ball[k, 1], pz - ball[k, 2]
+                if dx * dx + dy * dy + dz * dz < reach2[k]:
+                    stack[top] = right[k]
+                    stack[top + 1] = left[k]
+                    top += 2
+                    continue
+                _lens(px, py, pz, ball[k], charge[k], dipole[k], quadrupole[k], want_h, want_g,
+                      H, G)
+            if v[a, 0] != v[b, 0] or v[a, 1] != v[b, 1] or v[a, 2] != v[b, 2]:  # not a whole loop
+                _chord(px, py, pz, centre[g], v[a], v[b], n, sigma[g], want_h, want_g, H, G)
+
+
+@njit(cache=True, parallel=True, error_model="numpy")
+def _regions_kernel(points, normal, sigma, centre, low, high, loop_first, root, v, lo, hi, left,
+                    right, ball, reach2, charge, dipole, quadrupole, want_h, want_g, H, G, on_face):
+    """Adds the regions' 4 pi H and grad into H, G; on_face[m, g] marks the points in region g's
+    plane and box, left for the face-by-face sum."""
+    for m in prange(points.shape[0]):
+        px, py, pz = points[m, 0], points[m, 1], points[m, 2]
+        h = np.zeros(3)
+        gm = np.zeros((3, 3))
+        stack = np.empty(_STACK, np.int64)
+        for g in range(normal.shape[0]):
+            height = ((px - centre[g, 0]) * normal[g, 0] + (py - centre[g, 1]) * normal[g, 1]
+                      + (pz - centre[g, 2]) * normal[g, 2])
+            if (abs(height) <= PLANE_TOLERANCE
+                    and low[g, 0] - PLANE_TOLERANCE <= px <= high[g, 0] + PLANE_TOLERANCE
+                    and low[g, 1] - PLANE_TOLERANCE <= py <= high[g, 1] + PLANE_TOLERANCE
+                    and low[g, 2] - PLANE_TOLERANCE <= pz <= high[g, 2] + PLANE_TOLERANCE):
+                on_face[m, g] = True
+                continue
+            _region_point(px, py, pz, g, normal, sigma, centre, loop_first, root, v, lo, hi,
+                          left, right, ball, reach2, charge, dipole, quadrupole, want_h, want_g,
+                          h, gm, stack)
+        if want_h:
+            for i in range(3):
+                H[m, i] += h[i]
+        if want_g:
+            for i in range(3):
+                for j in range(3):
+                    G[m, i, j] += gm[i, j]
+
+
+_regions_serial = serial_twin(_regions_kernel)
+
+
+def add_regions(points: np.ndarray, regions: FlatRegions, want_h: bool, want_g: bool,
+                H: np.ndarray, G: np.ndarray) -> np.ndarray:
+    """Add the flat regions' 4 pi H and 4 pi grad H (scaled units) at scaled points into H, G.
+
+    Returns
+    -------
+    numpy.ndarray of bool, shape (N, g)
+        The points in a region's plane and box, which the caller sums face by face instead.
+    """
+    on_face = np.zeros((len(points), len(regions.sigma)), bool)
+    r = regions
+    kernel = _regions_kernel if len(points) >= PARALLEL_MIN_POINTS else _regions_serial
+    kernel(points, r.normal, r.sigma, r.centre, r.low, r.high, r.loop_first, r.root,
+                    r.vertices, r.lo, r.hi, r.left, r.right, r.ball, r.reach2, r.charge, r.dipole,
+                    r.quadrupole, want_h, want_g, H, G, on_face)
+    return on_face
