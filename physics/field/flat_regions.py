@@ -71,6 +71,8 @@ class FlatRegions:
     charge: np.ndarray
     dipole: np.ndarray
     quadrupole: np.ndarray
+    chord_length: np.ndarray
+    chord_normal: np.ndarray
 
     @property
     def faces(self) -> np.ndarray:
@@ -155,10 +157,12 @@ def _split(lo, hi, left, right, first_node, first, last):
 
 
 @njit(cache=True)
-def _moments(v, n, sigma, lo, hi, left, right, first_node, count, ball, radius, area, charge,
-             dipole, quadrupole):
-    """Ball, absolute lens area and the lens moments of nodes first_node .. + count, children
-    first: a lens is its children's lenses and the triangle (v_lo, v_mid, v_hi)."""
+def _moments(v, n, sigma, lo, hi, left, right, first_node, count, ball, radius, area, spread,
+             charge, dipole, quadrupole):
+    """Ball, the lens moments, and its absolute area and spread (the integral of |y - y0|^2 over
+    |area|, which bounds the higher moments) of nodes first_node .. + count, children first: a
+    lens is its children's lenses and the triangle (v_lo, v_mid, v_hi)."""
+    centroid = np.zeros((len(lo), 3))  # of |area|, about the ball's centre
     for k in range(first_node + count - 1, first_node - 1, -1):
         a, b = lo[k], hi[k]
         low = v[a].copy()
@@ -184,6 +188,9 @@ def _moments(v, n, sigma, lo, hi, left, right, first_node, count, ball, radius, 
             dipole[k] += D + q * d
             quadrupole[k] += (quadrupole[child] + np.outer(D, d) + np.outer(d, D)
                               + q * np.outer(d, d))
+            spread[k] += (spread[child] + 2.0 * np.dot(d, centroid[child])
+                          + area[child] * np.dot(d, d))
+            centroid[k] += centroid[child] + area[child] * d
             area[k] += area[child]
         m = (a + b) // 2
         p0, p1, p2 = v[a] - y0, v[m] - y0, v[b] - y0
@@ -196,13 +203,34 @@ def _moments(v, n, sigma, lo, hi, left, right, first_node, count, ball, radius, 
         quadrupole[k] += (q / 12.0) * (np.outer(p0, p0) + np.outer(p1, p1) + np.outer(p2, p2)
                                        + np.outer(s, s))
         area[k] += abs(signed)
+        centroid[k] += abs(signed) * s / 3.0
+        spread[k] += (abs(signed) / 12.0) * (np.dot(p0, p0) + np.dot(p1, p1) + np.dot(p2, p2)
+                                             + np.dot(s, s))
 
 
-def _reach2(radius: np.ndarray, area: np.ndarray) -> np.ndarray:
-    """Squared distance from a ball's centre beyond which its lens's quadrupole is within
-    NODE_TOLERANCE (the module's bound; at least twice the radius)."""
-    load = area * radius**3 / (4.0 * math.pi * NODE_TOLERANCE)
-    reach = np.maximum.reduce([2.0 * radius, (24.0 * load) ** 0.2, (128.0 * load) ** (1.0 / 6.0)])
+def _reach2(radius: np.ndarray, spread: np.ndarray) -> np.ndarray:
+    """Squared distance from a ball's centre beyond which its lens's quadrupole expansion is
+    within NODE_TOLERANCE, at least twice the radius.
+
+    Past the quadrupole, degree l adds at most spread rho^(l - 2) / r^(l + 1) to the potential
+    (|y - y0|^l <= rho^(l - 2) |y - y0|^2); its gradient at most sqrt(2) (l + 1) times that over r
+    (Bernstein's inequality for P_l), its second derivatives 2 (l + 1) (l + 2) over r^2 (derived
+    here). Summed over l >= 3 with u = rho / r: (sqrt 2 / 4 pi) spread rho sum (j + 4) u^j / r^5
+    for H, (2 / 4 pi) spread rho sum (j + 4) (j + 5) u^j / r^6 for grad H."""
+    j = np.arange(200.0)
+    load = spread * radius / (4.0 * math.pi * NODE_TOLERANCE)
+
+    def needed(reach):
+        u = np.minimum(radius / np.maximum(reach, 1e-300), 0.5)[:, None]
+        h_sum = ((j + 4.0) * u**j).sum(axis=1)
+        g_sum = ((j + 4.0) * (j + 5.0) * u**j).sum(axis=1)
+        return np.maximum.reduce([2.0 * radius, (math.sqrt(2.0) * load * h_sum) ** 0.2,
+                                  (2.0 * load * g_sum) ** (1.0 / 6.0)])
+
+    reach = 2.0 * radius
+    for _ in range(4):  # the sums shrink with u: a few rounds settle r
+        reach = needed(reach)
+    reach = np.maximum(reach, needed(reach))  # the bound holds at r (needed(r) <= r)
     return reach * reach
 
 
@@ -236,25 +264,31 @@ def flat_regions(tables, sigma: np.ndarray) -> FlatRegions | None:
     total_nodes = int(np.sum(2 * (sizes - 1) - 1))
     lo, hi, left, right = (np.empty(total_nodes, np.int64) for _ in range(4))
     ball = np.zeros((total_nodes, 3))
-    radius, area, charge = (np.zeros(total_nodes) for _ in range(3))
+    radius, area, spread, charge = (np.zeros(total_nodes) for _ in range(4))
     dipole = np.zeros((total_nodes, 3))
     quadrupole = np.zeros((total_nodes, 3, 3))
     normal = np.array([tables.unit_normal[faces].mean(axis=0) for faces in groups])
     normal /= np.linalg.norm(normal, axis=1, keepdims=True)
     group_sigma = np.array([sigma[faces].mean() for faces in groups])
-    roots, loop_first, node = [], [0], 0
+    roots, loop_first, group_nodes, node = [], [0], [0], 0
     loop_index = 0
     for g, loops in enumerate(loops_of):
         for _ in loops:
             first, last = starts[loop_index], starts[loop_index] + sizes[loop_index] - 1
             count = _split(lo, hi, left, right, node, first, last)
             _moments(packed, normal[g], group_sigma[g], lo, hi, left, right, node, count, ball,
-                     radius, area, charge, dipole, quadrupole)
+                     radius, area, spread, charge, dipole, quadrupole)
             roots.append(node)
             node += count
             loop_index += 1
         loop_first.append(loop_index)
+        group_nodes.append(node)
     corners = [v[tables.faces[faces]].reshape(-1, 3) for faces in groups]
+    chord = packed[hi] - packed[lo]
+    chord_length = np.linalg.norm(chord, axis=1)
+    node_normal = np.repeat(normal, np.diff(group_nodes), axis=0)
+    unit = np.divide(chord, chord_length[:, None], out=np.zeros_like(chord),
+                     where=chord_length[:, None] > 0)
     return FlatRegions(
         face_groups=tuple(groups), normal=normal, sigma=group_sigma,
         centre=np.array([c.mean(axis=0) for c in corners]),
@@ -262,26 +296,23 @@ def flat_regions(tables, sigma: np.ndarray) -> FlatRegions | None:
         high=np.array([c.max(axis=0) for c in corners]),
         loop_first=np.array(loop_first, np.int64), root=np.array(roots, np.int64),
         vertices=packed, lo=lo, hi=hi, left=left, right=right, ball=ball,
-        reach2=_reach2(radius, area), charge=charge, dipole=dipole, quadrupole=quadrupole)
+        reach2=_reach2(radius, spread), charge=charge, dipole=dipole, quadrupole=quadrupole,
+        chord_length=chord_length, chord_normal=np.ascontiguousarray(np.cross(unit, node_normal)))
 
 
 # ---------------------------------------------------------------------------------------------
 # the field
 
 
-@njit(cache=True)
-def _chord(px, py, pz, c, a, b, n, sigma, want_h, want_g, H, G):
-    """4 pi H (and grad) of a chain's chord a -> b seen from the fan point c: sigma times the
-    solid angle of (c, a, b) along n, plus the chord's edge logarithm along its in-plane normal."""
-    cx, cy, cz = c[0] - px, c[1] - py, c[2] - pz
-    ax, ay, az = a[0] - px, a[1] - py, a[2] - pz
-    bx, by, bz = b[0] - px, b[1] - py, b[2] - pz
-    Rc = math.sqrt(cx * cx + cy * cy + cz * cz)
-    Ra = math.sqrt(ax * ax + ay * ay + az * az)
-    Rb = math.sqrt(bx * bx + by * by + bz * bz)
+@njit(cache=True, inline="always")
+def _chord(cx, cy, cz, Rc, ax, ay, az, Ra, bx, by, bz, Rb, l, k, chord_normal, g, normal, sigma,
+           want_h, want_g, H, G):
+    """4 pi H (and grad) of a chain's chord a -> b seen from the fan point c (r = vertex - point,
+    R = |r|): sigma times the solid angle of (c, a, b) along n, plus the chord's edge logarithm
+    along its in-plane normal m = t x n (chain k, region g)."""
+    m0, m1, m2 = chord_normal[k, 0], chord_normal[k, 1], chord_normal[k, 2]
+    n0, n1, n2 = normal[g, 0], normal[g, 1], normal[g, 2]
     ab = ax * bx + ay * by + az * bz
-    tx, ty, tz = b[0] - a[0], b[1] - a[1], b[2] - a[2]
-    l = math.sqrt(tx * tx + ty * ty + tz * tz)
     RR = Ra * Rb
     ux = ay * bz - az * by
     uy = az * bx - ax * bz
@@ -290,83 +321,95 @@ def _chord(px, py, pz, c, a, b, n, sigma, want_h, want_g, H, G):
         q = RR + ab
     else:
         q = (ux * ux + uy * uy + uz * uz) / (RR - ab)
-    # the chord's in-plane normal m = t x n
-    mx = (ty * n[2] - tz * n[1]) / l
-    my = (tz * n[0] - tx * n[2]) / l
-    mz = (tx * n[1] - ty * n[0]) / l
+    den, num = 1.0, 0.0
     if want_h:
-        # solid angle of (c, a, b): r_c . (r_a x r_b) over Van Oosterom & Strackee's denominator
+        # solid angle of (c, a, b) = 2 arg(den + i num), r_c . (r_a x r_b) over Van Oosterom &
+        # Strackee's denominator; the caller adds the args as one product's
         num = -(cx * ux + cy * uy + cz * uz)
-        den = Rc * Ra * Rb + (cx * ax + cy * ay + cz * az) * Rb + ab * Rc \
+        den = Rc * RR + (cx * ax + cy * ay + cz * az) * Rb + ab * Rc \
             + (bx * cx + by * cy + bz * cz) * Ra
-        omega = 2.0 * math.atan2(num, den)
         s = Ra + Rb + l
-        L = math.log(s * s / (2.0 * q))
-        H[0] += sigma * (n[0] * omega + mx * L)
-        H[1] += sigma * (n[1] * omega + my * L)
-        H[2] += sigma * (n[2] * omega + mz * L)
+        L = sigma * math.log(s * s / (2.0 * q))
+        H[0] += m0 * L
+        H[1] += m1 * L
+        H[2] += m2 * L
     if want_g:
-        t = l / q
         ia, ib = 1.0 / Ra, 1.0 / Rb
-        gl = (t * (ax * ia + bx * ib), t * (ay * ia + by * ib), t * (az * ia + bz * ib))
-        w = -(Ra + Rb) * ia * ib / q
-        bs = (w * ux, w * uy, w * uz)
-        m = (mx, my, mz)
-        for i in range(3):
-            for j in range(3):
-                G[i, j] += sigma * (m[i] * gl[j] + n[i] * bs[j])
+        t = sigma * l / q
+        gx, gy, gz = t * (ax * ia + bx * ib), t * (ay * ia + by * ib), t * (az * ia + bz * ib)
+        w = -sigma * (Ra + Rb) * ia * ib / q
+        sx, sy, sz = w * ux, w * uy, w * uz
+        G[0, 0] += m0 * gx + n0 * sx
+        G[0, 1] += m0 * gy + n0 * sy
+        G[0, 2] += m0 * gz + n0 * sz
+        G[1, 0] += m1 * gx + n1 * sx
+        G[1, 1] += m1 * gy + n1 * sy
+        G[1, 2] += m1 * gz + n1 * sz
+        G[2, 0] += m2 * gx + n2 * sx
+        G[2, 1] += m2 * gy + n2 * sy
+        G[2, 2] += m2 * gz + n2 * sz
+    return den, num
 
 
-@njit(cache=True)
-def _lens(px, py, pz, y0, Q, D, S, want_h, want_g, H, G):
+@njit(cache=True, inline="always")
+def _lens(px, py, pz, k, ball, charge, dipole, quadrupole, want_h, want_g, H, G):
     """4 pi H (and grad) of charge Q, dipole D and second moments S about y0: minus the gradient
-    of Q/r - D . grad(1/r) + (1/2) S : grad grad(1/r), R = x - y0 (Taylor series of 1/|x - y|)."""
-    R0, R1, R2 = px - y0[0], py - y0[1], pz - y0[2]
+    of Q/r - D . grad(1/r) + (1/2) S : grad grad(1/r), R = x - y0 (Taylor series of 1/|x - y|),
+    of chain k (its ball centre y0; arrays indexed, not sliced: a view costs a reference count)."""
+    Q = charge[k]
+    R0, R1, R2 = px - ball[k, 0], py - ball[k, 1], pz - ball[k, 2]
     r2 = R0 * R0 + R1 * R1 + R2 * R2
     r = math.sqrt(r2)
     i3 = 1.0 / (r2 * r)
     i5 = i3 / r2
     i7 = i5 / r2
-    DR = D[0] * R0 + D[1] * R1 + D[2] * R2
-    q0 = S[0, 0] * R0 + S[0, 1] * R1 + S[0, 2] * R2
-    q1 = S[1, 0] * R0 + S[1, 1] * R1 + S[1, 2] * R2
-    q2 = S[2, 0] * R0 + S[2, 1] * R1 + S[2, 2] * R2
+    D0, D1, D2 = dipole[k, 0], dipole[k, 1], dipole[k, 2]
+    DR = D0 * R0 + D1 * R1 + D2 * R2
+    q0 = quadrupole[k, 0, 0] * R0 + quadrupole[k, 0, 1] * R1 + quadrupole[k, 0, 2] * R2
+    q1 = quadrupole[k, 1, 0] * R0 + quadrupole[k, 1, 1] * R1 + quadrupole[k, 1, 2] * R2
+    q2 = quadrupole[k, 2, 0] * R0 + quadrupole[k, 2, 1] * R1 + quadrupole[k, 2, 2] * R2
     s = R0 * q0 + R1 * q1 + R2 * q2
-    tr = S[0, 0] + S[1, 1] + S[2, 2]
+    tr = quadrupole[k, 0, 0] + quadrupole[k, 1, 1] + quadrupole[k, 2, 2]
     # H_m = -(Q t_m - D_i t_im + S_ij t_ijm / 2), t the derivatives of 1/r
     a = Q * i3 + 3.0 * DR * i5 + 7.5 * s * i7 - 1.5 * tr * i5
     if want_h:
-        H[0] += a * R0 - D[0] * i3 - 3.0 * q0 * i5
-        H[1] += a * R1 - D[1] * i3 - 3.0 * q1 * i5
-        H[2] += a * R2 - D[2] * i3 - 3.0 * q2 * i5
+        H[0] += a * R0 - D0 * i3 - 3.0 * q0 * i5
+        H[1] += a * R1 - D1 * i3 - 3.0 * q1 * i5
+        H[2] += a * R2 - D2 * i3 - 3.0 * q2 * i5
     if want_g:
         i9 = i7 / r2
         R = (R0, R1, R2)
-        Dv = (D[0], D[1], D[2])
+        Dv = (D0, D1, D2)
         qv = (q0, q1, q2)
         # G_mk = -(Q t_mk - D_i t_imk + S_ij t_ijmk / 2)
         c_rr = -3.0 * Q * i5 - 15.0 * DR * i7 - 52.5 * s * i9 + 7.5 * tr * i7
         c_d = a
         for m in range(3):
-            for k in range(3):
-                g = c_rr * R[m] * R[k] + 3.0 * (Dv[m] * R[k] + Dv[k] * R[m]) * i5 \
-                    + 15.0 * (qv[m] * R[k] + qv[k] * R[m]) * i7 - 3.0 * S[m, k] * i5
-                if m == k:
+            for j in range(3):
+                g = c_rr * R[m] * R[j] + 3.0 * (Dv[m] * R[j] + Dv[j] * R[m]) * i5 \
+                    + 15.0 * (qv[m] * R[j] + qv[j] * R[m]) * i7 - 3.0 * quadrupole[k, m, j] * i5
+                if m == j:
                     g += c_d
-                G[m, k] += g
+                G[m, j] += g
 
 
-@njit(cache=True)
+@njit(cache=True, inline="always")
 def _region_point(px, py, pz, g, normal, sigma, centre, loop_first, root, v, lo, hi, left, right,
-                  ball, reach2, charge, dipole, quadrupole, want_h, want_g, H, G, stack):
-    n = normal[g]
+                  ball, reach2, charge, dipole, quadrupole, chord_length, chord_normal, want_h,
+                  want_g, H, G, stack):
+    cx, cy, cz = centre[g, 0] - px, centre[g, 1] - py, centre[g, 2] - pz
+    Rc = math.sqrt(cx * cx + cy * cy + cz * cz)
+    # chords come in loop order, each starting where the last ended: its vertex is reused
+    last, bx, by, bz, Rb = -1, 0.0, 0.0, 0.0, 1.0
+    # the chords' solid angles: the sum of the args of den + i num is the arg of their product
+    # (the total lies within (-2 pi, 2 pi) off the plane), one atan2 for all; kept in range
+    zr, zi = 1.0, 0.0
     for loop in range(loop_first[g], loop_first[g + 1]):
         stack[0] = root[loop]
         top = 1
         while top > 0:
             top -= 1
             k = stack[top]
-            a, b = lo[k], hi[k]
             if left[k] >= 0:
                 dx, dy, dz = px - ball[k, 0], py - ball[k, 1], pz - ball[k, 2]
                 if dx * dx + dy * dy + dz * dz < reach2[k]:
@@ -374,15 +417,35 @@ def _region_point(px, py, pz, g, normal, sigma, centre, loop_first, root, v, lo,
                     stack[top + 1] = left[k]
                     top += 2
                     continue
-                _lens(px, py, pz, ball[k], charge[k], dipole[k], quadrupole[k], want_h, want_g,
-                      H, G)
-            if v[a, 0] != v[b, 0] or v[a, 1] != v[b, 1] or v[a, 2] != v[b, 2]:  # not a whole loop
-                _chord(px, py, pz, centre[g], v[a], v[b], n, sigma[g], want_h, want_g, H, G)
+                _lens(px, py, pz, k, ball, charge, dipole, quadrupole, want_h, want_g, H, G)
+            if chord_length[k] == 0.0:  # a whole loop: no chord
+                continue
+            a, b = lo[k], hi[k]
+            if a == last:
+                ax, ay, az, Ra = bx, by, bz, Rb
+            else:
+                ax, ay, az = v[a, 0] - px, v[a, 1] - py, v[a, 2] - pz
+                Ra = math.sqrt(ax * ax + ay * ay + az * az)
+            bx, by, bz = v[b, 0] - px, v[b, 1] - py, v[b, 2] - pz
+            Rb = math.sqrt(bx * bx + by * by + bz * bz)
+            last = b
+            den, num = _chord(cx, cy, cz, Rc, ax, ay, az, Ra, bx, by, bz, Rb, chord_length[k], k,
+                              chord_normal, g, normal, sigma[g], want_h, want_g, H, G)
+            zr, zi = zr * den - zi * num, zr * num + zi * den
+            size = abs(zr) + abs(zi)
+            if size > 1e150 or size < 1e-150:
+                zr, zi = zr / size, zi / size
+    if want_h:
+        omega = sigma[g] * 2.0 * math.atan2(zi, zr)
+        H[0] += normal[g, 0] * omega
+        H[1] += normal[g, 1] * omega
+        H[2] += normal[g, 2] * omega
 
 
 @njit(cache=True, parallel=True, error_model="numpy")
 def _regions_kernel(points, normal, sigma, centre, low, high, loop_first, root, v, lo, hi, left,
-                    right, ball, reach2, charge, dipole, quadrupole, want_h, want_g, H, G, on_face):
+                    right, ball, reach2, charge, dipole, quadrupole, chord_length, chord_normal,
+                    want_h, want_g, H, G, on_face):
     """Adds the regions' 4 pi H and grad into H, G; on_face[m, g] marks the points in region g's
     plane and box, left for the face-by-face sum."""
     for m in prange(points.shape[0]):
@@ -400,8 +463,8 @@ def _regions_kernel(points, normal, sigma, centre, low, high, loop_first, root, 
                 on_face[m, g] = True
                 continue
             _region_point(px, py, pz, g, normal, sigma, centre, loop_first, root, v, lo, hi,
-                          left, right, ball, reach2, charge, dipole, quadrupole, want_h, want_g,
-                          h, gm, stack)
+                          left, right, ball, reach2, charge, dipole, quadrupole, chord_length,
+                          chord_normal, want_h, want_g, h, gm, stack)
         if want_h:
             for i in range(3):
                 H[m, i] += h[i]
@@ -428,5 +491,5 @@ def add_regions(points: np.ndarray, regions: FlatRegions, want_h: bool, want_g: 
     kernel = _regions_kernel if len(points) >= PARALLEL_MIN_POINTS else _regions_serial
     kernel(points, r.normal, r.sigma, r.centre, r.low, r.high, r.loop_first, r.root,
                     r.vertices, r.lo, r.hi, r.left, r.right, r.ball, r.reach2, r.charge, r.dipole,
-                    r.quadrupole, want_h, want_g, H, G, on_face)
+                    r.quadrupole, r.chord_length, r.chord_normal, want_h, want_g, H, G, on_face)
     return on_face
