@@ -4,6 +4,7 @@ side by side with another installation of trapscape (run by hand).
     python benchmarks/mesh_traps_speed.py [--old PYTHON] [--sizes 1000,10000,100000]
                                           [--timeout SECONDS] [--rounds N] [--no-rotor]
     python benchmarks/mesh_traps_speed.py --queries [--sizes ...]
+    python benchmarks/mesh_traps_speed.py --field [--sizes ...]
 
 Writes the discs (10 mm across, 5 mm high, magnetised along their axis, a 2 mm steel ball as the
 probe) into a temporary folder: nothing is committed. Each case runs as whole processes, this
@@ -14,7 +15,10 @@ and shown as "> timeout". Both sides first run once, untimed, on a disc of 100 t
 coarse grid, so that compiled kernels are in their caches; the equivalent-dipole fits are not cached
 (TRAPSCAPE_CACHE=off), as for a part seen the first time. For the largest disc, the seconds
 spent building the field model (the equivalent-dipole fit of a large mesh) are timed apart, in
-this process.
+this process. --field times the exact field (H and its gradient) of each disc at 2,000 points in
+a 2 mm steel ball resting on its top face near the rim, where a trap search's finite-size
+re-solve samples it: the flat-region sum against the face-by-face sum, CPU per point, on one
+thread, and the largest difference between them.
 """
 from __future__ import annotations
 
@@ -121,6 +125,35 @@ def query_seconds(triangles: int, count: int = 2000) -> tuple[float, float]:
     return seconds[0], seconds[1]
 
 
+def field_seconds(triangles: int, count: int = 2000) -> tuple[float, float, float]:
+    """CPU seconds a point of H and grad H by the flat regions and face by face, and the largest
+    difference (relative to |M|, and |M| / size for the gradient)."""
+    from trapscape.physics.field import flat_regions, polyhedron
+
+    mesh = disc_mesh(triangles)
+    vertices, faces = np.asarray(mesh.vertices) * 1e-3, np.asarray(mesh.faces, np.int64)
+    rng = np.random.default_rng(0)
+    directions = rng.normal(size=(count, 3))
+    directions /= np.linalg.norm(directions, axis=1, keepdims=True)
+    points = np.array([3.9e-3, 0.0, 3.5e-3]) + directions * rng.uniform(0.3e-3, 0.95e-3, (count, 1))
+    M = np.array([0.0, 0.0, 1.0e6])
+    results, seconds = [], []
+    shipped = flat_regions.MIN_FACES
+    for smallest in (shipped, 10**12):  # regions as shipped, then none
+        flat_regions.MIN_FACES = smallest
+        polyhedron._charge_tables.cache_clear()
+        polyhedron.polyhedron_H_and_gradient(points[:10], vertices, faces, M)
+        polyhedron.PARALLEL_MIN_WORK = flat_regions.PARALLEL_MIN_POINTS = 10**18  # one thread
+        start = time.process_time()
+        results.append(polyhedron.polyhedron_H_and_gradient(points, vertices, faces, M))
+        seconds.append((time.process_time() - start) / count)
+    flat_regions.MIN_FACES = shipped
+    (H, G), (H0, G0) = results
+    size = 1e-2
+    error = max(np.abs(H - H0).max() / 1e6, np.abs(G - G0).max() * size / 1e6)
+    return seconds[0], seconds[1], error
+
+
 def shown(times: list, timeout: float) -> str:
     if any(t is None for t in times):
         return f"> {timeout:.0f}"
@@ -144,8 +177,16 @@ def main(argv=None) -> int:
     parser.add_argument("--rounds", type=int, default=1)
     parser.add_argument("--no-rotor", action="store_true")
     parser.add_argument("--queries", action="store_true")
+    parser.add_argument("--field", action="store_true")
     args = parser.parse_args(argv)
     sizes = [int(float(s)) for s in args.sizes.split(",")]
+    if args.field:
+        print("triangles | flat regions us a point | face by face us a point | ratio | difference")
+        for n in sizes:
+            regions, faces, error = field_seconds(n)
+            print(f"{len(disc_mesh(n).faces)} | {regions * 1e6:.0f} | {faces * 1e6:.0f} | "
+                  f"{faces / regions:.1f}x | {error:.1e}")
+        return 0
     if args.queries:
         print("triangles | tree s | brute force s | ratio")
         for n in sizes:

@@ -14,6 +14,9 @@ r = vertex - p, and grad Omega of a triangle is the Biot-Savart sum over its edg
 winding order. R_a R_b + r_a . r_b is formed as |r_a x r_b|^2 / (R_a R_b - r_a . r_b) where it
 would cancel (a point beside an edge).
 
+Many coplanar faces of one charge (a CAD cap's fan of slivers) are summed through their boundary
+instead, by physics/field/flat_regions.py, to within 1e-9 of sigma.
+
 Numerics (DESIGN.md Conventions): lengths are scaled by the largest bounding-box side L; a point
 within 1e-12 L of a face is on it and takes the outer side's value (the face's solid angle is
 +2 pi there); a point within 1e-12 L of an edge or a vertex is pushed outward (along the sum of
