@@ -30,6 +30,7 @@ KERNEL_SOURCES = (
     "scene/shapes/meshops.py", "scene/shapes/meshtree.py",
     "physics/field/box_distance.py", "physics/field/cuboid.py", "physics/field/cylinder.py",
     "physics/field/dipole_direct.py", "physics/field/ellipint.py", "physics/field/engine.py",
+    "physics/field/flat_regions.py",
     "physics/field/placed.py",
     "physics/field/local_cells.py", "physics/field/polyhedron.py", "physics/field/radial.py",
     "physics/field/solid_harmonics.py", "physics/traps/escape.py",
