@@ -418,7 +418,7 @@ class MultipoleProbe(ProbeModel):
         n, q = len(points), len(self.directions)
         samples = (points[:, None, :] + self.sample_radius * self.directions[None]).reshape(-1, 3)
         if gradient:
-            H, G = self.field_model.applied_H(samples, gradient=True)
+            H, G = self.applied_H_and_gradient(samples)
         else:
             H, G = self.field_model.applied_H(samples), None
         H_r = np.einsum("nqi,qi->nq", H.reshape(n, q, 3), self.directions)

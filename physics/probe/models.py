@@ -11,6 +11,10 @@ import numpy as np
 from trapscape.scene.units import MU0
 
 HESSIAN_STEP_FRACTION = 1e-4  # FD step: this fraction of min(probe diameter, clearance)
+# A model keeps the field of its last call up to this many sample points (about 5 MB): asked
+# again at the very same points (the finite-size correction at the equilibria, then the first
+# step of Newton's method from them) it answers without the field.
+REMEMBERED_SAMPLES = 1 << 15
 
 
 class ProbeModel:
@@ -30,6 +34,33 @@ class ProbeModel:
     def __init__(self, field_model, law):
         self.field_model = field_model
         self.law = law
+        self._last_field = None  # (sample points, H, dH/dx) of the last applied_H_and_gradient
+
+    def applied_H_and_gradient(self, samples):
+        """The magnets' H and its gradient at sample points; the last call's arrays again when
+        the points are bit for bit the last call's (at most REMEMBERED_SAMPLES of them).
+
+        Parameters
+        ----------
+        samples : array_like, shape (N, 3)
+            m.
+
+        Returns
+        -------
+        H : numpy.ndarray, shape (N, 3)
+            A/m.
+        G : numpy.ndarray, shape (N, 3, 3)
+            G[n, i, j] = dH_i/dx_j, A/m^2.
+        """
+        samples = np.asarray(samples, float).reshape(-1, 3)
+        last = self._last_field
+        if last is not None and last[0].shape == samples.shape and \
+                last[0].tobytes() == samples.tobytes():
+            return last[1].copy(), last[2].copy()
+        H, G = self.field_model.applied_H(samples, gradient=True)
+        if len(samples) <= REMEMBERED_SAMPLES:
+            self._last_field = (samples.copy(), H.copy(), G.copy())
+        return H, G
 
     def applied_field(self, points):
         """The magnets' B = mu0 H and its gradient, valid where no magnet is.
@@ -46,8 +77,7 @@ class ProbeModel:
         G : numpy.ndarray
             (N, 3, 3) G[n, i, j] = dB_i/dx_j, T/m.
         """
-        points = np.asarray(points, float).reshape(-1, 3)
-        H, G = self.field_model.applied_H(points, gradient=True)
+        H, G = self.applied_H_and_gradient(points)
         return MU0 * H, MU0 * G
 
     def magnetic_energy_and_force(self, points):

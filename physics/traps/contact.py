@@ -3,6 +3,8 @@ from every magnet and plate), surface normals and curvatures, and the search for
 equilibria along a surface (descent, then Newton on the surface-restricted Hessian)."""
 from __future__ import annotations
 
+from typing import NamedTuple
+
 import numpy as np
 
 from trapscape.physics.field.parts import part_sdf
@@ -453,9 +455,10 @@ def surface_newton(model, geometry, points, basis, iterations=8):
         idx = np.flatnonzero(active)
         if len(idx) == 0:
             break
-        _, _, tangents, K_t, F = contact_state(model, geometry, x[idx], basis)
-        push = np.einsum("nmi,ni->nm", tangents, F)
-        step = pseudo_solve(K_t, push)
+        state = contact_state(model, geometry, x[idx], basis)
+        tangents = state.tangents
+        push = np.einsum("nmi,ni->nm", tangents, state.F)
+        step = pseudo_solve(state.K_t, push)
         size = np.linalg.norm(step, axis=1)
         step *= np.minimum(1.0, 0.5 * h / np.maximum(size, 1e-300))[:, None]
         trial = geometry.project_to_surface(x[idx] + np.einsum("nm,nmi->ni", step, tangents), basis)
@@ -465,8 +468,20 @@ def surface_newton(model, geometry, points, basis, iterations=8):
     return x
 
 
-def contact_state(model, geometry, points, basis):
-    """Normal, normal force, tangents and the surface-restricted Hessian at contact points.
+class ContactState(NamedTuple):
+    """What contact_state finds at contact points (see there for shapes and units)."""
+
+    normals: np.ndarray
+    normal_force: np.ndarray
+    tangents: np.ndarray
+    K_t: np.ndarray
+    F: np.ndarray
+    U: np.ndarray
+
+
+def contact_state(model, geometry, points, basis) -> ContactState:
+    """Normal, normal force, tangents, the surface-restricted Hessian, force and energy at
+    contact points (the energy from the same evaluation as the force).
 
     K_t = T (Hess U - N Hess c) T^T (Lagrange multiplier N = -dU/dc; derived here).
 
@@ -480,6 +495,7 @@ def contact_state(model, geometry, points, basis):
 
     Returns
     -------
+    ContactState, whose fields are:
     normals : ndarray, shape (N, 3)
         Unit, from the surface towards the probe.
     normal_force : ndarray, shape (N,)
@@ -489,13 +505,15 @@ def contact_state(model, geometry, points, basis):
         N/m.
     F : ndarray, shape (N, 3)
         Total force on the probe, N.
+    U : ndarray, shape (N,)
+        Total energy of the probe, J.
 
     References
     ----------
     Derived here (K_t with the Lagrange multiplier N = -dU/dc).
     """
     normals = geometry.normal(points)
-    F = model.force(points)
+    U, F = model.energy_and_force(points)
     projector = basis.T @ basis
     n_allowed = normals @ projector
     size2 = np.einsum("ni,ni->n", n_allowed, n_allowed)
@@ -504,8 +522,8 @@ def contact_state(model, geometry, points, basis):
     tangents = tangent_basis(normals, basis)
     m = tangents.shape[1]
     if m == 0:
-        return normals, normal_force, tangents, np.zeros((len(points), 0, 0)), F
+        return ContactState(normals, normal_force, tangents, np.zeros((len(points), 0, 0)), F, U)
     K = model.hessian(points, tangents)
     curvature = geometry.clearance_hessian(points, tangents)
     K_t = K - normal_force[:, None, None] * curvature
-    return normals, normal_force, tangents, K_t, F
+    return ContactState(normals, normal_force, tangents, K_t, F, U)

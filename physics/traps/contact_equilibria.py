@@ -38,8 +38,7 @@ def contact_equilibria(problem, grid) -> list:
     points = unique_points(points, 2e-2 * geometry.spacing)
     if len(points) == 0:
         return []
-    normals, pressed, tangents, K_t, F = contact_state(model, geometry, points, basis)
-    U = model.energy(points)
+    normals, pressed, tangents, K_t, F, U = contact_state(model, geometry, points, basis)
     B = model.applied_field(points)[0]
     names = geometry.surface_name(points)
     found = []

@@ -335,8 +335,7 @@ def resolve_contacts(problem, finite, equilibria) -> tuple:
     finite = finite.scan_model()  # solving_model: the scan rule at a contact
     x = np.array([e.position for e in equilibria])
     x = surface_newton(finite, geometry, x, basis)  # on a line: fixed by the geometry
-    normals, pressed, tangents, K_t, F = contact_state(finite, geometry, x, basis)
-    U = finite.energy(x)
+    normals, pressed, tangents, K_t, F, U = contact_state(finite, geometry, x, basis)
     B = finite.applied_field(x)[0]
     names = geometry.surface_name(x)
     resolved, lifted, starts = [], [], []
