@@ -183,30 +183,32 @@ def _moments(v, n, sigma, lo, hi, left, right, first_node, count, ball, radius, 
             continue
         for child in (left[k], right[k]):
             d = ball[child] - y0
-            q = charge[child]
-            D = dipole[child]
+            q, A = charge[child], area[child]
             charge[k] += q
-            dipole[k] += D + q * d
-            quadrupole[k] += (quadrupole[child] + np.outer(D, d) + np.outer(d, D)
-                              + q * np.outer(d, d))
-            spread[k] += (spread[child] + 2.0 * np.dot(d, centroid[child])
-                          + area[child] * np.dot(d, d))
-            centroid[k] += centroid[child] + area[child] * d
-            area[k] += area[child]
+            area[k] += A
+            spread[k] += spread[child] + A * (d[0] * d[0] + d[1] * d[1] + d[2] * d[2])
+            for i in range(3):
+                spread[k] += 2.0 * d[i] * centroid[child, i]
+                centroid[k, i] += centroid[child, i] + A * d[i]
+                dipole[k, i] += dipole[child, i] + q * d[i]
+                for j in range(3):
+                    quadrupole[k, i, j] += (quadrupole[child, i, j] + dipole[child, i] * d[j]
+                                            + d[i] * dipole[child, j] + q * d[i] * d[j])
         m = (a + b) // 2
         p0, p1, p2 = v[a] - y0, v[m] - y0, v[b] - y0
         cross = np.cross(p1 - p0, p2 - p0)
         signed = 0.5 * (cross[0] * n[0] + cross[1] * n[1] + cross[2] * n[2])
-        q = sigma * signed
+        q, A = sigma * signed, abs(signed)
         s = p0 + p1 + p2
         charge[k] += q
-        dipole[k] += q * s / 3.0
-        quadrupole[k] += (q / 12.0) * (np.outer(p0, p0) + np.outer(p1, p1) + np.outer(p2, p2)
-                                       + np.outer(s, s))
-        area[k] += abs(signed)
-        centroid[k] += abs(signed) * s / 3.0
-        spread[k] += (abs(signed) / 12.0) * (np.dot(p0, p0) + np.dot(p1, p1) + np.dot(p2, p2)
-                                             + np.dot(s, s))
+        area[k] += A
+        for i in range(3):
+            dipole[k, i] += q * s[i] / 3.0
+            centroid[k, i] += A * s[i] / 3.0
+            spread[k] += (A / 12.0) * (p0[i] * p0[i] + p1[i] * p1[i] + p2[i] * p2[i] + s[i] * s[i])
+            for j in range(3):
+                quadrupole[k, i, j] += (q / 12.0) * (p0[i] * p0[j] + p1[i] * p1[j]
+                                                     + p2[i] * p2[j] + s[i] * s[j])
 
 
 def _reach2(radius: np.ndarray, spread: np.ndarray) -> np.ndarray:
@@ -218,13 +220,13 @@ def _reach2(radius: np.ndarray, spread: np.ndarray) -> np.ndarray:
     (Bernstein's inequality for P_l), its second derivatives 2 (l + 1) (l + 2) over r^2 (derived
     here). Summed over l >= 3 with u = rho / r: (sqrt 2 / 4 pi) spread rho sum (j + 4) u^j / r^5
     for H, (2 / 4 pi) spread rho sum (j + 4) (j + 5) u^j / r^6 for grad H."""
-    j = np.arange(200.0)
     load = spread * radius / (4.0 * math.pi * NODE_TOLERANCE)
 
     def needed(reach):
-        u = np.minimum(radius / np.maximum(reach, 1e-300), 0.5)[:, None]
-        h_sum = ((j + 4.0) * u**j).sum(axis=1)
-        g_sum = ((j + 4.0) * (j + 5.0) * u**j).sum(axis=1)
+        u = np.minimum(radius / np.maximum(reach, 1e-300), 0.5)
+        v = 1.0 / (1.0 - u)
+        h_sum = 4.0 * v + u * v * v  # sum (j + 4) u^j
+        g_sum = 20.0 * v + 10.0 * u * v * v + 2.0 * u * u * v**3  # sum (j + 4) (j + 5) u^j
         return np.maximum.reduce([2.0 * radius, (math.sqrt(2.0) * load * h_sum) ** 0.2,
                                   (2.0 * load * g_sum) ** (1.0 / 6.0)])
 
