@@ -93,7 +93,10 @@ class MeshTree:
     bounds : (nodes, 21) float, each node's two boxes in one row for the distance search (in
         separate arrays it measured 2 to 3 times slower at 100,000 triangles): lower and upper
         (m), then the box turned to the node's principal axes, its centre (m), padded half sizes
-        (m) and the three axes (``_turned_boxes``).
+        (m) and the three axes (``_turned_boxes``). A median split leaves at least LEAF_SIZE / 2
+        triangles in a leaf, so there are fewer than 4 F / LEAF_SIZE nodes: at most 84 bytes
+        per triangle (5.5 MB at 100,000 triangles, beside 7.2 MB of corners and 16.8 MB of
+        normals).
     face_normals : (F, 3) unit outward normals, leaf order.
     corner_normals : (F, 3, 3) angle-weighted vertex pseudonormals at a, b, c (leaf order).
     edge_normals : (F, 3, 3) edge pseudonormals of ab, ac, bc (leaf order).
