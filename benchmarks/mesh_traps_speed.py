@@ -15,10 +15,12 @@ and shown as "> timeout". Both sides first run once, untimed, on a disc of 100 t
 coarse grid, so that compiled kernels are in their caches; the equivalent-dipole fits are not cached
 (TRAPSCAPE_CACHE=off), as for a part seen the first time. For the largest disc, the seconds
 spent building the field model (the equivalent-dipole fit of a large mesh) are timed apart, in
-this process. --field times the exact field (H and its gradient) of each disc at 2,000 points in
-a 2 mm steel ball resting on its top face near the rim, where a trap search's finite-size
-re-solve samples it: the flat-region sum against the face-by-face sum, CPU per point, on one
-thread, and the largest difference between them.
+this process. --queries times meshops.mesh_sdf at 2,000 points within a disc size of each disc
+(wall and CPU seconds, one thread), the brute force at the same points, and the CPU seconds of
+building the disc's tree. --field times the exact field (H and its gradient) of each disc at 2,000
+points in a 2 mm steel ball resting on its top face near the rim, where a trap search's
+finite-size re-solve samples it: the flat-region sum against the face-by-face sum, CPU per point,
+on one thread, and the largest difference between them.
 """
 from __future__ import annotations
 
@@ -105,8 +107,9 @@ def model_build_seconds(scene: Path) -> float:
     return time.perf_counter() - start
 
 
-def query_seconds(triangles: int, count: int = 2000) -> tuple[float, float]:
-    """Seconds of mesh_sdf (tree) and of the brute-force distance and parity, same points."""
+def query_seconds(triangles: int, count: int = 2000) -> tuple[float, float, float]:
+    """Seconds of mesh_sdf (tree; wall and CPU) and of the brute-force distance and parity
+    (wall), same points; the tree's own build is timed apart (build_seconds)."""
     from trapscape.scene.shapes import meshops
 
     mesh = disc_mesh(triangles)
@@ -119,10 +122,22 @@ def query_seconds(triangles: int, count: int = 2000) -> tuple[float, float]:
                   lambda p: (meshops.brute_mesh_distance(p, vertices, faces),
                              meshops.brute_mesh_inside(p, vertices, faces))):
         query(points[:10])
-        start = time.perf_counter()
+        start, cpu = time.perf_counter(), time.process_time()
         query(points)
-        seconds.append(time.perf_counter() - start)
-    return seconds[0], seconds[1]
+        seconds.append((time.perf_counter() - start, time.process_time() - cpu))
+    return seconds[0][0], seconds[0][1], seconds[1][0]
+
+
+def build_seconds(triangles: int) -> float:
+    """CPU seconds to build the mesh tree of a disc (meshtree.build_tree, not cached)."""
+    from trapscape.scene.shapes import meshtree
+
+    mesh = disc_mesh(triangles)
+    vertices, faces = np.asarray(mesh.vertices) * 1e-3, np.asarray(mesh.faces, np.int64)
+    meshtree.build_tree(vertices[:8], faces[:4] % 8)  # compiled kernels into the cache
+    start = time.process_time()
+    meshtree.build_tree(vertices, faces)
+    return time.process_time() - start
 
 
 def field_seconds(triangles: int, count: int = 2000) -> tuple[float, float, float]:
@@ -188,10 +203,11 @@ def main(argv=None) -> int:
                   f"{faces / regions:.1f}x | {error:.1e}")
         return 0
     if args.queries:
-        print("triangles | tree s | brute force s | ratio")
+        print("triangles | tree s (CPU s) | brute force s | ratio | tree build CPU s")
         for n in sizes:
-            tree, brute = query_seconds(n)
-            print(f"{len(disc_mesh(n).faces)} | {tree:.4f} | {brute:.3f} | {brute / tree:.0f}x")
+            tree, cpu, brute = query_seconds(n)
+            print(f"{len(disc_mesh(n).faces)} | {tree:.4f} ({cpu:.4f}) | {brute:.3f} | "
+                  f"{brute / tree:.0f}x | {build_seconds(n):.3f}")
         return 0
     sides = [("this code", sys.executable)] + ([("other code", args.old)] if args.old else [])
     with tempfile.TemporaryDirectory() as folder:
