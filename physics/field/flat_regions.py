@@ -35,8 +35,12 @@ from trapscape.physics.field.engine import serial_twin
 
 MIN_FACES = 500  # fewer coplanar faces are summed face by face, which costs about the same
 NODE_TOLERANCE = 1e-9  # a chain's lens error bound, relative to |sigma| (and |sigma| / L)
-KEY_TOLERANCE = 1e-10  # normals, plane offsets and charges equal to this are one region
-PLANE_TOLERANCE = 1e-10  # a point this near a region's plane, inside its box, is summed by face
+# Faces sharing an edge whose unit normals differ by less than this may lie in one plane: a CAD
+# sliver's normal turns by up to 1e-3 when its corners are rounded to single precision.
+FOLD = 1e-2
+# A region's corners may lie this share of the mesh's largest coordinate off its plane: four
+# units of single precision (a binary STL rounds every coordinate so), and 1e-12 of the size.
+ROUNDING = 4.0 * 2.0**-24
 _STACK = 128
 # Points below which the regions are summed on one thread: a parallel call costs a thread start
 # and join (about 1 ms of CPU on a busy machine), more than a few dozen points take.
@@ -48,8 +52,8 @@ class FlatRegions:
     """The flat regions of one mesh and magnetisation, packed for the kernel.
 
     Groups g: normal (g, 3), sigma (g,), centre (g, 3) the fan point c, low/high (g, 3) the box of
-    its faces; loops of group g are loop_first[g]:loop_first[g + 1]; loop k's tree starts at node
-    root[k]. Nodes: the chain v[lo] .. v[hi] of the packed loop vertices (each loop repeats its
+    its faces, near (g,) how close to its plane a point is summed face by face; loops of group g
+    are loop_first[g]:loop_first[g + 1]; loop k's tree starts at node root[k]. Nodes: the chain v[lo] .. v[hi] of the packed loop vertices (each loop repeats its
     first vertex at its end), children left/right (-1 for a single edge), ball centre, reach2 (the
     squared distance beyond which the lens's moments are used), and the lens's charge, dipole and
     quadrupole about the centre (sigma included)."""
@@ -60,6 +64,7 @@ class FlatRegions:
     centre: np.ndarray
     low: np.ndarray
     high: np.ndarray
+    near: np.ndarray
     loop_first: np.ndarray
     root: np.ndarray
     vertices: np.ndarray
@@ -84,18 +89,54 @@ class FlatRegions:
 # grouping and loops
 
 
+def _neighbours(tables, charged: np.ndarray) -> np.ndarray:
+    """Pairs of charged faces sharing an edge, charged alike and nearly parallel (FOLD)."""
+    on = np.zeros(len(tables.faces), bool)
+    on[charged] = True
+    edge = tables.face_edges.ravel()
+    face = np.repeat(np.arange(len(tables.faces)), 3)
+    order = np.argsort(edge, kind="stable")
+    edge, face = edge[order], face[order]
+    twin = np.flatnonzero(edge[1:] == edge[:-1])
+    a, b = face[twin], face[twin + 1]
+    n = tables.unit_normal
+    keep = on[a] & on[b] & (np.einsum("ij,ij->i", n[a], n[b]) > 1.0 - 0.5 * FOLD**2)
+    return np.column_stack([a[keep], b[keep]])
+
+
 def _groups(tables, sigma) -> list:
-    """Face ids of each set of at least MIN_FACES charged faces sharing a plane and a charge."""
+    """(face ids, normal, sigma, tolerance) of each set of at least MIN_FACES charged faces,
+    connected through nearly parallel neighbours, whose corners all lie within the rounding of
+    one plane (the area-weighted normal through their area-weighted centre); its charge is the
+    faces' area-weighted mean (M . n of the plane: the area vectors of a flat polygon's pieces add
+    up to its own). Tolerance: how far off the plane a corner may be, scaled units."""
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
     scale = max(float(np.abs(sigma).max()), np.finfo(float).tiny)
     charged = np.flatnonzero(np.abs(sigma) > 1e-12 * scale)
     if len(charged) < MIN_FACES:
         return []
-    n = tables.unit_normal[charged]
-    offset = np.einsum("ij,ij->i", n, tables.vertices[tables.faces[charged, 0]])
-    key = np.round(np.column_stack([n, offset, sigma[charged] / scale]) / KEY_TOLERANCE)
-    _, inverse, counts = np.unique(key, axis=0, return_inverse=True, return_counts=True)
-    inverse = inverse.ravel()
-    return [charged[inverse == g] for g in np.flatnonzero(counts >= MIN_FACES)]
+    pairs = _neighbours(tables, charged)
+    count = len(tables.faces)
+    graph = coo_matrix((np.ones(len(pairs)), (pairs[:, 0], pairs[:, 1])), shape=(count, count))
+    _, label = connected_components(graph, directed=False)
+    label = label[charged]
+    sizes = np.bincount(label)
+    largest = np.abs(tables.centre).max() / tables.scale + 0.5  # the coordinates' size, scaled
+    tolerance = max(ROUNDING * largest, 1e-12)
+    groups = []
+    for component in np.flatnonzero(sizes >= MIN_FACES):
+        faces = charged[label == component]
+        area = tables.area_normal[faces]
+        normal = area.sum(axis=0)
+        normal /= np.linalg.norm(normal)
+        weight = np.linalg.norm(area, axis=1)
+        corners = tables.vertices[tables.faces[faces]]
+        centre = np.einsum("f,fki->i", weight, corners) / (3.0 * weight.sum())
+        if np.abs((corners - centre) @ normal).max() <= tolerance:
+            groups.append((faces, normal, float(weight @ sigma[faces] / weight.sum()), tolerance))
+    return groups
 
 
 def _loops(faces: np.ndarray, vertex_count: int) -> list | None:
@@ -251,14 +292,17 @@ def flat_regions(tables, sigma: np.ndarray) -> FlatRegions | None:
     -------
     FlatRegions or None
     """
-    groups, loops_of = [], []
-    for faces in _groups(tables, sigma):
-        loops = _loops(tables.faces[faces], len(tables.vertices))
+    found, loops_of = [], []
+    for group in _groups(tables, sigma):
+        loops = _loops(tables.faces[group[0]], len(tables.vertices))
         if loops is not None:
-            groups.append(faces)
+            found.append(group)
             loops_of.append(loops)
-    if not groups:
+    if not found:
         return None
+    groups = [faces for faces, _, _, _ in found]
+    normal = np.array([n for _, n, _, _ in found])
+    group_sigma = np.array([charge for _, _, charge, _ in found])
     v = tables.vertices
     loop_vertices = [np.append(loop, loop[0]) for loops in loops_of for loop in loops]
     sizes = np.array([len(ids) for ids in loop_vertices])
@@ -270,9 +314,6 @@ def flat_regions(tables, sigma: np.ndarray) -> FlatRegions | None:
     radius, area, spread, charge = (np.zeros(total_nodes) for _ in range(4))
     dipole = np.zeros((total_nodes, 3))
     quadrupole = np.zeros((total_nodes, 3, 3))
-    normal = np.array([tables.unit_normal[faces].mean(axis=0) for faces in groups])
-    normal /= np.linalg.norm(normal, axis=1, keepdims=True)
-    group_sigma = np.array([sigma[faces].mean() for faces in groups])
     roots, loop_first, group_nodes, node = [], [0], [0], 0
     loop_index = 0
     for g, loops in enumerate(loops_of):
@@ -297,6 +338,7 @@ def flat_regions(tables, sigma: np.ndarray) -> FlatRegions | None:
         centre=np.array([c.mean(axis=0) for c in corners]),
         low=np.array([c.min(axis=0) for c in corners]),
         high=np.array([c.max(axis=0) for c in corners]),
+        near=np.array([max(2.0 * tolerance, 1e-10) for _, _, _, tolerance in found]),
         loop_first=np.array(loop_first, np.int64), root=np.array(roots, np.int64),
         vertices=packed, lo=lo, hi=hi, left=left, right=right, ball=ball,
         reach2=_reach2(radius, spread), charge=charge, dipole=dipole, quadrupole=quadrupole,
@@ -446,9 +488,9 @@ def _region_point(px, py, pz, g, normal, sigma, centre, loop_first, root, v, lo,
 
 
 @njit(cache=True, parallel=True, error_model="numpy")
-def _regions_kernel(points, normal, sigma, centre, low, high, loop_first, root, v, lo, hi, left,
-                    right, ball, reach2, charge, dipole, quadrupole, chord_length, chord_normal,
-                    want_h, want_g, H, G, on_face):
+def _regions_kernel(points, normal, sigma, centre, low, high, near, loop_first, root, v, lo, hi,
+                    left, right, ball, reach2, charge, dipole, quadrupole, chord_length,
+                    chord_normal, want_h, want_g, H, G, on_face):
     """Adds the regions' 4 pi H and grad into H, G; on_face[m, g] marks the points in region g's
     plane and box, left for the face-by-face sum."""
     for m in prange(points.shape[0]):
@@ -459,10 +501,10 @@ def _regions_kernel(points, normal, sigma, centre, low, high, loop_first, root, 
         for g in range(normal.shape[0]):
             height = ((px - centre[g, 0]) * normal[g, 0] + (py - centre[g, 1]) * normal[g, 1]
                       + (pz - centre[g, 2]) * normal[g, 2])
-            if (abs(height) <= PLANE_TOLERANCE
-                    and low[g, 0] - PLANE_TOLERANCE <= px <= high[g, 0] + PLANE_TOLERANCE
-                    and low[g, 1] - PLANE_TOLERANCE <= py <= high[g, 1] + PLANE_TOLERANCE
-                    and low[g, 2] - PLANE_TOLERANCE <= pz <= high[g, 2] + PLANE_TOLERANCE):
+            d = near[g]
+            if (abs(height) <= d and low[g, 0] - d <= px <= high[g, 0] + d
+                    and low[g, 1] - d <= py <= high[g, 1] + d
+                    and low[g, 2] - d <= pz <= high[g, 2] + d):
                 on_face[m, g] = True
                 continue
             _region_point(px, py, pz, g, normal, sigma, centre, loop_first, root, v, lo, hi,
@@ -503,7 +545,7 @@ def add_regions(points: np.ndarray, regions: FlatRegions, want_h: bool, want_g: 
     on_face = np.zeros((len(points), len(regions.sigma)), bool)
     r = regions
     kernel = _regions_kernel if len(points) >= PARALLEL_MIN_POINTS else _regions_serial
-    kernel(points, r.normal, r.sigma, r.centre, r.low, r.high, r.loop_first, r.root,
+    kernel(points, r.normal, r.sigma, r.centre, r.low, r.high, r.near, r.loop_first, r.root,
                     r.vertices, r.lo, r.hi, r.left, r.right, r.ball, r.reach2, r.charge, r.dipole,
                     r.quadrupole, r.chord_length, r.chord_normal, want_h, want_g, H, G, on_face)
     return on_face

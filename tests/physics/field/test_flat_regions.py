@@ -104,6 +104,37 @@ def test_a_fine_faceted_disc_tends_to_the_cylinder():
     assert 8.0 < errors[0] / errors[1] < 32.0
 
 
+def test_a_turned_disc_from_a_binary_stl_is_one_region_per_cap(monkeypatch, tmp_path):
+    """A binary STL rounds coordinates to single precision, so a turned cap's slivers are
+    coplanar only to that rounding (their normals spread by about 1e-4). Each cap is still one
+    region; against the face-by-face sum of the rounded mesh, at 50 um to 2 mm off the top cap,
+    the difference is bounded by the corners' offset (about 1e-9 m) over the distance: 2e-5."""
+    mesh = trimesh.creation.cylinder(radius=5.0, height=5.0, sections=1500)
+    turn = trimesh.transformations.rotation_matrix(0.5, [1.0, 0.3, 0.1])
+    mesh.apply_transform(turn)
+    mesh.apply_translation([12.3, -4.1, 7.7])
+    mesh.export(tmp_path / "turned.stl")
+    rounded = trimesh.load(tmp_path / "turned.stl", process=True)
+    V, F = np.asarray(rounded.vertices) * MM, np.asarray(rounded.faces)
+    axis = turn[:3, :3] @ np.array([0.0, 0.0, 1.0])
+    M = 9.5e5 * axis
+    tables = polyhedron.mesh_tables(V, F)
+    groups = flat_regions._groups(tables, tables.unit_normal @ M)
+    assert sorted(len(g[0]) for g in groups) == [1500, 1500]
+    rng = np.random.default_rng(3)
+    across = np.cross(axis, [1.0, 0.0, 0.0])
+    across /= np.linalg.norm(across)
+    other = np.cross(axis, across)
+    angle, radius = rng.uniform(0.0, 2.0 * np.pi, 200), rng.uniform(0.0, 5.5, 200)
+    height = rng.uniform(0.05, 2.0, 200)
+    top = turn[:3, :3] @ np.array([0.0, 0.0, 2.5]) + [12.3, -4.1, 7.7]
+    points = (top + (radius * np.cos(angle))[:, None] * across
+              + (radius * np.sin(angle))[:, None] * other + height[:, None] * axis) * MM
+    H, _ = polyhedron_H_and_gradient(points, V, F, M)
+    H0, _ = _face_by_face(monkeypatch, points, V, F, M)
+    np.testing.assert_allclose(H, H0, rtol=0, atol=2e-5 * np.linalg.norm(M))
+
+
 def test_meshes_with_few_coplanar_faces_keep_the_face_by_face_sum():
     V, F = _disc(100)
     tables = polyhedron.mesh_tables(V, F)
