@@ -21,6 +21,11 @@ used only where both are below NODE_TOLERANCE |sigma| (lengths in units of the m
 point's error is below NODE_TOLERANCE times the number of chains used (a few hundred); measured
 against the face-by-face sum, about 1e-10 (tests/physics/field/test_flat_regions.py).
 
+Faces belong to one region when they are connected through nearly parallel neighbours and every
+corner lies within single-precision rounding of one plane (a binary STL of a turned part); the
+region's charge is their area-weighted mean. The difference from summing the rounded faces one
+by one is then of the corners' offset over the distance (2.4e-7 of |M| measured at 50 um).
+
 Units as in polyhedron.py: scaled lengths, and the kernels add 4 pi H and 4 pi grad H.
 """
 from __future__ import annotations
