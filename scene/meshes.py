@@ -21,7 +21,8 @@ from trapscape.scene.files import MAX_MESH_BYTES, regular_file
 from trapscape.scene.shapes.meshops import mesh_volume, winding_number
 from trapscape.scene.units import METRES_PER_3MF_UNIT
 
-# A laptop's share: about 1 KB a triangle across the mesh's tables and search index (2 GB here);
+# A laptop's share: about 1.2 KB a triangle across the mesh's tables, search index and flat
+# regions (216 bytes a triangle for a fan of slivers; 2.4 GB here);
 # the exact field's time grows with the count too. A magnet's solid needs far fewer.
 MAX_TRIANGLES = 2_000_000
 WINDING_PAIR_BUDGET = 2e7  # point-triangle pairs for the enclosed-once test (about 1 s)
