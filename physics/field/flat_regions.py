@@ -95,7 +95,7 @@ class FlatRegions:
 
 
 def _neighbours(tables, charged: np.ndarray) -> np.ndarray:
-    """Pairs of charged faces sharing an edge, charged alike and nearly parallel (FOLD)."""
+    """Pairs of charged faces sharing an edge whose normals differ by less than FOLD."""
     on = np.zeros(len(tables.faces), bool)
     on[charged] = True
     edge = tables.face_edges.ravel()
