@@ -15,7 +15,8 @@ winding order. R_a R_b + r_a . r_b is formed as |r_a x r_b|^2 / (R_a R_b - r_a .
 would cancel (a point beside an edge).
 
 Many coplanar faces of one charge (a CAD cap's fan of slivers) are summed through their boundary
-instead, by physics/field/flat_regions.py, to within 1e-9 of sigma.
+instead, by physics/field/flat_regions.py: to within 1e-9 of sigma, and for faces coplanar only to
+a binary STL's single-precision rounding, to within that rounding's effect (2.4e-7 of |M| at 50 um).
 
 Numerics (DESIGN.md Conventions): lengths are scaled by the largest bounding-box side L; a point
 within 1e-12 L of a face is on it and takes the outer side's value (the face's solid angle is
