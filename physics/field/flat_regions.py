@@ -205,11 +205,11 @@ def _split(lo, hi, left, right, first_node, first, last):
 
 @njit(cache=True)
 def _moments(v, n, sigma, lo, hi, left, right, first_node, count, ball, radius, area, spread,
-             charge, dipole, quadrupole):
+             centroid, charge, dipole, quadrupole):
     """Ball, the lens moments, and its absolute area and spread (the integral of |y - y0|^2 over
     |area|, which bounds the higher moments) of nodes first_node .. + count, children first: a
-    lens is its children's lenses and the triangle (v_lo, v_mid, v_hi)."""
-    centroid = np.zeros((len(lo), 3))  # of |area|, about the ball's centre
+    lens is its children's lenses and the triangle (v_lo, v_mid, v_hi); centroid: the first
+    moment of |area| about the ball's centre."""
     for k in range(first_node + count - 1, first_node - 1, -1):
         a, b = lo[k], hi[k]
         low = v[a].copy()
@@ -317,7 +317,7 @@ def flat_regions(tables, sigma: np.ndarray) -> FlatRegions | None:
     lo, hi, left, right = (np.empty(total_nodes, np.int64) for _ in range(4))
     ball = np.zeros((total_nodes, 3))
     radius, area, spread, charge = (np.zeros(total_nodes) for _ in range(4))
-    dipole = np.zeros((total_nodes, 3))
+    centroid, dipole = np.zeros((total_nodes, 3)), np.zeros((total_nodes, 3))
     quadrupole = np.zeros((total_nodes, 3, 3))
     roots, loop_first, group_nodes, node = [], [0], [0], 0
     loop_index = 0
@@ -326,7 +326,7 @@ def flat_regions(tables, sigma: np.ndarray) -> FlatRegions | None:
             first, last = starts[loop_index], starts[loop_index] + sizes[loop_index] - 1
             count = _split(lo, hi, left, right, node, first, last)
             _moments(packed, normal[g], group_sigma[g], lo, hi, left, right, node, count, ball,
-                     radius, area, spread, charge, dipole, quadrupole)
+                     radius, area, spread, centroid, charge, dipole, quadrupole)
             roots.append(node)
             node += count
             loop_index += 1

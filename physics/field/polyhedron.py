@@ -426,21 +426,24 @@ def _face_sums(tables: MeshTables, sigma: np.ndarray) -> FaceSums:
 
 @lru_cache(maxsize=128)
 def _charge_tables(tables: MeshTables, magnetization: tuple) -> tuple:
-    """The faces summed one by one, the flat regions summed by their boundary (or None), and
-    for each region its faces alone (for points in its plane), remembered: a trap search asks
-    for the same part thousands of times."""
+    """The faces summed one by one and the flat regions summed by their boundary (or None),
+    remembered: a trap search asks for the same part thousands of times."""
     sigma = tables.unit_normal @ np.asarray(magnetization, dtype=float)
     regions = flat_regions(tables, sigma)
-    if regions is None:
-        return _face_sums(tables, sigma), None, ()
-    rest = sigma.copy()
-    rest[regions.faces] = 0.0
-    alone = []
-    for faces in regions.face_groups:
-        own = np.zeros_like(sigma)
-        own[faces] = sigma[faces]
-        alone.append(_face_sums(tables, own))
-    return _face_sums(tables, rest), regions, tuple(alone)
+    if regions is not None:
+        sigma = sigma.copy()
+        sigma[regions.faces] = 0.0
+    return _face_sums(tables, sigma), regions
+
+
+@lru_cache(maxsize=128)
+def _region_alone(tables: MeshTables, magnetization: tuple, g: int) -> FaceSums:
+    """Flat region g's faces alone, summed one by one: for the rare points in its plane."""
+    sigma = tables.unit_normal @ np.asarray(magnetization, dtype=float)
+    faces = _charge_tables(tables, magnetization)[1].face_groups[g]
+    own = np.zeros_like(sigma)
+    own[faces] = sigma[faces]
+    return _face_sums(tables, own)
 
 
 def _scaled_points(tables: MeshTables, points) -> np.ndarray:
@@ -460,7 +463,7 @@ def _sum_faces(p, t: MeshTables, sums: FaceSums, want_h, want_g, H, G):
 def _run_field(points, vertices, faces, magnetization, want_h, want_g):
     t = mesh_tables(vertices, faces)
     M = tuple(float(m) for m in np.asarray(magnetization, dtype=float).reshape(3))
-    sums, regions, alone = _charge_tables(t, M)
+    sums, regions = _charge_tables(t, M)
     p = _scaled_points(t, points)
     H = np.zeros((len(p), 3)) if want_h else np.empty((1, 3))
     G = np.zeros((len(p), 3, 3)) if want_g else np.empty((1, 3, 3))
@@ -471,7 +474,8 @@ def _run_field(points, vertices, faces, magnetization, want_h, want_g):
         for g in np.flatnonzero(in_plane.any(axis=0)):
             rows = np.flatnonzero(in_plane[:, g])
             H_g, G_g = np.zeros((len(rows), 3)), np.zeros((len(rows), 3, 3))
-            _sum_faces(np.ascontiguousarray(p[rows]), t, alone[g], True, True, H_g, G_g)
+            _sum_faces(np.ascontiguousarray(p[rows]), t, _region_alone(t, M, int(g)), True, True,
+                       H_g, G_g)
             if want_h:
                 H[rows] += H_g
             if want_g:
