@@ -11,6 +11,7 @@ from trapscape.physics.analysis.report_profile import LineSamples, Push, push_ou
 from trapscape.physics.analysis.trap_words import (EXIT_WORDS, describe_position, multiple,
                                                    probe_weight_N, scene_size)
 from trapscape.physics.analysis.views import probe_words
+from trapscape.physics.traps.classify import rests
 from trapscape.scene.measures import centroid
 
 MOST_ANSWERS = 6  # sentences; the table lists every family
@@ -66,10 +67,10 @@ def family_sentence(analysis, report, family, units: DisplayUnits, samples) -> s
     count = len(family.members)
     several = f" (and at {count - 1} equivalent point{'s' if count > 2 else ''})" \
         if count > 1 else ""
-    rests = "rests" if family.classification == "stable" else "can rest (marginally)"
+    verb = "rests" if rests(eq) else "can rest (marginally)"
     path = {"line": " on its guide line", "plane": " on its guide plane"}.get(
         scene.constraint.kind, "")
-    text = (f"Trap {family.number}: the {subject} {rests}{path} at {where}{several}, "
+    text = (f"Trap {family.number}: the {subject} {verb}{path} at {where}{several}, "
             f"{nearest_face_words(analysis, eq, units)}; ")
     if scene.constraint.kind == "line":
         return text + line_push_words(scene, eq, units, samples) + "."

@@ -8,6 +8,7 @@ import numpy as np
 
 from trapscape.physics.analysis.display_units import describe_force, scene_units
 from trapscape.physics.probe.laws import ProbeLaw
+from trapscape.physics.traps.classify import rests
 
 # common practice: a holding force of at least twice the load it must carry (a safety factor
 # of 2 on holding magnets), and a barrier of at least 10 kT for a trap meant to hold a small
@@ -190,13 +191,13 @@ def headline_equilibrium(report):
     Returns
     -------
     Equilibrium or None
-        The firmest stable one (largest escape force), else the firmest marginal one, else the
-        first; None without equilibria.
+        The firmest one where the probe rests (classify.rests; largest escape force), else the
+        firmest marginal one, else the first; None without equilibria.
     """
     if report is None or not report.equilibria:
         return None
-    for kind in ("stable", "marginal"):
-        chosen = [e for e in report.equilibria if e.classification == kind]
+    for chosen in ([e for e in report.equilibria if rests(e)],
+                   [e for e in report.equilibria if e.classification == "marginal"]):
         if chosen:
             return max(chosen, key=lambda e: _finite(e.escape.force_N if e.escape else None))
     return report.equilibria[0]
@@ -246,7 +247,7 @@ def headline_sentence(report, scene, units=None) -> str:
     force_words = units.force_text
     kind = scene.constraint.kind
     path = {"line": " on its guide line", "plane": " on its guide plane"}.get(kind, "")
-    if eq.classification != "stable":
+    if not rests(eq):
         return (f"{probe} has no stable rest point{path}; the closest to one is a "
                 f"{eq.classification} equilibrium at {where}.")
     on = f", resting on {eq.contact.surface}" if eq.contact else ""

@@ -81,6 +81,25 @@ def classify(eigenvalues, marginal_ratio: float = MARGINAL_RATIO) -> str:
     return "saddle"
 
 
+def rests(eq) -> bool:
+    """Whether a probe put at the equilibrium stays: stable, or marginal with no direction in
+    which its energy falls (a circle of contacts in an axisymmetric scene).
+
+    Parameters
+    ----------
+    eq : Equilibrium
+
+    Returns
+    -------
+    bool
+    """
+    if eq.classification != "marginal":
+        return eq.classification == "stable"
+    stiffness = [k for k in eq.stiffness_N_per_m if k is not None]
+    top = max((abs(k) for k in stiffness), default=0.0)
+    return top > 0.0 and min(stiffness) > -MARGINAL_RATIO * top
+
+
 def frequencies(stiffness, mass: float) -> tuple:
     """Small-oscillation frequencies f = sqrt(k / m_p) / (2 pi) of a harmonic oscillator.
 
@@ -102,6 +121,14 @@ def frequencies(stiffness, mass: float) -> tuple:
     """
     return tuple(float(np.sqrt(k / mass) / (2.0 * np.pi)) if (k is not None and k > 0) else None
                  for k in stiffness)
+
+
+def _held(stiffness, ratio: float) -> tuple:
+    """The stiffnesses with the marginal ones (|k| below ratio of the largest) as 0: a circle's
+    rounding-level 1e-17 N/m has no frequency."""
+    known = [abs(k) for k in stiffness if k is not None]
+    floor = ratio * max(known, default=0.0)
+    return tuple(k if k is None or abs(k) >= floor else 0.0 for k in stiffness)
 
 
 def make_equilibrium(problem, sample: Sample, hessian: LocalHessian, contact=None,
@@ -142,6 +169,6 @@ def make_equilibrium(problem, sample: Sample, hessian: LocalHessian, contact=Non
         position=np.asarray(x, float).copy(), coordinate_m=problem.line_coordinate(x),
         energy_J=float(sample.energy_J), classification=classification, stable_directions=stable,
         free_directions=k, stiffness_N_per_m=stiffness, directions=np.asarray(directions),
-        frequency_Hz=frequencies(stiffness, problem.law.mass),
+        frequency_Hz=frequencies(_held(stiffness, ratio), problem.law.mass),
         B_T=np.asarray(sample.B_T, float).copy(), force_N=np.asarray(sample.force_N, float).copy(),
         contact=contact, note=note)

@@ -316,6 +316,35 @@ def pseudo_solve(K, g):
     return np.einsum("nij,nj,nkj,nk->ni", vectors, inverse, vectors, g)
 
 
+def flat_along_orbit(K_t, tangents, orbit):
+    """K_t with no stiffness along the orbit of a continuous symmetry: P K_t P.
+
+    Along such an orbit the energy is constant, so an equilibrium there is one of a circle of
+    them, marginal (DESIGN.md, Physics). What a model finds along it instead is its own error:
+    the finite-size rule is not invariant under every rotation, and a faceted mesh's clearance
+    curves by facet; Newton's steps on it wandered along the circle.
+
+    Parameters
+    ----------
+    K_t : ndarray, shape (N, m, m)
+        N/m, in the tangents' coordinates.
+    tangents : ndarray, shape (N, m, 3)
+    orbit : ndarray, shape (N, 3)
+        Unit orbit directions, or zeros where there is none.
+
+    Returns
+    -------
+    ndarray, shape (N, m, m)
+        N/m; P is the projector off the orbit's share of the tangents, the identity where the
+        orbit lies less than half along the surface.
+    """
+    along = np.einsum("nmi,ni->nm", tangents, orbit)
+    size = np.linalg.norm(along, axis=1, keepdims=True)
+    unit = np.divide(along, size, out=np.zeros_like(along), where=size > 0.5)
+    P = np.eye(along.shape[1])[None] - unit[:, :, None] * unit[:, None, :]
+    return P @ K_t @ P
+
+
 def line_contacts(grid, geometry, starts) -> np.ndarray:
     """On a line: the contact points where clearance = d/2, by bisection.
 
@@ -425,7 +454,7 @@ def surface_descent(model, geometry, starts, basis, iterations=DESCENT_ITERATION
     return x
 
 
-def surface_newton(model, geometry, points, basis, iterations=8):
+def surface_newton(model, geometry, points, basis, iterations=8, orbit=None):
     """Newton's method for a contact equilibrium along the surface.
 
     It uses the tangential force and the surface-restricted Hessian K_t of contact_state, steps
@@ -440,6 +469,8 @@ def surface_newton(model, geometry, points, basis, iterations=8):
         m, on the surface.
     basis : ndarray, shape (k, 3)
     iterations : int
+    orbit : callable or None
+        contact_state's: no step is taken along an orbit (its stiffness is zero).
 
     Returns
     -------
@@ -455,7 +486,7 @@ def surface_newton(model, geometry, points, basis, iterations=8):
         idx = np.flatnonzero(active)
         if len(idx) == 0:
             break
-        state = contact_state(model, geometry, x[idx], basis)
+        state = contact_state(model, geometry, x[idx], basis, orbit)
         tangents = state.tangents
         push = np.einsum("nmi,ni->nm", tangents, state.F)
         step = pseudo_solve(state.K_t, push)
@@ -479,7 +510,7 @@ class ContactState(NamedTuple):
     U: np.ndarray
 
 
-def contact_state(model, geometry, points, basis) -> ContactState:
+def contact_state(model, geometry, points, basis, orbit=None) -> ContactState:
     """Normal, normal force, tangents, the surface-restricted Hessian, force and energy at
     contact points (the energy from the same evaluation as the force).
 
@@ -492,6 +523,9 @@ def contact_state(model, geometry, points, basis) -> ContactState:
     points : ndarray, shape (N, 3)
         m, on the surface.
     basis : ndarray, shape (k, 3)
+    orbit : callable or None
+        points (N, 3) -> unit directions (N, 3) of a continuous symmetry's orbits (zeros where
+        there is none): K_t has no stiffness along them (flat_along_orbit).
 
     Returns
     -------
@@ -526,4 +560,6 @@ def contact_state(model, geometry, points, basis) -> ContactState:
     K = model.hessian(points, tangents)
     curvature = geometry.clearance_hessian(points, tangents)
     K_t = K - normal_force[:, None, None] * curvature
+    if orbit is not None:
+        K_t = flat_along_orbit(K_t, tangents, orbit(points))
     return ContactState(normals, normal_force, tangents, K_t, F, U)

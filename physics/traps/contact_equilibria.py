@@ -4,20 +4,23 @@ surface and Newton's method on it (plane, free), kept when pressed and stable al
 from __future__ import annotations
 
 from trapscape.physics.traps.candidates import contact_starts
-from trapscape.physics.traps.classify import LocalHessian, Sample, make_equilibrium
+from trapscape.physics.traps.classify import LocalHessian, Sample, make_equilibrium, rests
 from trapscape.physics.traps.contact import (contact_state, line_contacts, surface_descent,
                                              surface_newton)
 from trapscape.physics.traps.families import unique_points
 from trapscape.physics.traps.report import Contact
+from trapscape.physics.traps.symmetry import ON_AXIS
 
 
-def contact_equilibria(problem, grid) -> list:
-    """The point model's stable (or marginal) contact equilibria.
+def contact_equilibria(problem, grid, symmetry=None) -> list:
+    """The point model's contact equilibria where the probe rests (classify.rests).
 
     Parameters
     ----------
     problem : TrapProblem
     grid : ScanGrid
+    symmetry : Symmetry or None
+        The scene's: a continuous one makes contacts flat along its circles (contact_state).
 
     Returns
     -------
@@ -25,6 +28,7 @@ def contact_equilibria(problem, grid) -> list:
         Each with its Contact; free_directions counts the directions along the surface.
     """
     model, geometry, basis = problem.point_model, problem.geometry, problem.basis
+    orbit = symmetry.orbit(ON_AXIS * geometry.spacing) if symmetry is not None else None
     starts = contact_starts(grid, problem.tolerances.max_contact_starts)
     if len(starts) == 0:
         return []
@@ -33,12 +37,12 @@ def contact_equilibria(problem, grid) -> list:
     else:
         points = surface_descent(model, geometry, grid.points[starts], basis)
         points = surface_newton(model, geometry, unique_points(points, 2e-2 * geometry.spacing),
-                                basis)
+                                basis, orbit=orbit)
     points = points[geometry.clearance(points) >= geometry.radius * (1 - 1e-6)]
     points = unique_points(points, 2e-2 * geometry.spacing)
     if len(points) == 0:
         return []
-    normals, pressed, tangents, K_t, F, U = contact_state(model, geometry, points, basis)
+    normals, pressed, tangents, K_t, F, U = contact_state(model, geometry, points, basis, orbit)
     B = model.applied_field(points)[0]
     names = geometry.surface_name(points)
     found = []
@@ -48,7 +52,7 @@ def contact_equilibria(problem, grid) -> list:
         contact = Contact(surface=names[i], normal_force_N=float(pressed[i]), normal=normals[i])
         eq = make_equilibrium(problem, Sample(points[i], U[i], F[i], B[i]),
                               LocalHessian(tangents[i], K_t[i]), contact=contact)
-        if eq.classification in ("stable", "marginal"):
+        if rests(eq):
             found.append(eq)
     return found
 

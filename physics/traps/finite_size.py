@@ -8,13 +8,14 @@ from dataclasses import replace
 
 import numpy as np
 
-from trapscape.physics.traps.classify import LocalHessian, Sample, make_equilibrium
+from trapscape.physics.traps.classify import LocalHessian, Sample, make_equilibrium, rests
 from trapscape.physics.traps.contact import contact_state, surface_newton
 from trapscape.physics.traps.families import drop_repeats, is_field_zero, unique_points
 from trapscape.physics.traps.finite_scan import finite_scan
 from trapscape.physics.traps.notes import RIGID_MAGNET_NOTE, finite_probe_note
 from trapscape.physics.traps.refine import newton
 from trapscape.physics.traps.report import Contact, FiniteProbe, RuleCheck
+from trapscape.physics.traps.symmetry import ON_AXIS
 
 SEED_ITERATIONS = 12  # Newton's iterations from a scan's seed (a cell from the equilibrium)
 
@@ -96,7 +97,7 @@ def finite_summary(problem, finite, used: bool, largest: float) -> FiniteProbe:
                        note=finite_probe_note(finite.description, used, largest, threshold))
 
 
-def resolve_finite(problem, finite, equilibria) -> list:
+def resolve_finite(problem, finite, equilibria, symmetry=None) -> list:
     """Each equilibrium re-solved with the finite-size model from its point-model position.
 
     Field zeros are kept as they are. A contact the finite size lifts off its surface (pressed
@@ -108,6 +109,8 @@ def resolve_finite(problem, finite, equilibria) -> list:
     problem : TrapProblem
     finite : ProbeModel
     equilibria : list of Equilibrium
+    symmetry : Symmetry or None
+        The scene's (resolve_contacts).
 
     Returns
     -------
@@ -119,7 +122,7 @@ def resolve_finite(problem, finite, equilibria) -> list:
     contacts = [e for e in equilibria if e.contact is not None]
     result = [e for e in equilibria if is_field_zero(e)]
     result += resolve_free(problem, finite, free, [e.position for e in free])
-    resolved, lifted, starts = resolve_contacts(problem, finite, contacts)
+    resolved, lifted, starts = resolve_contacts(problem, finite, contacts, symmetry)
     result += resolved
     notes = [f"lifted off {e.contact.surface} by the probe's finite size (the point model had it "
              "resting there)" for e in lifted]
@@ -310,7 +313,7 @@ def solving_model(finite, eq):
     return finite.rule_groups(eq.position[None])[0][0]
 
 
-def resolve_contacts(problem, finite, equilibria) -> tuple:
+def resolve_contacts(problem, finite, equilibria, symmetry=None) -> tuple:
     """Contacts re-solved along their surface with the finite model.
 
     Parameters
@@ -319,11 +322,14 @@ def resolve_contacts(problem, finite, equilibria) -> tuple:
     finite : ProbeModel
     equilibria : list of Equilibrium
         The point model's contacts.
+    symmetry : Symmetry or None
+        The scene's: with a continuous one, one contact of each of its circles is solved, and
+        contacts have no stiffness along the circles (contact.flat_along_orbit).
 
     Returns
     -------
     resolved : list of Equilibrium
-        Still pressed and stable (or marginal) along the surface.
+        Still pressed and resting along the surface (classify.rests).
     lifted : list of Equilibrium
         The point-model contacts the finite size no longer presses.
     starts : list of ndarray, shape (3,)
@@ -334,8 +340,9 @@ def resolve_contacts(problem, finite, equilibria) -> tuple:
     geometry, basis = problem.geometry, problem.basis
     finite = finite.scan_model()  # solving_model: the scan rule at a contact
     x = np.array([e.position for e in equilibria])
-    x = surface_newton(finite, geometry, x, basis)  # on a line: fixed by the geometry
-    normals, pressed, tangents, K_t, F, U = contact_state(finite, geometry, x, basis)
+    orbit = symmetry.orbit(ON_AXIS * geometry.spacing) if symmetry is not None else None
+    x = _solved_on_surface(finite, geometry, x, basis, symmetry)
+    normals, pressed, tangents, K_t, F, U = contact_state(finite, geometry, x, basis, orbit)
     B = finite.applied_field(x)[0]
     names = geometry.surface_name(x)
     resolved, lifted, starts = [], [], []
@@ -349,12 +356,32 @@ def resolve_contacts(problem, finite, equilibria) -> tuple:
         contact = Contact(surface=names[i], normal_force_N=float(pressed[i]), normal=normals[i])
         new = make_equilibrium(problem, Sample(x[i], U[i], F[i], B[i]),
                                LocalHessian(tangents[i], K_t[i]), contact=contact, note=eq.note)
-        if new.classification in ("stable", "marginal"):
+        if rests(new):
             resolved.append(_shifted(new, eq))
     return resolved, lifted, starts
 
 
-def with_finite_size(problem, grid, equilibria) -> tuple:
+def _solved_on_surface(finite, geometry, x, basis, symmetry):
+    """Contacts re-solved along their surface (surface_newton; a line: fixed by the geometry).
+
+    With a continuous symmetry, one contact of each circle is solved, and the others are its
+    copies turned about the axis (put back onto a faceted surface): the points of a circle are
+    one state.
+    """
+    if symmetry is None or not symmetry.continuous:
+        return surface_newton(finite, geometry, x, basis)
+    owners = symmetry.circle_owners(x, 1e-2 * geometry.spacing)
+    first = np.flatnonzero(owners == np.arange(len(x)))
+    solved = np.empty_like(x)
+    solved[first] = surface_newton(finite, geometry, x[first], basis, orbit=symmetry.orbit(ON_AXIS * geometry.spacing))
+    copies = np.flatnonzero(owners != np.arange(len(x)))
+    if len(copies):
+        turned = symmetry.carried_around(solved[owners[copies]], x[owners[copies]], x[copies])
+        solved[copies] = geometry.project_to_surface(turned, basis)
+    return solved
+
+
+def with_finite_size(problem, grid, equilibria, symmetry=None) -> tuple:
     """The point model's equilibria with their finite-size corrections.
 
     They are re-solved with the finite model when the largest correction exceeds the threshold
@@ -367,6 +394,8 @@ def with_finite_size(problem, grid, equilibria) -> tuple:
     grid : ScanGrid
     equilibria : list of Equilibrium
         The point model's.
+    symmetry : Symmetry or None
+        The scene's (resolve_contacts).
 
     Returns
     -------
@@ -390,7 +419,7 @@ def with_finite_size(problem, grid, equilibria) -> tuple:
     flood_grid = grid
     if use_finite:
         scanned = finite_scan(problem, grid, finite)
-        equilibria = resolve_finite(problem, finite, equilibria)
+        equilibria = resolve_finite(problem, finite, equilibria, symmetry)
         seeded = seeded_equilibria(problem, finite, scanned, equilibria)
         equilibria = rule_checks(finite, drop_repeats(equilibria + seeded,
                                                       1e-2 * problem.spacing))

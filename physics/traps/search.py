@@ -76,15 +76,16 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
     """
     problem = TrapProblem.from_scene(field_model, scene, finite_probe)
     grid = scan(problem, progress)
-    equilibria = free_equilibria(problem, grid, starts) + contact_equilibria(problem, grid)
+    symmetry = scene_symmetry(problem)
+    equilibria = (free_equilibria(problem, grid, starts)
+                  + contact_equilibria(problem, grid, symmetry))
     limit = problem.tolerances.max_contact_starts
     notes = (contact_limit_note(limit),) if starts_were_capped(problem, grid) else ()
     equilibria = merge_families(equilibria, problem.spacing)
-    equilibria, final_model, finite_summary, flood_grid = with_finite_size(problem, grid,
-                                                                           equilibria)
+    equilibria, final_model, finite_summary, flood_grid = with_finite_size(
+        problem, grid, equilibria, symmetry)
     equilibria = _sorted(problem, with_escapes(problem, grid, equilibria, final_model,
                                                flood_grid))
-    symmetry = scene_symmetry(problem)
     equilibria, families = trap_families(equilibria, symmetry, problem.spacing)
     return TrapReport(
         probe_kind=problem.law.kind, constraint_kind=problem.constraint_kind,

@@ -24,6 +24,7 @@ FIELD_TOLERANCE = 1e-4  # |B(Rx) - s det(R) R B(x)| below this share of |B|: the
 # of a grid step: the parts' surfaces agree to what the search resolves (family_grouping's
 # POSITION_TOLERANCE), so a fine polygon from CAD counts as round, as its equilibria do
 CLEARANCE_TOLERANCE = 0.05
+ON_AXIS = 1e-2  # grid steps: a point this near a continuous symmetry's axis has no circle
 TEST_ANGLES = (2.0 * np.pi * 0.1234567, 2.0 * np.pi * 0.3819660)  # no n-fold axis has both
 
 
@@ -85,6 +86,99 @@ class Symmetry:
         """
         offset = np.asarray(point, float) - self.centre
         return self.centre + np.array([R @ offset for R in self.operations])
+
+    def orbit(self, near_axis: float):
+        """contact_state's orbit: orbit_directions with near_axis fixed, or None when the
+        symmetry is not continuous.
+
+        Parameters
+        ----------
+        near_axis : float
+            m; points nearer the axis than this have no orbit (a circle of them is one point).
+
+        Returns
+        -------
+        callable or None
+        """
+        if not self.continuous:
+            return None
+        return lambda points: self.orbit_directions(points, near_axis)
+
+    def orbit_directions(self, points, near_axis: float) -> np.ndarray:
+        """Unit directions in which a continuous rotation moves each point.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            m.
+        near_axis : float
+            m; within this of the axis the direction is zero.
+
+        Returns
+        -------
+        ndarray, shape (N, 3)
+            axis x (point - centre), normalised; zero near the axis and for a symmetry that is
+            not continuous.
+        """
+        offsets = np.asarray(points, float).reshape(-1, 3) - self.centre
+        if not self.continuous:
+            return np.zeros_like(offsets)
+        moves = np.cross(self.axis, offsets)
+        size = np.linalg.norm(moves, axis=1, keepdims=True)
+        return np.divide(moves, size, out=np.zeros_like(moves),
+                         where=size > max(near_axis, 1e-300))
+
+    def circle_owners(self, points, distance: float) -> np.ndarray:
+        """For each point, the first point of the same circle about the axis (a continuous
+        symmetry): the same distance from the axis and height within distance.
+
+        Parameters
+        ----------
+        points : array_like, shape (N, 3)
+            m.
+        distance : float
+            m.
+
+        Returns
+        -------
+        ndarray of int, shape (N,)
+            Index of each point's owner (itself for the first of its circle); every point its
+            own owner for a symmetry that is not continuous.
+        """
+        points = np.asarray(points, float).reshape(-1, 3)
+        owners = np.arange(len(points))
+        if not self.continuous:
+            return owners
+        coordinates = np.array([self.circle_coordinates(p) for p in points]).reshape(-1, 2)
+        for i in range(len(points)):
+            near = np.max(np.abs(coordinates[:i] - coordinates[i]), axis=1) < distance
+            earlier = np.flatnonzero(near & (owners[:i] == np.arange(i)))
+            if len(earlier):
+                owners[i] = earlier[0]
+        return owners
+
+    def carried_around(self, points, start, end) -> np.ndarray:
+        """points turned about the axis by the angle that takes start to end, for each row.
+
+        Parameters
+        ----------
+        points, start, end : array_like, shape (N, 3)
+            m.
+
+        Returns
+        -------
+        ndarray, shape (N, 3)
+            m (Rodrigues' formula, as rotation()).
+        """
+        a = np.asarray(start, float).reshape(-1, 3) - self.centre
+        b = np.asarray(end, float).reshape(-1, 3) - self.centre
+        k = self.axis
+        a_flat, b_flat = a - np.outer(a @ k, k), b - np.outer(b @ k, k)
+        angle = np.arctan2(np.cross(a_flat, b_flat) @ k, np.einsum("ni,ni->n", a_flat, b_flat))
+        v = np.asarray(points, float).reshape(-1, 3) - self.centre
+        c, s = np.cos(angle)[:, None], np.sin(angle)[:, None]
+        turned = v * c + np.cross(k, v) * s + np.outer(v @ k, k) * (1.0 - c)
+        return self.centre + turned
 
     def circle_coordinates(self, point) -> tuple:
         """Where a point sits about the axis (for a continuous symmetry).
