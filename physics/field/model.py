@@ -141,7 +141,7 @@ class FieldModel:
             if gradient:
                 G[near] += g
         far = ~near if some else slice(None)  # all of them: no copy
-        if not some or not near.all():
+        if not near.all():
             result = dipole_H(points[far], source.dipole_positions, source.dipole_moments,
                               gradient=gradient)
             _accumulate(H, G, result, gradient, far)
