@@ -10,6 +10,7 @@ to a temporary name and moved into place.
 """
 from __future__ import annotations
 
+import functools
 import hashlib
 import os
 import tempfile
@@ -62,13 +63,18 @@ def mesh_key(data: bytes, kind: str) -> str:
     -------
     str
     """
-    try:
-        reader = metadata.version("trimesh")
-    except metadata.PackageNotFoundError:
-        reader = "unknown"
-    digest = hashlib.sha256(f"{FORMAT}\0{kind}\0{reader}\0".encode())
+    digest = hashlib.sha256(f"{FORMAT}\0{kind}\0{_reader()}\0".encode())
     digest.update(data)
     return digest.hexdigest()
+
+
+@functools.cache
+def _reader() -> str:
+    """trimesh's version (read once: a few ms of package metadata)."""
+    try:
+        return metadata.version("trimesh")
+    except metadata.PackageNotFoundError:
+        return "unknown"
 
 
 def cached_mesh(key: str, read) -> CheckedMesh:
