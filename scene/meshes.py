@@ -18,6 +18,7 @@ import numpy as np
 
 from trapscape.scene.errors import SceneError, SceneWarning
 from trapscape.scene.files import MAX_MESH_BYTES, regular_file
+from trapscape.scene.mesh_cache import CheckedMesh, cached_mesh, mesh_key
 from trapscape.scene.shapes.meshops import mesh_volume, winding_number
 from trapscape.scene.units import METRES_PER_3MF_UNIT
 
@@ -34,7 +35,8 @@ MESH_ELEMENT = "mesh"  # the 3MF core specification's element holding vertices a
 def read_mesh(path: Path, shown: str, scale: float | None, where: str):
     """(vertices (V, 3) m, faces (F, 3) int64) of a checked, outward-oriented closed mesh.
 
-    scale: metres per file unit; None for a 3MF file means "the unit the 3MF declares".
+    scale: metres per file unit; None for a 3MF file means "the unit the 3MF declares". A file
+    read before (the same bytes) comes from the mesh cache (scene.mesh_cache) with its warnings.
     """
     kind = FORMATS.get(path.suffix.lower())
     if kind is None:
@@ -48,18 +50,43 @@ def read_mesh(path: Path, shown: str, scale: float | None, where: str):
     if path.stat().st_size > MAX_MESH_BYTES:
         raise SceneError(f"{where}: {shown} is larger than {MAX_MESH_BYTES >> 20} MB; simplify "
                          f"the mesh (a magnet needs far fewer triangles).")
-    mesh, file_scale = _load(path, kind, shown, where)
+    try:
+        key = mesh_key(path.read_bytes(), kind)
+    except OSError:  # unreadable: the reader below says so in its own words
+        checked = _checked_mesh(path, kind, shown, where)
+    else:
+        checked = cached_mesh(key, lambda: _checked_mesh(path, kind, shown, where))
+    _check_triangle_count(len(checked.faces), shown, where)  # a limit lowered since stored
+    if checked.inverted:
+        warnings.warn(SceneWarning(
+            f"{where}: {shown} is inside-out (its faces point inward); trimesh reversed every "
+            f"face, which is safe for a closed mesh like this one - export it again with "
+            f"outward normals to silence this warning."), stacklevel=2)
+    if checked.bodies > 1:
+        warnings.warn(SceneWarning(
+            f"{where}: {shown} holds {checked.bodies} separate closed bodies; they are one part "
+            f"here (one name, one grade, one north). To give each its own, run `trapscape import "
+            f"{shown} -o parts.toml` (one [[magnet]] per body, with a parts list for grades and "
+            f"directions) and copy its [[magnet]] tables, or export each magnet as its own "
+            f"file."), stacklevel=2)
     if scale is None:
-        scale = file_scale
+        scale = checked.file_scale
+    vertices = np.asarray(checked.vertices, float) * scale
+    faces = np.array(checked.faces, dtype=np.int64)
+    vertices.setflags(write=False)
+    faces.setflags(write=False)
+    return vertices, faces
+
+
+def _checked_mesh(path: Path, kind: str, shown: str, where: str) -> CheckedMesh:
+    """The file read by trimesh and checked: each problem a SceneError of its own sentence."""
+    mesh, file_scale = _load(path, kind, shown, where)
     if len(mesh.faces) == 0:
         if path.stat().st_size == 0:
             raise SceneError(f"{where}: {shown} is empty (0 bytes); export the part again.")
         raise SceneError(f"{where}: cannot read {shown} as {kind.upper()} (no triangles found in "
                          f"it: damaged, or not that format); export the solid body again.")
-    if len(mesh.faces) > MAX_TRIANGLES:
-        raise SceneError(f"{where}: {shown} has {len(mesh.faces):,} triangles, more than the "
-                         f"{MAX_TRIANGLES:,} trapscape handles; export it with a coarser "
-                         f"tolerance (a chord error of 0.01 mm is plenty for the field).")
+    _check_triangle_count(len(mesh.faces), shown, where)
     if not mesh.is_watertight:
         raise SceneError(f"{where}: {shown} is not closed (it has holes or open edges, so it "
                          f"has no inside); {REPAIR_HINT}.")
@@ -74,23 +101,16 @@ def read_mesh(path: Path, shown: str, scale: float | None, where: str):
                          f"export the solid body, not a surface.")
     if enclosed < 0:
         mesh.invert()  # reverses every face: exact for a closed, consistently wound mesh
-        warnings.warn(SceneWarning(
-            f"{where}: {shown} is inside-out (its faces point inward); trimesh reversed every "
-            f"face, which is safe for a closed mesh like this one - export it again with "
-            f"outward normals to silence this warning."), stacklevel=2)
     _check_enclosed_once(np.asarray(mesh.vertices, float), np.asarray(mesh.faces), shown, where)
-    if mesh.body_count > 1:
-        warnings.warn(SceneWarning(
-            f"{where}: {shown} holds {mesh.body_count} separate closed bodies; they are one part "
-            f"here (one name, one grade, one north). To give each its own, run `trapscape import "
-            f"{shown} -o parts.toml` (one [[magnet]] per body, with a parts list for grades and "
-            f"directions) and copy its [[magnet]] tables, or export each magnet as its own "
-            f"file."), stacklevel=2)
-    vertices = np.asarray(mesh.vertices, float) * scale
-    faces = np.array(mesh.faces, dtype=np.int64)
-    vertices.setflags(write=False)
-    faces.setflags(write=False)
-    return vertices, faces
+    return CheckedMesh(np.asarray(mesh.vertices, float), np.array(mesh.faces, dtype=np.int64),
+                       file_scale, bool(enclosed < 0), int(mesh.body_count))
+
+
+def _check_triangle_count(count: int, shown: str, where: str) -> None:
+    if count > MAX_TRIANGLES:
+        raise SceneError(f"{where}: {shown} has {count:,} triangles, more than the "
+                         f"{MAX_TRIANGLES:,} trapscape handles; export it with a coarser "
+                         f"tolerance (a chord error of 0.01 mm is plenty for the field).")
 
 
 def _check_enclosed_once(vertices, faces, shown: str, where: str) -> None:

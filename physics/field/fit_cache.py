@@ -15,6 +15,8 @@ from pathlib import Path
 
 import numpy as np
 
+from trapscape.scene.mesh_cache import cache_root
+
 FORMAT = "1"  # bump when the fit or its inputs change meaning
 
 
@@ -25,13 +27,8 @@ def cache_folder() -> Path | None:
     -------
     pathlib.Path or None
     """
-    setting = os.environ.get("TRAPSCAPE_CACHE")
-    if setting == "off":
-        return None
-    if setting:
-        return Path(setting) / "fits"
-    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
-    return Path(base) / "trapscape" / "fits"
+    root = cache_root()
+    return None if root is None else root / "fits"
 
 
 def fit_key(vertices, faces, magnetization, count: int) -> str:

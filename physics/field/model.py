@@ -9,7 +9,7 @@ import numpy as np
 
 from trapscape.scene.shapes import shape_of
 from trapscape.scene.shapes.frames import to_body
-from trapscape.scene.shapes.meshops import nearest_mesh_sdf
+from trapscape.scene.shapes.meshops import mesh_diagonal, nearest_mesh_sdf
 from trapscape.scene.shapes.meshtree import pack_trees
 from trapscape.scene.units import MU0
 from trapscape.physics.field.box_distance import Boxes
@@ -87,6 +87,9 @@ class FieldModel:
             Only with gradient=True: G[n, i, j] = dH_i/dx_j, A/m^2.
         """
         points = np.ascontiguousarray(points, dtype=float).reshape(-1, 3)
+        if len(points) <= CHUNK and progress is None:  # one batch: its arrays are the answer
+            H, G = self._H_batch(points, set(exclude), gradient)
+            return (H, G) if gradient else H
         H = np.zeros_like(points)
         G = np.zeros((len(points), 3, 3)) if gradient else None
         for start in range(0, len(points), CHUNK):
@@ -131,12 +134,13 @@ class FieldModel:
         """A part with an exact zone: its exact form there, its dipoles only outside it (they
         sit inside the zone, so their own field is never evaluated close to them)."""
         near = source.in_near_zone(points)
-        if near.any():
+        some = near.any()
+        if some:
             h, g = source.near.closed_form_H(points[near], gradient)
             H[near] += h
             if gradient:
                 G[near] += g
-        far = slice(None) if not near.any() else ~near  # all of them: no copy
+        far = ~near if some else slice(None)  # all of them: no copy
         if not near.all():
             result = dipole_H(points[far], source.dipole_positions, source.dipole_moments,
                               gradient=gradient)
@@ -391,7 +395,7 @@ class FieldModel:
         # The minimum is the same, bit for bit.
         floors, ceilings, bodies = self._box_distances(points, others)
         reach = np.minimum(ceilings.min(axis=1), best)
-        meshes, forest = self._mesh_forest()
+        meshes, forest, diagonals = self._mesh_forest()
         for column, k in enumerate(others):
             if k in meshes:
                 continue
@@ -402,20 +406,21 @@ class FieldModel:
                                         shape_of(magnet).sdf(magnet, bodies[column][todo]))
         if meshes:
             columns = [others.index(k) for k in meshes]
-            tessellations = [shape_of(self.magnets[k]).tessellation(self.magnets[k])
-                             for k in meshes]
-            best = nearest_mesh_sdf(bodies[columns], tessellations, forest, best,
+            best = nearest_mesh_sdf(bodies[columns], diagonals, forest, best,
                                     floors[:, columns] <= reach[:, None], floors[:, columns])
         return best
 
-    def _mesh_forest(self) -> tuple[list, object]:
-        """The indices of the parts whose distance comes from a search tree (meshes) and their
-        trees packed into one meshtree.Forest (None without such parts), built on first use."""
+    def _mesh_forest(self) -> tuple[list, object, list]:
+        """The indices of the parts whose distance comes from a search tree (meshes), their
+        trees packed into one meshtree.Forest (None without such parts) and their bounding-box
+        diagonals (meshops.mesh_diagonal, m), built on first use."""
         if self._forest is None:
             trees = [(k, shape_of(m).search_tree(m)) for k, m in enumerate(self.magnets)]
             trees = [(k, tree) for k, tree in trees if tree is not None]
+            diagonals = [mesh_diagonal(shape_of(self.magnets[k]).tessellation(self.magnets[k])[0])
+                         for k, _ in trees]
             self._forest = ([k for k, _ in trees],
-                            pack_trees([tree for _, tree in trees]) if trees else None)
+                            pack_trees([tree for _, tree in trees]) if trees else None, diagonals)
         return self._forest
 
     def _box_distances(self, points, chosen) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

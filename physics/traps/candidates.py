@@ -58,10 +58,14 @@ def sign_change_mask(grid) -> np.ndarray:
     shape, k = grid.shape, len(grid.shape)
     ok = grid.admissible.reshape(shape)
     components = (grid.force_N @ grid.axes.T).reshape(shape + (k,))
-    slices = corner_slices(k)
-    all_ok = np.logical_and.reduce([ok[s] for s in slices])
-    low = np.minimum.reduce([components[s] for s in slices])
-    high = np.maximum.reduce([components[s] for s in slices])
+    first, *others = corner_slices(k)
+    # corner by corner into one array each: reducing a list of the 2^k corner arrays stacks
+    # them first (a copy of 2^k grids of k components)
+    all_ok, low, high = ok[first].copy(), components[first].copy(), components[first].copy()
+    for s in others:
+        all_ok &= ok[s]
+        np.minimum(low, components[s], out=low)
+        np.maximum(high, components[s], out=high)
     return all_ok & np.all((low <= 0.0) & (high >= 0.0), axis=-1)
 
 

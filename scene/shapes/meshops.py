@@ -311,14 +311,29 @@ def mesh_sdf_and_normal(points, vertices, faces) -> tuple[np.ndarray, np.ndarray
     return distance, normal
 
 
-def nearest_mesh_sdf(bodies, meshes, forest, best, todo, box_distances) -> np.ndarray:
+def mesh_diagonal(vertices) -> float:
+    """The length of a mesh's bounding-box diagonal, m (mesh_sdf's far-field rule).
+
+    Parameters
+    ----------
+    vertices : (V, 3) m.
+
+    Returns
+    -------
+    float, m.
+    """
+    V = np.asarray(vertices, dtype=float)
+    return float(np.linalg.norm(V.max(axis=0) - V.min(axis=0)))
+
+
+def nearest_mesh_sdf(bodies, diagonals, forest, best, todo, box_distances) -> np.ndarray:
     """The smallest of best and mesh_sdf of each mesh a point is tried on, from one search of
     the meshes' packed trees (meshtree.forest_signed_distance) and mesh_sdf's far-field rule.
 
     Parameters
     ----------
     bodies : (P, N, 3) float, m, the points in each mesh's frame.
-    meshes : sequence of P (vertices (V, 3) m, faces (F, 3) int).
+    diagonals : sequence of P floats, m, each mesh's mesh_diagonal.
     forest : meshtree.Forest of the P meshes' trees, in that order.
     best : (N,) float, m, the smallest signed distance known so far (inf for none).
     todo : (N, P) bool, the meshes each point is tried on.
@@ -334,9 +349,7 @@ def nearest_mesh_sdf(bodies, meshes, forest, best, todo, box_distances) -> np.nd
     As mesh_sdf_and_normal.
     """
     best, todo = np.array(best, dtype=float), np.array(todo, dtype=bool)
-    for j, (vertices, _) in enumerate(meshes):
-        V = np.asarray(vertices, dtype=float)
-        diagonal = float(np.linalg.norm(V.max(axis=0) - V.min(axis=0)))
+    for j, diagonal in enumerate(diagonals):
         far = todo[:, j] & (box_distances[:, j] > diagonal)  # as _far_from
         if far.any():
             best[far] = np.minimum(best[far], forest.trees[j].vertex_tree.query(bodies[j][far])[0])
