@@ -18,7 +18,7 @@ MOST_ANSWERS = 6  # sentences; the table lists every family
 
 
 def family_answers(analysis, report, units: DisplayUnits, samples: LineSamples) -> list:
-    """One sentence per stable (or marginal) family, firmest first.
+    """One sentence per family where the probe rests (classify.rests), firmest first.
 
     Parameters
     ----------
@@ -33,7 +33,7 @@ def family_answers(analysis, report, units: DisplayUnits, samples: LineSamples) 
     list of str
         Empty when nothing holds the probe (the headline then says so).
     """
-    held = [f for f in report.families if f.classification in ("stable", "marginal")]
+    held = [f for f in report.families if rests(report.equilibria[f.representative])]
     held.sort(key=lambda f: -(f.escape_force_N[1] if f.escape_force_N else 0.0))
     sentences = [family_sentence(analysis, report, f, units, samples)
                  for f in held[:MOST_ANSWERS]]
@@ -67,10 +67,9 @@ def family_sentence(analysis, report, family, units: DisplayUnits, samples) -> s
     count = len(family.members)
     several = f" (and at {count - 1} equivalent point{'s' if count > 2 else ''})" \
         if count > 1 else ""
-    verb = "rests" if rests(eq) else "can rest (marginally)"
     path = {"line": " on its guide line", "plane": " on its guide plane"}.get(
         scene.constraint.kind, "")
-    text = (f"Trap {family.number}: the {subject} {verb}{path} at {where}{several}, "
+    text = (f"Trap {family.number}: the {subject} rests{path} at {where}{several}, "
             f"{nearest_face_words(analysis, eq, units)}; ")
     if scene.constraint.kind == "line":
         return text + line_push_words(scene, eq, units, samples) + "."

@@ -5,7 +5,7 @@ import pytest
 
 from trapscape.physics.field.model import FieldModel
 from trapscape.physics.traps.classify import (LocalHessian, Sample, classify, frequencies,
-                                              make_equilibrium)
+                                              make_equilibrium, rests)
 from trapscape.physics.traps.problem import MARGINAL_RATIO, TrapProblem
 from scene_factory import constraint, make_scene, soft_probe, sphere_magnet
 
@@ -97,3 +97,21 @@ def test_a_field_zero_is_unstable_by_rule(line_problem):
     assert eq.classification == "unstable" and eq.stable_directions == 0
     assert eq.stiffness_N_per_m == (None,) and eq.frequency_Hz == (None,)
     assert "cone" in eq.note and eq.directions.tolist() == [[0.0, 0.0, 1.0]]
+
+
+@pytest.mark.parametrize("values, expected", [
+    ([1.0, 5.0], True),  # stable
+    ([1e-17, 5.0], True),  # marginal only along one direction (a circle of contacts)
+    ([-1e-17, 5.0], True),  # the same, rounded below zero
+    ([-1e-17, -2.0, 5.0], False),  # marginal, but the energy falls along another direction
+    ([-2.0, 5.0], False),  # saddle
+])
+def test_the_probe_rests_only_where_no_direction_falls(line_problem, values, expected):
+    # DESIGN.md, Physics: a stable point holds the probe; a marginal one holds it where no
+    # eigenvalue is negative (beyond the marginal share of the largest)
+    frame = np.eye(3)[: len(values)]
+    eq = make_equilibrium(line_problem, sample_at((0, 0, 0)), LocalHessian(frame, np.diag(values)))
+    assert rests(eq) is expected
+    held = [f for f, k in zip(eq.frequency_Hz, values) if k > MARGINAL_RATIO * max(values)]
+    assert all(f is not None for f in held)
+    assert all(f is None for f, k in zip(eq.frequency_Hz, values) if abs(k) < 1e-9)
