@@ -399,7 +399,7 @@ def _cuboids_at(m, points, centers, matrices, sizes, Ms, moments, far, want_g, H
             add_rotated_G(R, gb, Gm)
 
 
-@njit(cache=True, error_model="numpy")
+@njit(cache=True, nogil=True, error_model="numpy")  # nogil: cells share out over threads
 def _cuboids_serial(points, centers, matrices, sizes, Ms, moments, far, want_g, H, G):
     for m in range(points.shape[0]):
         _cuboids_at(m, points, centers, matrices, sizes, Ms, moments, far, want_g, H, G)

@@ -470,7 +470,7 @@ def _rings_at(m, points, centers, matrices, dims, Ms, moments, far, gradient, H,
             add_rotated_G(R, gb, Gm)
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)  # nogil: cells share out over threads (local_cells)
 def _rings_serial(points, centers, matrices, dims, Ms, moments, far, gradient, H, G):
     for m in range(points.shape[0]):
         _rings_at(m, points, centers, matrices, dims, Ms, moments, far, gradient, H, G)

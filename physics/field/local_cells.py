@@ -24,12 +24,27 @@ expansion is fitted on a ball MARGIN wider than its cell's and kept on the famil
 cell inside that ball (the trap search's Newton steps and Hessian stencils come back to nearly
 the same points many times) uses it without summing the far parts again; the bound above holds
 anywhere in the ball, so a reused expansion is as accurate as a new one.
+
+A new expansion whose ball lies inside a cached one fitted to the exact field (level 0) is fitted
+through it (level 1): its samples are that expansion plus the parts near it but far here (the
+near parts of a ball inside another's are among the other's), a few dozen parts instead of every
+far part (the downward pass of the fast multipole method, by fitting instead of translating).
+The level-0 expansion's error is harmonic in its ball, so the new fit's check measures only its
+own error, and its budget is what TOLERANCE of its scale leaves after the level-0 expansion's
+bound (its scale is at least the level-0 one's: more parts, each nearer): the claim above holds
+as before. Small cells of single probes, with a few near parts, then pay.
+
+Cells whose work is small run the serial kernels (which release the GIL) over a pool of Python
+threads, one per numba thread; large ones run numba's threads over their points. Each cell is
+summed alone into its own points, so the numbers do not depend on the threads.
 """
 from __future__ import annotations
 
 import math
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, replace
 
+import numba
 import numpy as np
 from numba import njit, prange
 
@@ -42,14 +57,18 @@ MIN_POINTS = 2_000  # calls with fewer points are summed part by part
 THETA = 1.0 / 3.0  # the far parts lie outside r / THETA of a cell of radius r
 DEGREES = (6, 8, 10, 12, 14, 16, 18, 20)  # the local expansion's degrees tried, smallest first
 TOLERANCE = 1e-8  # of the far parts' field scale on the cell's sphere (see the docstring)
-EXPANSION_COST = 10.0  # one expansion at a point, in boxes' closed forms (degree 16: 4.4 us, a box 0.5 us)
+EXPANSION_COST = 10.0  # one expansion at a point, in boxes' closed forms (degree 16: 4.4 us, a box 0.5 us;
+# 2.1 us since the channels are summed side by side, but 5 made the 30 x 30 board slower: kept)
 MIN_CELL_POINTS = 256  # cells are not halved below this many points
 PARALLEL_MIN_POINTS = 20_000  # the expansion's kernel runs on numba's threads above this
+PARALLEL_MIN_WORK = 50_000  # point-part pairs of a cell above which it runs numba's threads (as
+# families.PARALLEL_MIN_WORK); smaller cells share out over Python threads
 MARGIN = 0.25  # an expansion is fitted on a ball this much wider than its cell's, so that the
 # points of later calls close by (Newton's steps, the Hessian's stencil) fall inside and reuse it
-CACHE_SIZE = 256  # expansions kept per family, newest first
+CACHE_SIZE = 1024  # expansions kept per family, newest first (40 kB each)
 REUSE = 4.0  # calls an expansion is expected to serve, for the cost model (a 16 x 16 board's
-# `traps`: 465 cells served by 65 expansions)
+# `traps`: 465 cells served by 65 expansions; 4 to 16 for the new fits through a level-0 one took
+# the same CPU time on the 30 x 30 board's)
 
 
 @dataclass(frozen=True)
@@ -61,6 +80,7 @@ class Cell:
     radius: float  # m
     near: np.ndarray  # (k,) bool over the family's parts
     expand: bool  # False: every part summed one by one here
+    use: object = None  # the cached Expansion chosen for it; None with expand: a new one
 
 
 _FIT = []
@@ -83,6 +103,9 @@ class Expansion:
     near_parts: object  # physics.field.families.Family: those parts
     degree: int
     coefficients: np.ndarray  # (CHANNELS, (TOP_DEGREE + 1)^2)
+    error: np.ndarray  # (CHANNELS,) its error bound, A/m for H and A/m^2 for dH/dx
+    level: int = 0  # 0: fitted to the far parts' exact field; 1: through a level-0 expansion
+    near_count: int = 0  # parts summed one by one
 
 
 def _samples_per_cell() -> int:
@@ -99,8 +122,11 @@ def _ball(points):
 def plan_cells(points, centers, radii, cache=()) -> tuple:
     """The cells of points and the cost of each plan, in closed-form evaluations.
 
-    A cell inside a cached expansion's ball costs its near parts and the expansion at its
-    points; any other its far parts at the sphere's samples over REUSE as well.
+    A cell may sum every part at its points, use a cached expansion whose ball holds it (its
+    near parts and the expansion at its points), or get a new expansion (its own near parts and
+    the expansion at its points, and the far parts at the sphere's samples over REUSE: through a
+    level-0 expansion holding its ball when there is one (that expansion and the parts near it
+    but far here), else every far part). The cheapest is chosen.
 
     Parameters
     ----------
@@ -121,32 +147,63 @@ def plan_cells(points, centers, radii, cache=()) -> tuple:
     """
     samples = _samples_per_cell()
     K = len(centers)
+    table = _table(cache)
 
     def plan(index):
         pts = points[index]
+        n = len(index)
         center, radius = _ball(pts)
-        hit = _cached(cache, center, radius)
-        if hit is None:
-            near = (np.linalg.norm(centers - center, axis=1) - radii
-                    < radius * (1.0 + MARGIN) / THETA)
-            n_near, fit = int(near.sum()), samples * (K - int(near.sum())) / REUSE
-        else:
-            near, n_near, fit = hit.near, int(hit.near.sum()), 0.0
-        direct = len(index) * K
-        expanded = fit + len(index) * (n_near + EXPANSION_COST)
-        if radius <= 0.0:  # one point, many times: nothing to expand about
-            expanded = math.inf
-        best = [Cell(index, center, radius, near, expanded < direct)], min(direct, expanded)
-        if len(index) >= 2 * MIN_CELL_POINTS and best[1] > len(index) * (1.0 + EXPANSION_COST):
+        best = (n * K, Cell(index, center, radius, np.zeros(K, bool), False))
+        if radius > 0.0:  # else one point, many times: nothing to expand about
+            hit = _best(table, center, radius)
+            if hit is not None:
+                cost = n * (table[2][hit] + EXPANSION_COST)
+                if cost < best[0]:
+                    best = (cost, Cell(index, center, radius, cache[hit].near, True, cache[hit]))
+            fit_radius = radius * (1.0 + MARGIN)
+            near = np.linalg.norm(centers - center, axis=1) - radii < fit_radius / THETA
+            n_near = int(near.sum())
+            parent = _best(table, center, fit_radius, top_level=0)
+            if parent is None:
+                fit = samples * (K - n_near) / REUSE
+            else:
+                fit = samples * (max(table[2][parent] - n_near, 0) + EXPANSION_COST) / REUSE
+            cost = fit + n * (n_near + EXPANSION_COST)
+            if cost < best[0]:
+                best = (cost, Cell(index, center, radius, near, True))
+        if n >= 2 * MIN_CELL_POINTS and best[0] > n * (1.0 + EXPANSION_COST):
             axis = int(np.argmax(pts.max(axis=0) - pts.min(axis=0)))
             order = np.argsort(pts[:, axis], kind="stable")
-            half = len(index) // 2
+            half = n // 2
             left, right = plan(index[order[:half]]), plan(index[order[half:]])
-            if left[1] + right[1] < best[1]:
+            if left[1] + right[1] < best[0]:
                 return left[0] + right[0], left[1] + right[1]
-        return best
+        return [best[1]], best[0]
 
     return plan(np.arange(len(points)))
+
+
+def _table(cache):
+    """The cached balls as arrays: centres (E, 3), radii (E,), near parts (E,), levels (E,)."""
+    if not cache:
+        return None
+    return (np.array([e.center for e in cache]), np.array([e.radius for e in cache]),
+            np.array([e.near_count for e in cache]), np.array([e.level for e in cache]))
+
+
+def _best(table, center, radius, top_level=None):
+    """The index of the cached expansion with the fewest near parts (the newest of those) whose
+    ball holds the ball (center, radius), of level top_level at most when given; or None."""
+    if table is None:
+        return None
+    centers, radii, counts, levels = table
+    holds = radii - np.linalg.norm(centers - center, axis=1) >= radius
+    if top_level is not None:
+        holds &= levels <= top_level
+    if not holds.any():
+        return None
+    chosen = np.flatnonzero(holds)
+    return int(chosen[np.argmin(counts[chosen])])
 
 
 @njit(cache=True)
@@ -157,7 +214,7 @@ def _expansion_at(m, points, center, radius, degree, coef, want_g, H, G, cr, ci,
                   cr, ci, row)
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)  # nogil: cells share out over threads
 def _expansion_serial(points, center, radius, degree, coef, want_g, H, G):
     n = TOP_DEGREE + 1
     cr, ci, row = np.empty((n, n)), np.empty((n, n)), np.empty(n * n)
@@ -186,8 +243,24 @@ def _direct(family, points, gradient):
     return H, G
 
 
-def local_expansion(far_parts, center, radius, moments_norm, distances):
+def _far_field(parts, points, through=None):
+    """(Q, CHANNELS): H and dH/dx of `parts` summed one by one at points, plus the expansion
+    `through` (whose ball holds the points) when given."""
+    H, G = _direct(parts, points, True)
+    if through is not None:
+        _expansion_serial(points, through.center, through.radius, through.degree,
+                          through.coefficients, True, H, G)
+    return channels(H, G)
+
+
+def local_expansion(far_parts, center, radius, moments_norm, distances, through=None):
     """The far parts' local expansion about a cell, or None when no degree meets the tolerance.
+
+    With `through` (a level-0 Expansion whose ball holds this one), the far parts' field at the
+    sphere's samples is that expansion plus `far_parts`, which are then only the far parts it
+    leaves out. Its error is harmonic in its ball, so the new fit is checked against the same
+    sums and the check's budget is what the tolerance leaves after `through`'s error bound: the
+    bound of the result holds for the exact field of every far part.
 
     Parameters
     ----------
@@ -198,27 +271,37 @@ def local_expansion(far_parts, center, radius, moments_norm, distances):
     radius : float
         The cell's radius r, m.
     moments_norm : numpy.ndarray, shape (F,)
-        |m_k| of the far parts, A m^2.
+        |m_k| of every far part (with `through`, those it covers too), A m^2.
     distances : numpy.ndarray, shape (F,)
         Their centres' distances from the cell's centre, m.
+    through : Expansion or None
+        The far parts outside `far_parts`, as an expansion valid on the sphere.
 
     Returns
     -------
-    tuple (degree, coefficients (CHANNELS, (TOP_DEGREE + 1)^2), error over the scale) or None
+    tuple (degree, coefficients (CHANNELS, (TOP_DEGREE + 1)^2), error bound (CHANNELS,) in A/m
+    and A/m^2) or None
 
     References
     ----------
     Greengard & Rokhlin, J. Comput. Phys. 73, 325 (1987) (the local expansion).
     """
     fit = sphere_fit()
-    values = channels(*_direct(far_parts, center + radius * fit.directions, True))
-    wanted = channels(*_direct(far_parts, center + radius * fit.check, True))
+    values = _far_field(far_parts, center + radius * fit.directions, through)
+    wanted = _far_field(far_parts, center + radius * fit.check, through)
     reach = distances + radius
     scale_H = float(np.sum(moments_norm / (4.0 * math.pi * reach**3)))
     scale_G = float(np.sum(moments_norm / (4.0 * math.pi * reach**4)))
     scales = np.array([scale_H] * 3 + [scale_G] * 5)
+    inherited = np.zeros(CHANNELS)
+    if through is not None:
+        inherited = through.error
+        budget = TOLERANCE * scales - inherited
+        if not np.all(budget > 0.0):
+            return None
+        scales = budget / TOLERANCE
     degree, coefficients, error = fit.first_within(values, wanted, scales, TOLERANCE)
-    return None if degree == 0 else (degree, coefficients, error)
+    return None if degree == 0 else (degree, coefficients, error * scales + inherited)
 
 
 def add_H_by_cells(family, points, gradient, H, G) -> None:
@@ -241,48 +324,72 @@ def add_H_by_cells(family, points, gradient, H, G) -> None:
     Greengard & Rokhlin, J. Comput. Phys. 73, 325 (1987).
     """
     cells, _ = plan_cells(points, family.centers, family.radii, family.expansions)
-    for cell in cells:
+    work = []
+    for cell in cells:  # the new expansions first, in order (each may serve the next)
+        expansion = None
+        if cell.expand:
+            expansion = cell.use if cell.use is not None else _new_expansion(family, cell)
+        parts = family if expansion is None else expansion.near_parts
+        work.append((cell, expansion, parts))
+    # Large cells run numba's threads over their points, one after the other; the small ones
+    # (serial kernels, which release the GIL) are shared out over as many Python threads. The
+    # cells' points are disjoint and each is summed alone, so the numbers do not depend on it.
+    large = [w for w in work if len(w[0].index) * len(w[2].centers) >= PARALLEL_MIN_WORK]
+    small = [w for w in work if len(w[0].index) * len(w[2].centers) < PARALLEL_MIN_WORK]
+
+    def run(item, parallel=False):
+        cell, expansion, parts = item
         pts = np.ascontiguousarray(points[cell.index])
-        expansion = _expansion_for(family, cell) if cell.expand else None
-        h, g = _direct(family if expansion is None else expansion.near_parts, pts, gradient)
+        h = np.zeros((len(pts), 3))
+        g = np.zeros((len(pts), 3, 3)) if gradient else np.zeros((1, 3, 3))
+        if len(pts) and len(parts.centers):
+            parts.kernel(pts, parts, gradient, h, g, parallel)
         if expansion is not None:
-            kernel = _expansion_parallel if len(pts) >= PARALLEL_MIN_POINTS else _expansion_serial
+            kernel = _expansion_parallel if parallel and len(pts) >= PARALLEL_MIN_POINTS \
+                else _expansion_serial
             kernel(pts, expansion.center, expansion.radius, expansion.degree,
-                   expansion.coefficients, gradient, h, g if gradient else np.zeros((1, 3, 3)))
+                   expansion.coefficients, gradient, h, g)
         H[cell.index] += h
         if gradient:
             G[cell.index] += g
 
+    for item in large:
+        run(item, parallel=True)
+    threads = numba.get_num_threads()
+    if threads > 1 and len(small) > 1:
+        with ThreadPoolExecutor(threads, thread_name_prefix="cells") as pool:  # joined here: no
+            list(pool.map(run, small))  # thread outlives the call (viewers.cli's quick exit)
+    else:
+        for item in small:
+            run(item)
 
-def _expansion_for(family, cell):
-    """A cached expansion whose ball holds the cell's, else one fitted on a ball MARGIN wider
-    (and cached), else None (no degree met the tolerance).
 
-    The cached expansion's error was checked on its own sphere, so it holds anywhere inside
-    its ball (the maximum principle), wherever the cell lies in it.
+def _new_expansion(family, cell):
+    """An expansion fitted on a ball MARGIN wider than the cell's (and cached): through the
+    cached level-0 expansion with the fewest near parts whose ball holds it (level 1), else from
+    every far part (level 0); None when no degree meets the tolerance.
+
+    Its error was checked on its own sphere, so it holds anywhere inside its ball (the maximum
+    principle), wherever a later cell lies in it.
     """
     cache = family.expansions
-    hit = _cached(cache, cell.center, cell.radius)
-    if hit is not None:
-        return hit
     radius = cell.radius * (1.0 + MARGIN)
     distances = np.linalg.norm(family.centers - cell.center, axis=1)
     far = distances - family.radii >= radius / THETA
-    fitted = local_expansion(_parts(family, far), cell.center, radius,
-                             np.linalg.norm(family.moments[far], axis=1), distances[far])
+    moments, reach = np.linalg.norm(family.moments[far], axis=1), distances[far]
+    parent = _best(_table(cache), cell.center, radius, top_level=0)
+    fitted, level = None, 1
+    if parent is not None:  # its near parts hold this cell's (its ball holds this one)
+        through = cache[parent]
+        fitted = local_expansion(_parts(family, far & through.near), cell.center, radius,
+                                 moments, reach, through)
+    if fitted is None:
+        fitted, level = local_expansion(_parts(family, far), cell.center, radius, moments,
+                                        reach), 0
     if fitted is None:
         return None
-    expansion = Expansion(cell.center, radius, ~far, _parts(family, ~far), fitted[0], fitted[1])
+    expansion = Expansion(cell.center, radius, ~far, _parts(family, ~far), *fitted, level=level,
+                          near_count=int(np.count_nonzero(~far)))
     cache.insert(0, expansion)
     del cache[CACHE_SIZE:]
     return expansion
-
-
-def _cached(cache, center, radius):
-    """The first expansion of the cache whose ball holds the ball (center, radius), or None."""
-    if not cache:
-        return None
-    reach = np.array([e.radius for e in cache]) - np.linalg.norm(
-        np.array([e.center for e in cache]) - center, axis=1)
-    first = int(np.argmax(reach >= radius))
-    return cache[first] if reach[first] >= radius else None
