@@ -341,7 +341,7 @@ def resolve_contacts(problem, finite, equilibria, symmetry=None) -> tuple:
     finite = finite.scan_model()  # solving_model: the scan rule at a contact
     x = np.array([e.position for e in equilibria])
     orbit = symmetry.orbit(ON_AXIS * geometry.spacing) if symmetry is not None else None
-    x = _solved_on_surface(finite, geometry, x, basis, symmetry)
+    x = _solved_on_surface(finite, geometry, x, basis, symmetry, orbit)
     normals, pressed, tangents, K_t, F, U = contact_state(finite, geometry, x, basis, orbit)
     B = finite.applied_field(x)[0]
     names = geometry.surface_name(x)
@@ -361,19 +361,19 @@ def resolve_contacts(problem, finite, equilibria, symmetry=None) -> tuple:
     return resolved, lifted, starts
 
 
-def _solved_on_surface(finite, geometry, x, basis, symmetry):
+def _solved_on_surface(finite, geometry, x, basis, symmetry, orbit):
     """Contacts re-solved along their surface (surface_newton; a line: fixed by the geometry).
 
     With a continuous symmetry, one contact of each circle is solved, and the others are its
     copies turned about the axis (put back onto a faceted surface): the points of a circle are
     one state.
     """
-    if symmetry is None or not symmetry.continuous:
+    if orbit is None:
         return surface_newton(finite, geometry, x, basis)
     owners = symmetry.circle_owners(x, 1e-2 * geometry.spacing)
     first = np.flatnonzero(owners == np.arange(len(x)))
     solved = np.empty_like(x)
-    solved[first] = surface_newton(finite, geometry, x[first], basis, orbit=symmetry.orbit(ON_AXIS * geometry.spacing))
+    solved[first] = surface_newton(finite, geometry, x[first], basis, orbit=orbit)
     copies = np.flatnonzero(owners != np.arange(len(x)))
     if len(copies):
         turned = symmetry.carried_around(solved[owners[copies]], x[owners[copies]], x[copies])
