@@ -58,10 +58,11 @@ class FlatRegions:
 
     Groups g: normal (g, 3), sigma (g,), centre (g, 3) the fan point c, low/high (g, 3) the box of
     its faces, near (g,) how close to its plane a point is summed face by face; loops of group g
-    are loop_first[g]:loop_first[g + 1]; loop k's tree starts at node root[k]. Nodes: the chain v[lo] .. v[hi] of the packed loop vertices (each loop repeats its
-    first vertex at its end), children left/right (-1 for a single edge), ball centre, reach2 (the
-    squared distance beyond which the lens's moments are used), and the lens's charge, dipole and
-    quadrupole about the centre (sigma included)."""
+    are loop_first[g]:loop_first[g + 1]; loop k's tree starts at node root[k]. Nodes: the chain
+    v[lo] .. v[hi] of the packed loop vertices (each loop repeats its first vertex at its end),
+    children left/right (-1 for a single edge), ball centre, reach2 (the squared distance beyond
+    which the lens's moments are used), and the lens's charge, dipole and quadrupole about the
+    centre (sigma included)."""
 
     face_groups: tuple  # (faces of group g) for each g, ids into MeshTables.faces
     normal: np.ndarray

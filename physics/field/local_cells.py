@@ -57,8 +57,9 @@ MIN_POINTS = 2_000  # calls with fewer points are summed part by part
 THETA = 1.0 / 3.0  # the far parts lie outside r / THETA of a cell of radius r
 DEGREES = (6, 8, 10, 12, 14, 16, 18, 20)  # the local expansion's degrees tried, smallest first
 TOLERANCE = 1e-8  # of the far parts' field scale on the cell's sphere (see the docstring)
-EXPANSION_COST = 10.0  # one expansion at a point, in boxes' closed forms (degree 16: 4.4 us, a box 0.5 us;
-# 2.1 us since the channels are summed side by side, but 5 made the 30 x 30 board slower: kept)
+# One expansion at a point, in boxes' closed forms (degree 16: 4.4 us, a box 0.5 us; 2.1 us since
+# the channels are summed side by side, but 5 made the 30 x 30 board slower: kept).
+EXPANSION_COST = 10.0
 MIN_CELL_POINTS = 256  # cells are not halved below this many points
 PARALLEL_MIN_POINTS = 20_000  # the expansion's kernel runs on numba's threads above this
 PARALLEL_MIN_WORK = 50_000  # point-part pairs of a cell above which it runs numba's threads (as

@@ -9,7 +9,6 @@ from trapscape.physics.traps.contact import (contact_state, line_contacts, surfa
                                              surface_newton)
 from trapscape.physics.traps.families import unique_points
 from trapscape.physics.traps.report import Contact
-from trapscape.physics.traps.symmetry import ON_AXIS
 
 
 def contact_equilibria(problem, grid, symmetry=None) -> list:
@@ -28,7 +27,7 @@ def contact_equilibria(problem, grid, symmetry=None) -> list:
         Each with its Contact; free_directions counts the directions along the surface.
     """
     model, geometry, basis = problem.point_model, problem.geometry, problem.basis
-    orbit = symmetry.orbit(ON_AXIS * geometry.spacing) if symmetry is not None else None
+    orbit = symmetry.orbit(geometry.spacing) if symmetry is not None else None
     starts = contact_starts(grid, problem.tolerances.max_contact_starts)
     if len(starts) == 0:
         return []

@@ -15,7 +15,6 @@ from trapscape.physics.traps.finite_scan import finite_scan
 from trapscape.physics.traps.notes import RIGID_MAGNET_NOTE, finite_probe_note
 from trapscape.physics.traps.refine import newton
 from trapscape.physics.traps.report import Contact, FiniteProbe, RuleCheck
-from trapscape.physics.traps.symmetry import ON_AXIS
 
 SEED_ITERATIONS = 12  # Newton's iterations from a scan's seed (a cell from the equilibrium)
 
@@ -340,7 +339,7 @@ def resolve_contacts(problem, finite, equilibria, symmetry=None) -> tuple:
     geometry, basis = problem.geometry, problem.basis
     finite = finite.scan_model()  # solving_model: the scan rule at a contact
     x = np.array([e.position for e in equilibria])
-    orbit = symmetry.orbit(ON_AXIS * geometry.spacing) if symmetry is not None else None
+    orbit = symmetry.orbit(geometry.spacing) if symmetry is not None else None
     x = _solved_on_surface(finite, geometry, x, basis, symmetry, orbit)
     normals, pressed, tangents, K_t, F, U = contact_state(finite, geometry, x, basis, orbit)
     B = finite.applied_field(x)[0]

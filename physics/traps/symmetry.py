@@ -87,14 +87,14 @@ class Symmetry:
         offset = np.asarray(point, float) - self.centre
         return self.centre + np.array([R @ offset for R in self.operations])
 
-    def orbit(self, near_axis: float):
-        """contact_state's orbit: orbit_directions with near_axis fixed, or None when the
-        symmetry is not continuous.
+    def orbit(self, spacing: float):
+        """contact_state's orbit: orbit_directions zero within ON_AXIS grid steps of the axis (a
+        circle of such points is one point), or None when the symmetry is not continuous.
 
         Parameters
         ----------
-        near_axis : float
-            m; points nearer the axis than this have no orbit (a circle of them is one point).
+        spacing : float
+            The search's grid step, m.
 
         Returns
         -------
@@ -102,7 +102,7 @@ class Symmetry:
         """
         if not self.continuous:
             return None
-        return lambda points: self.orbit_directions(points, near_axis)
+        return lambda points: self.orbit_directions(points, ON_AXIS * spacing)
 
     def orbit_directions(self, points, near_axis: float) -> np.ndarray:
         """Unit directions in which a continuous rotation moves each point.
