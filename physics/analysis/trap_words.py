@@ -9,6 +9,7 @@ import numpy as np
 from trapscape.physics.analysis.display_units import describe_force, scene_units
 from trapscape.physics.probe.laws import ProbeLaw
 from trapscape.physics.traps.classify import rests
+from trapscape.physics.traps.family_grouping import firmest
 
 # common practice: a holding force of at least twice the load it must carry (a safety factor
 # of 2 on holding magnets), and a barrier of at least 10 kT for a trap meant to hold a small
@@ -191,15 +192,17 @@ def headline_equilibrium(report):
     Returns
     -------
     Equilibrium or None
-        The firmest one where the probe rests (classify.rests; largest escape force), else the
-        firmest marginal one, else the first; None without equilibria.
+        The firmest one where the probe rests (classify.rests; largest escape force, the first
+        in the report's order of those equal to rounding), else the firmest marginal one, else
+        the first; None without equilibria.
     """
     if report is None or not report.equilibria:
         return None
     for chosen in ([e for e in report.equilibria if rests(e)],
                    [e for e in report.equilibria if e.classification == "marginal"]):
         if chosen:
-            return max(chosen, key=lambda e: _finite(e.escape.force_N if e.escape else None))
+            return chosen[firmest([(_finite(e.escape.force_N if e.escape else None), i)
+                                   for i, e in enumerate(chosen)])]
     return report.equilibria[0]
 
 

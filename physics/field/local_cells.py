@@ -114,10 +114,8 @@ def _samples_per_cell() -> int:
     return len(fit.directions) + len(fit.check)
 
 
-def _ball(points):
-    lower, upper = points.min(axis=0), points.max(axis=0)
-    center = 0.5 * (lower + upper)
-    return center, float(np.sqrt(np.max(np.sum((points - center) ** 2, axis=1))))
+# How a planned cell is summed (the kernel's codes)
+DIRECT, CACHED, NEW = 0, 1, 2
 
 
 def plan_cells(points, centers, radii, cache=()) -> tuple:
@@ -127,7 +125,9 @@ def plan_cells(points, centers, radii, cache=()) -> tuple:
     near parts and the expansion at its points), or get a new expansion (its own near parts and
     the expansion at its points, and the far parts at the sphere's samples over REUSE: through a
     level-0 expansion holding its ball when there is one (that expansion and the parts near it
-    but far here), else every far part). The cheapest is chosen.
+    but far here), else every far part). The cheapest is chosen. A cell of at least
+    2 MIN_CELL_POINTS points whose best costs more than (1 + EXPANSION_COST) per point is halved
+    along the longest side of its box, and the halves' plans replace it when cheaper.
 
     Parameters
     ----------
@@ -146,65 +146,158 @@ def plan_cells(points, centers, radii, cache=()) -> tuple:
     cost : float
         The plan's estimated cost; N K for the direct sum.
     """
-    samples = _samples_per_cell()
-    K = len(centers)
     table = _table(cache)
+    order, starts, stops, kinds, hits, balls, cost = _plan(
+        np.ascontiguousarray(points, float), np.ascontiguousarray(centers, float),
+        np.ascontiguousarray(radii, float), *table, _samples_per_cell())
+    K = len(centers)
+    cells = []
+    for start, stop, kind, hit, ball in zip(starts, stops, kinds, hits, balls):
+        center, radius = ball[:3].copy(), float(ball[3])
+        index = order[start:stop].copy()
+        if kind == DIRECT:
+            cells.append(Cell(index, center, radius, np.zeros(K, bool), False))
+        elif kind == CACHED:
+            cells.append(Cell(index, center, radius, cache[hit].near, True, cache[hit]))
+        else:
+            cells.append(Cell(index, center, radius, _near(centers, radii, center, radius), True))
+    return cells, cost
 
-    def plan(index):
-        pts = points[index]
-        n = len(index)
-        center, radius = _ball(pts)
-        best = (n * K, Cell(index, center, radius, np.zeros(K, bool), False))
-        if radius > 0.0:  # else one point, many times: nothing to expand about
-            hit = _best(table, center, radius)
-            if hit is not None:
-                cost = n * (table[2][hit] + EXPANSION_COST)
-                if cost < best[0]:
-                    best = (cost, Cell(index, center, radius, cache[hit].near, True, cache[hit]))
-            fit_radius = radius * (1.0 + MARGIN)
-            near = np.linalg.norm(centers - center, axis=1) - radii < fit_radius / THETA
-            n_near = int(near.sum())
-            parent = _best(table, center, fit_radius, top_level=0)
-            if parent is None:
-                fit = samples * (K - n_near) / REUSE
-            else:
-                fit = samples * (max(table[2][parent] - n_near, 0) + EXPANSION_COST) / REUSE
-            cost = fit + n * (n_near + EXPANSION_COST)
-            if cost < best[0]:
-                best = (cost, Cell(index, center, radius, near, True))
-        if n >= 2 * MIN_CELL_POINTS and best[0] > n * (1.0 + EXPANSION_COST):
-            axis = int(np.argmax(pts.max(axis=0) - pts.min(axis=0)))
-            order = np.argsort(pts[:, axis], kind="stable")
-            half = n // 2
-            left, right = plan(index[order[:half]]), plan(index[order[half:]])
-            if left[1] + right[1] < best[0]:
-                return left[0] + right[0], left[1] + right[1]
-        return [best[1]], best[0]
 
-    return plan(np.arange(len(points)))
+def _near(centers, radii, center, radius):
+    """The parts near a new expansion's ball (MARGIN wider than the cell's): within r / THETA."""
+    return np.linalg.norm(centers - center, axis=1) - radii < radius * (1.0 + MARGIN) / THETA
 
 
 def _table(cache):
     """The cached balls as arrays: centres (E, 3), radii (E,), near parts (E,), levels (E,)."""
-    if not cache:
-        return None
-    return (np.array([e.center for e in cache]), np.array([e.radius for e in cache]),
-            np.array([e.near_count for e in cache]), np.array([e.level for e in cache]))
+    return (np.array([e.center for e in cache], float).reshape(-1, 3),
+            np.array([e.radius for e in cache], float),
+            np.array([e.near_count for e in cache], np.int64),
+            np.array([e.level for e in cache], np.int64))
 
 
 def _best(table, center, radius, top_level=None):
     """The index of the cached expansion with the fewest near parts (the newest of those) whose
     ball holds the ball (center, radius), of level top_level at most when given; or None."""
-    if table is None:
-        return None
-    centers, radii, counts, levels = table
-    holds = radii - np.linalg.norm(centers - center, axis=1) >= radius
-    if top_level is not None:
-        holds &= levels <= top_level
-    if not holds.any():
-        return None
-    chosen = np.flatnonzero(holds)
-    return int(chosen[np.argmin(counts[chosen])])
+    hit = _holding(*table, np.asarray(center, float), float(radius),
+                   -1 if top_level is None else int(top_level))
+    return None if hit < 0 else int(hit)
+
+
+@njit(cache=True)
+def _norm(a0, a1, a2):
+    """sqrt((a0^2 + a1^2) + a2^2): numpy's order in np.linalg.norm(axis=1), bit for bit."""
+    return np.sqrt((a0 * a0 + a1 * a1) + a2 * a2)
+
+
+@njit(cache=True)
+def _holding(t_centers, t_radii, t_counts, t_levels, center, radius, top_level):
+    """_best's search: -1 when no cached ball holds the ball (top_level -1: any level)."""
+    hit = -1
+    for e in range(t_radii.shape[0]):
+        if top_level >= 0 and t_levels[e] > top_level:
+            continue
+        gap = _norm(t_centers[e, 0] - center[0], t_centers[e, 1] - center[1],
+                    t_centers[e, 2] - center[2])
+        if t_radii[e] - gap >= radius and (hit < 0 or t_counts[e] < t_counts[hit]):
+            hit = e
+    return hit
+
+
+@njit(cache=True)
+def _ball_of(points, order, start, stop):
+    """The centre of the points' box and the radius about it holding them all."""
+    lower, upper = np.full(3, np.inf), np.full(3, -np.inf)
+    for i in range(start, stop):
+        for a in range(3):
+            lower[a] = min(lower[a], points[order[i], a])
+            upper[a] = max(upper[a], points[order[i], a])
+    center = 0.5 * (lower + upper)
+    reach = 0.0
+    for i in range(start, stop):
+        p = points[order[i]]
+        reach = max(reach, ((p[0] - center[0]) ** 2 + (p[1] - center[1]) ** 2)
+                    + (p[2] - center[2]) ** 2)
+    return center, np.sqrt(reach), upper - lower
+
+
+@njit(cache=True)
+def _cell_choice(n, center, radius, centers, radii, t_centers, t_radii, t_counts, t_levels,
+                 samples):
+    """The cheapest way to sum one cell: (cost, DIRECT | CACHED | NEW, cached index)."""
+    K = centers.shape[0]
+    best, kind, chosen = float(n * K), DIRECT, -1
+    if radius > 0.0:  # else one point, many times: nothing to expand about
+        hit = _holding(t_centers, t_radii, t_counts, t_levels, center, radius, -1)
+        if hit >= 0:
+            cost = n * (t_counts[hit] + EXPANSION_COST)
+            if cost < best:
+                best, kind, chosen = cost, CACHED, hit
+        fit_radius = radius * (1.0 + MARGIN)
+        n_near = 0
+        for k in range(K):
+            gap = _norm(centers[k, 0] - center[0], centers[k, 1] - center[1],
+                        centers[k, 2] - center[2])
+            if gap - radii[k] < fit_radius / THETA:
+                n_near += 1
+        parent = _holding(t_centers, t_radii, t_counts, t_levels, center, fit_radius, 0)
+        if parent < 0:
+            fit = samples * (K - n_near) / REUSE
+        else:
+            fit = samples * (max(t_counts[parent] - n_near, 0) + EXPANSION_COST) / REUSE
+        cost = fit + n * (n_near + EXPANSION_COST)
+        if cost < best:
+            best, kind, chosen = cost, NEW, -1
+    return best, kind, chosen
+
+
+@njit(cache=True)
+def _plan(points, centers, radii, t_centers, t_radii, t_counts, t_levels, samples):
+    """plan_cells' tree: each node's best choice top-down (halving where allowed), then the
+    cheaper of a node and its halves bottom-up. Returns the points' order, the leaves' ranges in
+    it, their choices, their balls (centre, radius) and the plan's cost."""
+    N = points.shape[0]
+    order = np.arange(N)
+    cap = 2 * (N // MIN_CELL_POINTS + 1) + 1
+    start, stop = np.empty(cap, np.int64), np.empty(cap, np.int64)
+    kind, hit, child = np.empty(cap, np.int64), np.empty(cap, np.int64), np.full(cap, -1)
+    cost, ball = np.empty(cap), np.empty((cap, 4))
+    start[0], stop[0], count, node = 0, N, 1, 0
+    while node < count:  # breadth first: children are created after their parent
+        n = stop[node] - start[node]
+        center, radius, sides = _ball_of(points, order, start[node], stop[node])
+        ball[node, :3] = center
+        ball[node, 3] = radius
+        cost[node], kind[node], hit[node] = _cell_choice(
+            n, center, radius, centers, radii, t_centers, t_radii, t_counts, t_levels, samples)
+        if n >= 2 * MIN_CELL_POINTS and cost[node] > n * (1.0 + EXPANSION_COST):
+            axis = np.argmax(sides)
+            segment = order[start[node]:stop[node]].copy()
+            order[start[node]:stop[node]] = segment[np.argsort(points[segment, axis],
+                                                               kind="mergesort")]
+            middle = start[node] + n // 2
+            child[node] = count
+            start[count], stop[count] = start[node], middle
+            start[count + 1], stop[count + 1] = middle, stop[node]
+            count += 2
+        node += 1
+    total, split = cost.copy(), np.zeros(cap, np.bool_)
+    for node in range(count - 1, -1, -1):  # children before parents
+        if child[node] >= 0:
+            halves = total[child[node]] + total[child[node] + 1]
+            if halves < cost[node]:
+                total[node], split[node] = halves, True
+    leaves, stack = [], [0]
+    while stack:  # depth first, left before right: the cells in the points' order
+        node = stack.pop()
+        if split[node]:
+            stack.append(child[node] + 1)
+            stack.append(child[node])
+        else:
+            leaves.append(node)
+    chosen = np.array(leaves)
+    return order, start[chosen], stop[chosen], kind[chosen], hit[chosen], ball[chosen], total[0]
 
 
 @njit(cache=True)

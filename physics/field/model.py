@@ -301,14 +301,14 @@ class FieldModel:
         points = np.asarray(points, dtype=float).reshape(-1, 3)
         if not self.magnets:
             return np.full((len(points), 0), np.inf)
-        boxes, others = self._box_split()
+        boxes, others = self.box_split()
         out = np.empty((len(points), len(self.magnets)))
         out[:, boxes.index] = boxes.table(points)
         for k in others:
             out[:, k] = part_sdf(self.magnets[k], points)
         return out
 
-    def _box_split(self) -> tuple[Boxes, list]:
+    def box_split(self) -> tuple[Boxes, list]:
         """The axis-aligned boxes (computed together) and the indices of the other magnets."""
         if self._boxes is None:
             self._boxes = Boxes.of(self.magnets)
@@ -383,7 +383,7 @@ class FieldModel:
         best = plates.min(axis=1) if plates.shape[1] else np.full(len(points), np.inf)
         if not self.magnets:
             return best
-        boxes, others = self._box_split()
+        boxes, others = self.box_split()
         best = boxes.lower(points, best)  # all axis-aligned boxes in one call, exact
         if not others:
             return best

@@ -131,6 +131,64 @@ def _held(stiffness, ratio: float) -> tuple:
     return tuple(k if k is None or abs(k) >= floor else 0.0 for k in stiffness)
 
 
+TIED = 1e-9  # of the largest |stiffness|: equal stiffnesses, whose directions any rotation mixes
+
+
+def axes_in_ties(values, directions) -> np.ndarray:
+    """Directions of equal stiffnesses (a run of steps below TIED) replaced by the world axes'
+    share of their plane, x first (Gram-Schmidt): any basis of that plane is as right, and
+    rounding would otherwise choose it (a four-fold trap's two level stiffnesses came out at
+    41 degrees to the axes in one run and 2 in the next).
+
+    Parameters
+    ----------
+    values : numpy.ndarray, shape (k,)
+        Ascending stiffnesses, N/m.
+    directions : numpy.ndarray, shape (k, 3)
+        Their unit directions (orthonormal rows).
+
+    Returns
+    -------
+    numpy.ndarray, shape (k, 3)
+    """
+    directions = np.array(directions, float)
+    tie = TIED * (np.max(np.abs(values)) if len(values) else 0.0)
+    starts = np.flatnonzero(np.diff(values, prepend=-np.inf) > tie)
+    for start, stop in zip(starts, list(starts[1:]) + [len(values)]):
+        if stop - start < 2:
+            continue
+        plane = directions[start:stop]
+        chosen = []
+        for axis in np.eye(3):
+            v = plane.T @ (plane @ axis)  # the axis's share of the plane
+            for c in chosen:
+                v -= (c @ v) * c
+            if np.linalg.norm(v) > 1e-3 and len(chosen) < stop - start:
+                chosen.append(v / np.linalg.norm(v))
+        directions[start:stop] = chosen
+    return directions
+
+
+def signed_directions(directions) -> np.ndarray:
+    """Each direction's sign chosen so that its largest component (the first of those equal to
+    within 1e-9) is positive: an eigenvector's sign is arbitrary, and rounding must not set it.
+
+    Parameters
+    ----------
+    directions : array_like, shape (k, 3)
+        Unit rows.
+
+    Returns
+    -------
+    numpy.ndarray, shape (k, 3)
+    """
+    directions = np.array(directions, float).reshape(-1, 3)
+    size = np.abs(directions)
+    first = np.argmax(size >= size.max(axis=1, keepdims=True) - 1e-9, axis=1)
+    sign = np.where(directions[np.arange(len(directions)), first] < 0.0, -1.0, 1.0)
+    return directions * sign[:, None]
+
+
 def make_equilibrium(problem, sample: Sample, hessian: LocalHessian, contact=None,
                      note: str = "") -> Equilibrium:
     """The classified equilibrium at a sample.
@@ -160,7 +218,8 @@ def make_equilibrium(problem, sample: Sample, hessian: LocalHessian, contact=Non
     else:
         values, vectors = np.linalg.eigh(hessian.matrix)
         stiffness = tuple(float(v) for v in values)
-        directions = (vectors.T @ frame) if k else np.zeros((0, 3))
+        directions = signed_directions(axes_in_ties(values, vectors.T @ frame)) if k \
+            else np.zeros((0, 3))
         classification = classify(values, ratio)
         top = np.max(np.abs(values)) if k else 0.0
         stable = int(np.sum(values > ratio * top))

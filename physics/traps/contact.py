@@ -72,7 +72,6 @@ class ProbeGeometry:
         self.high = np.asarray(scene.search_box.max, float)
         self.spacing = float(scene.search_box.spacing)
         self.names = [m.name for m in scene.magnets] + [p.name for p in scene.plates]
-        self.part_boxes = [bounding_box(m) for m in scene.magnets]
 
     def clearance(self, points) -> np.ndarray:
         """Distance to the nearest magnet surface or plate face; negative inside or behind.
@@ -92,9 +91,10 @@ class ProbeGeometry:
     def admissible(self, points, tolerance=1e-9, clearance=None) -> np.ndarray:
         """Inside the box, in front of every plate and at least d/2 from every part.
 
-        A part's signed distance is only computed near its bounding box (exact distances are costly
-        for meshes). Given the points' clearance, nothing is computed again: a part farther
-        than d/2 from a point's box is farther than d/2 from it, so both tests agree.
+        The axis-aligned boxes are measured together (one kernel over points and boxes); another
+        part's signed distance only near its bounding box (exact distances are costly for
+        meshes). Given the points' clearance, nothing is computed again: a part farther than d/2
+        from a point's box is farther than d/2 from it, so both tests agree.
 
         Parameters
         ----------
@@ -118,10 +118,15 @@ class ProbeGeometry:
         plates = self.field_model.plate_distances(points)
         if plates.shape[1]:
             ok &= plates.min(axis=1) >= limit
-        for magnet, (low, high) in zip(self.field_model.magnets, self.part_boxes):
+        boxes, others = self.field_model.box_split()
+        if len(boxes.index) and ok.any():
+            ok[ok] = boxes.lower(points[ok], np.full(np.count_nonzero(ok), np.inf)) >= limit
+        magnets = self.field_model.magnets
+        for k in others:
+            low, high = bounding_box(magnets[k])
             near = ok & np.all((points >= low - self.radius) & (points <= high + self.radius), axis=1)
             if near.any():
-                ok[near] = part_sdf(magnet, points[near]) >= limit
+                ok[near] = part_sdf(magnets[k], points[near]) >= limit
         return ok
 
     def surface_name(self, points) -> list:

@@ -16,6 +16,8 @@ from trapscape.physics.traps.report import Family, Circle
 POSITION_TOLERANCE = 0.05  # grid steps: an image lands on a member (the contact search's precision)
 CURVE_REACH = 2.5  # grid steps: neighbouring points of one contact curve
 CURVE_ENERGY = 1e-5  # relative energy difference of neighbouring points of one contact curve
+TIE = 1e-7  # relative: escape forces this close are one value (images of one trap, equal to
+# rounding and the solver's last digits); the first member of those is the representative
 
 
 def _same_kind(a, b) -> bool:
@@ -107,12 +109,29 @@ def trap_families(equilibria, symmetry, spacing: float) -> tuple:
     return numbered, families
 
 
+def firmest(forces) -> int:
+    """The first index whose escape force is the largest within TIE (ties among images of one
+    trap differ only by rounding, which must not choose).
+
+    Parameters
+    ----------
+    forces : sequence of (float, int)
+        Escape forces (N) and their indices.
+
+    Returns
+    -------
+    int
+    """
+    top = max(force for force, _ in forces)
+    return min(i for force, i in forces if force >= top - TIE * abs(top))
+
+
 def _family(number, members, equilibria, kinds, symmetry, tolerance) -> Family:
     records = [equilibria[i] for i in members]
     forces = [(e.escape.force_N, i) for e, i in zip(records, members)
               if e.escape is not None and e.escape.force_N is not None
               and np.isfinite(e.escape.force_N)]
-    representative = max(forces, key=lambda f: (f[0], -f[1]))[1] if forces else members[0]
+    representative = firmest(forces) if forces else members[0]
     kind = ("single" if len(members) == 1 else "circle" if "circle" in kinds
             else "contact curve" if "contact curve" in kinds else "symmetric set")
     circle = None

@@ -13,7 +13,7 @@ from trapscape.physics.traps.contact import contact_state, surface_newton
 from trapscape.physics.traps.families import drop_repeats, is_field_zero, unique_points
 from trapscape.physics.traps.finite_scan import finite_scan
 from trapscape.physics.traps.notes import RIGID_MAGNET_NOTE, finite_probe_note
-from trapscape.physics.traps.refine import newton
+from trapscape.physics.traps.refine import flat_hessian, newton
 from trapscape.physics.traps.report import Contact, FiniteProbe, RuleCheck
 
 SEED_ITERATIONS = 12  # Newton's iterations from a scan's seed (a cell from the equilibrium)
@@ -120,12 +120,13 @@ def resolve_finite(problem, finite, equilibria, symmetry=None) -> list:
     free = [e for e in equilibria if e.contact is None and not is_field_zero(e)]
     contacts = [e for e in equilibria if e.contact is not None]
     result = [e for e in equilibria if is_field_zero(e)]
-    result += resolve_free(problem, finite, free, [e.position for e in free])
+    orbit = symmetry.orbit(problem.spacing) if symmetry is not None else None
+    result += resolve_free(problem, finite, free, [e.position for e in free], orbit=orbit)
     resolved, lifted, starts = resolve_contacts(problem, finite, contacts, symmetry)
     result += resolved
     notes = [f"lifted off {e.contact.surface} by the probe's finite size (the point model had it "
              "resting there)" for e in lifted]
-    result += [r for r in resolve_free(problem, finite, lifted, starts, notes)
+    result += [r for r in resolve_free(problem, finite, lifted, starts, notes, orbit)
                if r.contact is None and "did not converge" not in r.note]
     return drop_repeats(result, 1e-2 * problem.spacing)
 
@@ -137,7 +138,7 @@ def _shifted(new, old):
                    finite_probe_shift_m=float(np.linalg.norm(new.position - old.position)))
 
 
-def resolve_free(problem, finite, equilibria, starts, notes=None) -> list:
+def resolve_free(problem, finite, equilibria, starts, notes=None, orbit=None) -> list:
     """Free equilibria re-solved by Newton's method with the finite model.
 
     One that does not converge keeps its point-model entry with a note.
@@ -152,6 +153,9 @@ def resolve_free(problem, finite, equilibria, starts, notes=None) -> list:
         m, where Newton starts for each.
     notes : list of str or None
         One per equilibrium, replacing its note.
+    orbit : callable or None
+        A continuous symmetry's orbit directions (Symmetry.orbit): no step and no stiffness
+        along them (refine.newton).
 
     Returns
     -------
@@ -166,7 +170,8 @@ def resolve_free(problem, finite, equilibria, starts, notes=None) -> list:
     U, F, B = np.zeros(len(starts)), np.zeros((len(starts), 3)), np.zeros((len(starts), 3))
     K = np.zeros((len(starts), len(basis), len(basis)))
     for model, idx in finite.rule_groups(starts):  # one rule per run of Newton's method
-        x[idx], ok[idx], U[idx], F[idx], K[idx], B[idx] = _solved(problem, model, starts[idx])
+        x[idx], ok[idx], U[idx], F[idx], K[idx], B[idx] = _solved(problem, model, starts[idx],
+                                                                  orbit)
     result = []
     for i, eq in enumerate(equilibria):
         if not ok[i]:
@@ -180,7 +185,7 @@ def resolve_free(problem, finite, equilibria, starts, notes=None) -> list:
     return result
 
 
-def _solved(problem, model, starts) -> tuple:
+def _solved(problem, model, starts, orbit=None) -> tuple:
     """Newton's method with one model from each start; the model's U, F, K and B there.
 
     A model with a finer rule than its scan rule is first solved with the scan rule (cheap) and
@@ -188,24 +193,24 @@ def _solved(problem, model, starts) -> tuple:
     starts = np.asarray(starts, float).reshape(-1, 3)
     scan_model = model.scan_model()
     if scan_model is not model:
-        rough, first = newton(scan_model, problem, starts)
+        rough, first = newton(scan_model, problem, starts, orbit)
         starts = np.where(first[:, None], rough, starts)
-    x, ok = newton(model, problem, starts)
-    return _state(problem, model, x, ok)
+    x, ok = newton(model, problem, starts, orbit)
+    return _state(problem, model, x, ok, orbit)
 
 
-def _state(problem, model, x, ok) -> tuple:
+def _state(problem, model, x, ok, orbit=None) -> tuple:
     """x, ok and the model's U, F, K, B at the converged points (zeros elsewhere)."""
     n, k = len(x), len(problem.basis)
     U, F, B, K = np.zeros(n), np.zeros((n, 3)), np.zeros((n, 3)), np.zeros((n, k, k))
     if ok.any():
         U[ok], F[ok] = model.energy_and_force(x[ok])
-        K[ok] = model.hessian(x[ok], problem.basis)
+        K[ok] = flat_hessian(model, x[ok], problem.basis, orbit)
         B[ok] = model.applied_field(x[ok])[0]
     return x, ok, U, F, K, B
 
 
-def seeded_equilibria(problem, finite, scanned, known) -> list:
+def seeded_equilibria(problem, finite, scanned, known, orbit=None) -> list:
     """Equilibria of the finite model from the sign-change cells of its scan near the magnets.
 
     Cells within two grid steps of a known equilibrium are skipped (Newton would find it again).
@@ -217,6 +222,8 @@ def seeded_equilibria(problem, finite, scanned, known) -> list:
     scanned : physics.traps.finite_scan.FiniteGrid
     known : list of Equilibrium
         Already re-solved with the finite model.
+    orbit : callable or None
+        As resolve_free's.
 
     Returns
     -------
@@ -227,11 +234,11 @@ def seeded_equilibria(problem, finite, scanned, known) -> list:
     if len(seeds) == 0:
         return []
     x, ok = newton(finite.scan_model(), replace(problem, tolerances=replace(
-        problem.tolerances, newton_iterations=SEED_ITERATIONS)), seeds)
+        problem.tolerances, newton_iterations=SEED_ITERATIONS)), seeds, orbit)
     seeds = _away_from(unique_points(x[ok], 0.1 * problem.spacing), known, 0.5 * problem.spacing)
     found, basis = [], problem.basis
     for model, idx in finite.rule_groups(seeds):
-        x, ok, U, F, K, B = _solved(problem, model, seeds[idx])
+        x, ok, U, F, K, B = _solved(problem, model, seeds[idx], orbit)
         for i in np.flatnonzero(ok):
             g = np.linalg.norm(F[i] @ basis.T)
             top = np.max(np.abs(np.linalg.eigvalsh(K[i])))
@@ -419,7 +426,8 @@ def with_finite_size(problem, grid, equilibria, symmetry=None) -> tuple:
     if use_finite:
         scanned = finite_scan(problem, grid, finite)
         equilibria = resolve_finite(problem, finite, equilibria, symmetry)
-        seeded = seeded_equilibria(problem, finite, scanned, equilibria)
+        orbit = symmetry.orbit(problem.spacing) if symmetry is not None else None
+        seeded = seeded_equilibria(problem, finite, scanned, equilibria, orbit)
         equilibria = rule_checks(finite, drop_repeats(equilibria + seeded,
                                                       1e-2 * problem.spacing))
         flood_grid = scanned.grid

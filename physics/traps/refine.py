@@ -7,7 +7,7 @@ import numpy as np
 
 from trapscape.physics.traps.candidates import local_minima, sign_change_cells
 from trapscape.physics.traps.classify import LocalHessian, Sample, make_equilibrium
-from trapscape.physics.traps.contact import pseudo_solve
+from trapscape.physics.traps.contact import flat_along_orbit, pseudo_solve
 from trapscape.physics.traps.families import unique_points
 from trapscape.scene.units import MU0
 
@@ -22,11 +22,13 @@ def _on_constraint(problem, starts) -> np.ndarray:
     return projected[problem.geometry.admissible(projected)]
 
 
-def newton(model, problem, starts) -> tuple:
+def newton(model, problem, starts, orbit=None) -> tuple:
     """Newton's method on the projected force with a trust radius of one grid step.
 
     The radius shrinks by 4 when a step leaves the admissible region; one run from each start.
-    Points stay admissible.
+    Points stay admissible. With an orbit, no step is taken along it (flat_along_orbit): on a
+    circle of equilibria the model's own error there would otherwise keep every step above the
+    convergence test.
 
     Parameters
     ----------
@@ -36,6 +38,9 @@ def newton(model, problem, starts) -> tuple:
         Basis, geometry, grid step and the number of iterations.
     starts : ndarray, shape (M, 3)
         m.
+    orbit : callable or None
+        points (N, 3) -> unit directions (N, 3) of a continuous symmetry's orbits (zeros where
+        there is none; Symmetry.orbit).
 
     Returns
     -------
@@ -60,7 +65,7 @@ def newton(model, problem, starts) -> tuple:
             break
         xa = x[idx]
         g = model.force(xa) @ basis.T  # = -grad_q U
-        K = model.hessian(xa, basis)
+        K = flat_hessian(model, xa, basis, orbit)
         step = pseudo_solve(K, g)
         size = np.linalg.norm(step, axis=1)
         step *= np.minimum(1.0, radius[idx] / np.maximum(size, 1e-300))[:, None]
@@ -74,6 +79,29 @@ def newton(model, problem, starts) -> tuple:
         lost = ~ok & (radius[idx] < 1e-6 * h)
         active[idx[lost]] = False
     return x, converged
+
+
+def flat_hessian(model, points, basis, orbit=None) -> np.ndarray:
+    """The model's Hessian in the basis, with no stiffness along the orbit when one is given.
+
+    Parameters
+    ----------
+    model : ProbeModel
+    points : ndarray, shape (N, 3)
+        m.
+    basis : ndarray, shape (k, 3)
+    orbit : callable or None
+        As newton's.
+
+    Returns
+    -------
+    ndarray, shape (N, k, k)
+        N/m.
+    """
+    K = model.hessian(points, basis)
+    if orbit is None:
+        return K
+    return flat_along_orbit(K, np.broadcast_to(basis, (len(points),) + basis.shape), orbit(points))
 
 
 def field_zeros(problem, starts) -> tuple:

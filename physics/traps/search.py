@@ -16,6 +16,8 @@ levitation_threshold, scan_grid_geometry, ...) live in the stage modules and are
 """
 from __future__ import annotations
 
+import numpy as np
+
 from trapscape.physics.traps.classify import classify
 from trapscape.physics.traps.contact_equilibria import contact_equilibria, starts_were_capped
 from trapscape.physics.traps.families import merge_families
@@ -94,8 +96,34 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
         notes=notes, families=tuple(families), symmetry=symmetry)
 
 
+ORDER_ENERGY = 1e-7  # relative: a run of energies with steps this small sorts as one (the
+# images of a trap, equal but for rounding and the solver's last digits)
+ORDER_POSITION = 1e-8  # m: likewise for coordinates (contacts' images agree to about 1e-11 m)
+
+
 def _sorted(problem, equilibria) -> list:
-    """Along the line (DESIGN.md, `traps` JSON), else by energy; ties by position."""
+    """Along the line (DESIGN.md, `traps` JSON), else by energy; ties by x, then y, then z.
+
+    A tie is a run of values whose steps are below ORDER_ENERGY (relative) or ORDER_POSITION:
+    the images of one trap come in an order that the last bits do not set.
+    """
     if problem.constraint_kind == "line":
         return sorted(equilibria, key=lambda e: (e.coordinate_m, e.energy_J))
-    return sorted(equilibria, key=lambda e: (e.energy_J, tuple(e.position)))
+    keys = [lambda e: e.energy_J] + [lambda e, a=a: e.position[a] for a in range(3)]
+    slack = [lambda u, v: ORDER_ENERGY * max(abs(u), abs(v))] + [lambda u, v: ORDER_POSITION] * 3
+    return _in_runs(list(equilibria), keys, slack)
+
+
+def _in_runs(items, keys, slack) -> list:
+    """items sorted by keys[0]; each run of it (steps within slack) sorted by the next keys."""
+    if len(items) < 2 or not keys:
+        return items
+    key, within = keys[0], slack[0]
+    items = sorted(items, key=key)
+    ordered, run = [], [items[0]]
+    for before, item in zip(items, items[1:]):
+        if key(item) - key(before) > within(key(item), key(before)):
+            ordered += _in_runs(run, keys[1:], slack[1:])
+            run = []
+        run.append(item)
+    return ordered + _in_runs(run, keys[1:], slack[1:])

@@ -217,3 +217,77 @@ def test_expansions_fitted_through_a_level_zero_one_keep_the_claim():
         scale_G = np.maximum(np.linalg.norm(G0, axis=(1, 2)), 0.01 * G_abs)
         assert np.max(np.linalg.norm(h - far_H, axis=1) / scale_H) <= CLAIM
         assert np.max(np.linalg.norm(g - far_G, axis=(1, 2)) / scale_G) <= CLAIM
+
+
+def planned_by_recursion(points, centers, radii, cache):
+    """plan_cells as first written (one Python call per node of the halving): the reference the
+    compiled planner must repeat cell for cell, bit for bit."""
+    L = local_cells
+    samples, K = L._samples_per_cell(), len(centers)
+
+    def best_held(center, radius, top_level=None):
+        if not cache:
+            return None
+        balls = np.array([e.center for e in cache])
+        holds = np.array([e.radius for e in cache]) - np.linalg.norm(balls - center, axis=1) >= radius
+        if top_level is not None:
+            holds &= np.array([e.level for e in cache]) <= top_level
+        chosen = np.flatnonzero(holds)
+        counts = np.array([e.near_count for e in cache])
+        return int(chosen[np.argmin(counts[chosen])]) if len(chosen) else None
+
+    def plan(index):
+        pts, n = points[index], len(index)
+        lower, upper = pts.min(axis=0), pts.max(axis=0)
+        center = 0.5 * (lower + upper)
+        radius = float(np.sqrt(np.max(np.sum((pts - center) ** 2, axis=1))))
+        best = (n * K, ("direct", center, radius, None))
+        if radius > 0.0:
+            hit = best_held(center, radius)
+            if hit is not None:
+                cost = n * (cache[hit].near_count + L.EXPANSION_COST)
+                if cost < best[0]:
+                    best = (cost, ("cached", center, radius, hit))
+            fit_radius = radius * (1.0 + L.MARGIN)
+            n_near = int((np.linalg.norm(centers - center, axis=1) - radii < fit_radius / L.THETA).sum())
+            parent = best_held(center, fit_radius, top_level=0)
+            if parent is None:
+                fit = samples * (K - n_near) / L.REUSE
+            else:
+                fit = samples * (max(cache[parent].near_count - n_near, 0) + L.EXPANSION_COST) / L.REUSE
+            cost = fit + n * (n_near + L.EXPANSION_COST)
+            if cost < best[0]:
+                best = (cost, ("new", center, radius, None))
+        if n >= 2 * L.MIN_CELL_POINTS and best[0] > n * (1.0 + L.EXPANSION_COST):
+            axis = int(np.argmax(upper - lower))
+            order = np.argsort(pts[:, axis], kind="stable")
+            left, right = plan(index[order[:n // 2]]), plan(index[order[n // 2:]])
+            if left[1] + right[1] < best[0]:
+                return left[0] + right[0], left[1] + right[1]
+        return [(index, *best[1])], best[0]
+
+    return plan(np.arange(len(points)))
+
+
+def test_the_compiled_planner_repeats_the_recursive_one_bit_for_bit():
+    family = one_family(checkerboard(16))
+    rng = np.random.default_rng(5)
+    balls = probe_balls(rng.uniform([-9 * MM, -9 * MM, 1.2 * MM], [9 * MM, 9 * MM, 3 * MM], (30, 3)))
+    cloud = rng.uniform([-12 * MM, -12 * MM, 0.2 * MM], [12 * MM, 12 * MM, 8 * MM], (6000, 3))
+    family.add_H(np.ascontiguousarray(balls[: len(balls) // 2]), True, np.zeros((len(balls) // 2, 3)),
+                 np.zeros((len(balls) // 2, 3, 3)))  # fills the family's cache of expansions
+    assert family.expansions, "no cached expansion: the cached branch would go untested"
+    kinds = set()
+    for points, cache in ((balls, family.expansions), (cloud, family.expansions), (balls, []),
+                          (cloud[:1], []), (np.repeat(cloud[:1], 600, axis=0), [])):
+        points = np.ascontiguousarray(points)
+        cells, cost = local_cells.plan_cells(points, family.centers, family.radii, cache)
+        expected, expected_cost = planned_by_recursion(points, family.centers, family.radii, cache)
+        assert cost == expected_cost and len(cells) == len(expected)
+        for cell, (index, kind, center, radius, hit) in zip(cells, expected):
+            kinds.add(kind)
+            assert np.array_equal(np.sort(cell.index), np.sort(index))
+            assert np.array_equal(cell.center, center) and cell.radius == radius
+            assert cell.expand == (kind != "direct")
+            assert (cell.use is cache[hit]) if kind == "cached" else cell.use is None
+    assert kinds == {"direct", "cached", "new"}

@@ -115,3 +115,38 @@ def test_the_probe_rests_only_where_no_direction_falls(line_problem, values, exp
     held = [f for f, k in zip(eq.frequency_Hz, values) if k > MARGINAL_RATIO * max(values)]
     assert all(f is not None for f in held)
     assert all(f is None for f, k in zip(eq.frequency_Hz, values) if abs(k) < 1e-9)
+
+
+def test_directions_get_a_sign_that_rounding_cannot_flip():
+    from trapscape.physics.traps.classify import signed_directions
+
+    rows = np.array([[-0.9983920613775651, 1e-17, -0.0566859], [1e-10, -1.0, 0.0],
+                     [0.7071067811865476, -0.7071067811865475, 0.0]])
+    signed = signed_directions(rows)
+    assert signed[0] == pytest.approx([0.9983920613775651, -1e-17, 0.0566859])
+    assert signed[1] == pytest.approx([-1e-10, 1.0, 0.0])
+    # at 45 degrees the two components tie within 1e-9: the first of them is made positive
+    assert signed[2] == pytest.approx(rows[2])
+    assert signed_directions(-rows[2:]) == pytest.approx(rows[2:])
+    # the same eigenvectors from a Hessian and from its rotated copy's rounding get one sign
+    assert np.array_equal(signed_directions(-rows), signed)
+
+
+def test_equal_stiffnesses_are_reported_along_the_world_axes_of_their_plane():
+    from trapscape.physics.traps.classify import axes_in_ties
+
+    turn = np.array([[np.cos(0.72), -np.sin(0.72), 0.0], [np.sin(0.72), np.cos(0.72), 0.0],
+                     [0.0, 0.0, 1.0]])
+    values = np.array([0.1053, 0.1053 * (1 + 1e-13), 0.404])
+    got = axes_in_ties(values, turn.T)  # rows: two turned level directions, then z
+    assert got == pytest.approx(np.eye(3), abs=1e-12)
+    # a tilted plane of ties: x's share first, then the rest of the plane, orthonormal
+    tilt = rotation(4)
+    got = axes_in_ties(np.array([1.0, 1.0, 2.0]), tilt.T)
+    assert got @ got.T == pytest.approx(np.eye(3), abs=1e-12)
+    plane = tilt.T[:2]
+    share = plane.T @ (plane @ [1.0, 0.0, 0.0])
+    assert got[0] == pytest.approx(share / np.linalg.norm(share), abs=1e-12)
+    assert got[2] == pytest.approx(tilt.T[2], abs=1e-12)
+    # stiffnesses apart by more than the tie keep their eigenvectors
+    assert axes_in_ties(np.array([0.1, 0.2, 0.4]), turn.T) == pytest.approx(turn.T, abs=1e-15)
