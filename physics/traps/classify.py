@@ -165,7 +165,8 @@ def axes_in_ties(values, directions) -> np.ndarray:
                 v -= (c @ v) * c
             if np.linalg.norm(v) > 1e-3 and len(chosen) < stop - start:
                 chosen.append(v / np.linalg.norm(v))
-        directions[start:stop] = chosen
+        if len(chosen) == stop - start:  # else (never for a plane of 3D space) as they were
+            directions[start:stop] = chosen
     return directions
 
 

@@ -16,8 +16,6 @@ levitation_threshold, scan_grid_geometry, ...) live in the stage modules and are
 """
 from __future__ import annotations
 
-import numpy as np
-
 from trapscape.physics.traps.classify import classify
 from trapscape.physics.traps.contact_equilibria import contact_equilibria, starts_were_capped
 from trapscape.physics.traps.families import merge_families
