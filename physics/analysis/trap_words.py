@@ -110,6 +110,28 @@ def direction_words(direction, ring=None) -> str:
     return "(" + ", ".join(f"{c:.2f}" for c in v) + ")"
 
 
+RING_PHRASES = {"around the ring": "around the ring", "radial": "radially",
+                "along the axis": "along the axis"}
+
+
+def along_words(direction, ring=None) -> str:
+    """direction_words as it reads after a figure: "along z", "around the ring", "radially",
+    "along the axis", "along (0.60, 0.80, 0.00)".
+
+    Parameters
+    ----------
+    direction : array_like, shape (3,)
+    ring : tuple or None
+        As direction_words'.
+
+    Returns
+    -------
+    str
+    """
+    words = direction_words(direction, ring)
+    return RING_PHRASES.get(words, f"along {words}")
+
+
 def symmetry_words(symmetry, scene, units=None) -> str:
     """The scene's symmetry in a few words.
 

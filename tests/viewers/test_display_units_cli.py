@@ -161,6 +161,18 @@ def test_traps_margin_warning_in_pounds_force(tmp_path):
     assert result["warnings"][0].count(" N") + result["warnings"][0].count("mN") >= 1
 
 
+def test_traps_table_says_ring_directions_in_plain_words(tmp_path):
+    code, out, err = in_pipe(["traps", PLATE], tmp_path)
+    assert code == 0, err
+    for clumsy in ("along around", "along radial", "along along"):
+        assert clumsy not in out
+    stiffness = out[out.index("Stiffness (N/m)"):].splitlines()
+    # a circle's stiffness around the ring is zero but for rounding: printed as 0
+    ring = next(line for line in stiffness if line.startswith("  #1 "))
+    assert ring.startswith("  #1 0 around the ring; ") and " radially, " in ring
+    assert any("along the axis" in line for line in stiffness)
+
+
 def test_traps_at_a_terminal_with_units(tmp_path):
     code, screen = at_terminal(["traps", PAIR, "--units", "kgf,in"], tmp_path)
     assert code == 0 and "Traceback" not in screen, screen[-2000:]

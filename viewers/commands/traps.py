@@ -84,28 +84,31 @@ def _ring_frame(family, eq):
     return None if ring is None else (ring.centre, ring.axis, eq.position)
 
 
+ZERO_STIFFNESS = 1e-9  # of the largest: printed as 0
+
+
 def _stiffness_words(eq, frame, units) -> str:
-    from trapscape.physics.analysis.trap_words import direction_words
+    from trapscape.physics.analysis.trap_words import along_words
 
     if eq.stiffness_N_per_m and eq.stiffness_N_per_m[0] is None:
         return "undefined (B = 0)"
     if not len(eq.stiffness_N_per_m):
         return "none (no free direction)"
     parts = []
+    top = max(abs(k) for k in eq.stiffness_N_per_m)
     for k, direction, f in zip(eq.stiffness_N_per_m, eq.directions, eq.frequency_Hz):
         freq = f", {_number(f)} Hz" if f is not None else ""
-        parts.append(f"{_number(units.stiffness(k))} along {direction_words(direction, frame)}"
-                     f"{freq}")
+        k = 0.0 if abs(k) <= ZERO_STIFFNESS * top else k  # a circle's, zero but for rounding
+        parts.append(f"{_number(units.stiffness(k))} {along_words(direction, frame)}{freq}")
     return "; ".join(parts)
 
 
 def _rule_spread(eq, family, units) -> str:
-    """'0.98 N/m along around the ring and 11 N/m along radial': one per stiffness above."""
-    from trapscape.physics.analysis.trap_words import direction_words
+    """'0.98 N/m around the ring and 11 N/m radially': one per stiffness above."""
+    from trapscape.physics.analysis.trap_words import along_words
 
     frame = _ring_frame(family, eq)
-    parts = [f"{_number(units.stiffness(v))} {units.stiffness_label} along "
-             f"{direction_words(d, frame)}"
+    parts = [f"{_number(units.stiffness(v))} {units.stiffness_label} {along_words(d, frame)}"
              for v, d in zip(eq.rule_check.stiffness_difference_N_per_m, eq.directions)]
     return " and ".join([", ".join(parts[:-1]), parts[-1]] if len(parts) > 1 else parts)
 
