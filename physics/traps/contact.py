@@ -72,6 +72,7 @@ class ProbeGeometry:
         self.high = np.asarray(scene.search_box.max, float)
         self.spacing = float(scene.search_box.spacing)
         self.names = [m.name for m in scene.magnets] + [p.name for p in scene.plates]
+        self.part_boxes = [bounding_box(m) for m in scene.magnets]
 
     def clearance(self, points) -> np.ndarray:
         """Distance to the nearest magnet surface or plate face; negative inside or behind.
@@ -121,12 +122,11 @@ class ProbeGeometry:
         boxes, others = self.field_model.box_split()
         if len(boxes.index) and ok.any():
             ok[ok] = boxes.lower(points[ok], np.full(np.count_nonzero(ok), np.inf)) >= limit
-        magnets = self.field_model.magnets
         for k in others:
-            low, high = bounding_box(magnets[k])
+            low, high = self.part_boxes[k]
             near = ok & np.all((points >= low - self.radius) & (points <= high + self.radius), axis=1)
             if near.any():
-                ok[near] = part_sdf(magnets[k], points[near]) >= limit
+                ok[near] = part_sdf(self.field_model.magnets[k], points[near]) >= limit
         return ok
 
     def surface_name(self, points) -> list:

@@ -9,6 +9,7 @@ from trapscape.physics.traps.contact import (contact_state, line_contacts, surfa
                                              surface_newton)
 from trapscape.physics.traps.families import unique_points
 from trapscape.physics.traps.report import Contact
+from trapscape.physics.traps.symmetry import orbit_of
 
 
 def contact_equilibria(problem, grid, symmetry=None) -> list:
@@ -27,7 +28,7 @@ def contact_equilibria(problem, grid, symmetry=None) -> list:
         Each with its Contact; free_directions counts the directions along the surface.
     """
     model, geometry, basis = problem.point_model, problem.geometry, problem.basis
-    orbit = symmetry.orbit(geometry.spacing) if symmetry is not None else None
+    orbit = orbit_of(symmetry, geometry.spacing)
     starts = contact_starts(grid, problem.tolerances.max_contact_starts)
     if len(starts) == 0:
         return []

@@ -15,6 +15,7 @@ from trapscape.physics.traps.finite_scan import finite_scan
 from trapscape.physics.traps.notes import RIGID_MAGNET_NOTE, finite_probe_note
 from trapscape.physics.traps.refine import flat_hessian, newton
 from trapscape.physics.traps.report import Contact, FiniteProbe, RuleCheck
+from trapscape.physics.traps.symmetry import orbit_of
 
 SEED_ITERATIONS = 12  # Newton's iterations from a scan's seed (a cell from the equilibrium)
 
@@ -120,7 +121,7 @@ def resolve_finite(problem, finite, equilibria, symmetry=None) -> list:
     free = [e for e in equilibria if e.contact is None and not is_field_zero(e)]
     contacts = [e for e in equilibria if e.contact is not None]
     result = [e for e in equilibria if is_field_zero(e)]
-    orbit = symmetry.orbit(problem.spacing) if symmetry is not None else None
+    orbit = orbit_of(symmetry, problem.spacing)
     result += resolve_free(problem, finite, free, [e.position for e in free], orbit=orbit)
     resolved, lifted, starts = resolve_contacts(problem, finite, contacts, symmetry)
     result += resolved
@@ -346,7 +347,7 @@ def resolve_contacts(problem, finite, equilibria, symmetry=None) -> tuple:
     geometry, basis = problem.geometry, problem.basis
     finite = finite.scan_model()  # solving_model: the scan rule at a contact
     x = np.array([e.position for e in equilibria])
-    orbit = symmetry.orbit(geometry.spacing) if symmetry is not None else None
+    orbit = orbit_of(symmetry, geometry.spacing)
     x = _solved_on_surface(finite, geometry, x, basis, symmetry, orbit)
     normals, pressed, tangents, K_t, F, U = contact_state(finite, geometry, x, basis, orbit)
     B = finite.applied_field(x)[0]
@@ -426,7 +427,7 @@ def with_finite_size(problem, grid, equilibria, symmetry=None) -> tuple:
     if use_finite:
         scanned = finite_scan(problem, grid, finite)
         equilibria = resolve_finite(problem, finite, equilibria, symmetry)
-        orbit = symmetry.orbit(problem.spacing) if symmetry is not None else None
+        orbit = orbit_of(symmetry, problem.spacing)
         seeded = seeded_equilibria(problem, finite, scanned, equilibria, orbit)
         equilibria = rule_checks(finite, drop_repeats(equilibria + seeded,
                                                       1e-2 * problem.spacing))

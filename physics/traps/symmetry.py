@@ -440,3 +440,8 @@ def scene_symmetry(problem) -> Symmetry:
     return Symmetry(centre=tester.centre, axis=axis, order=order,
                     operations=tuple(R for R, _ in group), signs=tuple(s for _, s in group),
                     mirror_planes=mirrors)
+
+
+def orbit_of(symmetry, spacing: float):
+    """The symmetry's Symmetry.orbit for a grid step (m), or None without a symmetry."""
+    return symmetry.orbit(spacing) if symmetry is not None else None
