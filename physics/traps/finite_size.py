@@ -9,7 +9,7 @@ from dataclasses import replace
 import numpy as np
 
 from trapscape.physics.traps.classify import LocalHessian, Sample, make_equilibrium, rests
-from trapscape.physics.traps.contact import contact_state, surface_newton
+from trapscape.physics.traps.contact import contact_state, flat_along_orbit, surface_newton
 from trapscape.physics.traps.families import drop_repeats, is_field_zero, unique_points
 from trapscape.physics.traps.finite_scan import finite_scan
 from trapscape.physics.traps.notes import RIGID_MAGNET_NOTE, finite_probe_note
@@ -260,14 +260,19 @@ def _away_from(points, equilibria, distance) -> np.ndarray:
     return points[near > distance]
 
 
-def rule_checks(finite, equilibria) -> list:
+def rule_checks(finite, equilibria, orbit=None) -> list:
     """Each equilibrium with its RuleCheck: energy and stiffnesses by the rule it was solved
     with and by a coarser one (batched by rule).
+
+    Along a continuous symmetry's orbit both Hessians are flat (contact.flat_along_orbit), as the
+    stiffnesses reported: zero there by symmetry, whatever either rule gives.
 
     Parameters
     ----------
     finite : ProbeModel
     equilibria : list of Equilibrium
+    orbit : callable or None
+        The symmetry's orbit directions (Symmetry.orbit).
 
     Returns
     -------
@@ -286,11 +291,12 @@ def rule_checks(finite, equilibria) -> list:
         coarse = model.coarser()
         x = np.array([equilibria[i].position for i in members])
         D = np.array([equilibria[i].directions for i in members], float)
-        k_coarse = np.diagonal(coarse.hessian(x, D), axis1=1, axis2=2)
+        flat = (lambda K: K) if orbit is None else (lambda K: flat_along_orbit(K, D, orbit(x)))
+        k_coarse = np.diagonal(flat(coarse.hessian(x, D)), axis1=1, axis2=2)
         if free:  # along its eigenvectors, the model's Hessian gives its stiffnesses
             k_fine = np.array([equilibria[i].stiffness_N_per_m for i in members], float)
         else:  # along the surface: compare like with like
-            k_fine = np.diagonal(model.hessian(x, D), axis1=1, axis2=2)
+            k_fine = np.diagonal(flat(model.hessian(x, D)), axis1=1, axis2=2)
         dU = np.abs(model.energy_without_force(x) - coarse.energy_without_force(x))
         for j, i in enumerate(members):
             result[i] = replace(equilibria[i], rule_check=RuleCheck(
@@ -430,7 +436,7 @@ def with_finite_size(problem, grid, equilibria, symmetry=None) -> tuple:
         orbit = orbit_of(symmetry, problem.spacing)
         seeded = seeded_equilibria(problem, finite, scanned, equilibria, orbit)
         equilibria = rule_checks(finite, drop_repeats(equilibria + seeded,
-                                                      1e-2 * problem.spacing))
+                                                      1e-2 * problem.spacing), orbit)
         flood_grid = scanned.grid
     final_model = finite if use_finite else problem.point_model
     return (equilibria, final_model, finite_summary(problem, finite, use_finite, largest),

@@ -171,6 +171,10 @@ def test_traps_table_says_ring_directions_in_plain_words(tmp_path):
     ring = next(line for line in stiffness if line.startswith("  #1 "))
     assert ring.startswith("  #1 0 around the ring; ") and " radially, " in ring
     assert any("along the axis" in line for line in stiffness)
+    # the rule check says nothing around a ring, where the symmetry fixes the stiffness
+    rules = out[out.index("Finite-size rule error"):].splitlines()
+    ring_rule = next(line for line in rules if line.startswith("  #1 "))
+    assert "around the ring" not in ring_rule and " N/m radially; energy to " in ring_rule
 
 
 def test_traps_at_a_terminal_with_units(tmp_path):

@@ -104,12 +104,17 @@ def _stiffness_words(eq, frame, units) -> str:
 
 
 def _rule_spread(eq, family, units) -> str:
-    """'0.98 N/m around the ring and 11 N/m radially': one per stiffness above."""
+    """'0.98 N/m along x and 11 N/m radially': one per stiffness above; a direction where both
+    rules agree to rounding (around a ring, where the symmetry fixes it) is left out."""
     from trapscape.physics.analysis.trap_words import along_words
 
     frame = _ring_frame(family, eq)
+    top = max(abs(k) for k in eq.stiffness_N_per_m)
     parts = [f"{_number(units.stiffness(v))} {units.stiffness_label} {along_words(d, frame)}"
-             for v, d in zip(eq.rule_check.stiffness_difference_N_per_m, eq.directions)]
+             for v, d in zip(eq.rule_check.stiffness_difference_N_per_m, eq.directions)
+             if v > ZERO_STIFFNESS * top]
+    if not parts:
+        return f"0 {units.stiffness_label}"
     return " and ".join([", ".join(parts[:-1]), parts[-1]] if len(parts) > 1 else parts)
 
 
