@@ -55,7 +55,8 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
     scene : scene.model.Scene
         SI.
     progress : callable(done, total, stage) or None
-        Told how the scan advances.
+        Told how the scan advances, then each later stage by name with done and total None
+        (a stage with no count: "equilibria", "finite size", "escapes").
     finite_probe : bool or None
         None: use the probe's finite size when it changes the energy by more than
         FINITE_PROBE_THRESHOLD (relative); True/False force it.
@@ -76,14 +77,17 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
     """
     problem = TrapProblem.from_scene(field_model, scene, finite_probe)
     grid = scan(problem, progress)
+    _stage(progress, "equilibria")
     symmetry = scene_symmetry(problem)
     equilibria = (free_equilibria(problem, grid, starts)
                   + contact_equilibria(problem, grid, symmetry))
     limit = problem.tolerances.max_contact_starts
     notes = (contact_limit_note(limit),) if starts_were_capped(problem, grid) else ()
     equilibria = merge_families(equilibria, problem.spacing)
+    _stage(progress, "finite size")
     equilibria, final_model, finite_summary, flood_grid = with_finite_size(
         problem, grid, equilibria, symmetry)
+    _stage(progress, "escapes")
     equilibria = _sorted(problem, with_escapes(problem, grid, equilibria, final_model,
                                                flood_grid))
     equilibria, families = trap_families(equilibria, symmetry, problem.spacing)
@@ -92,6 +96,12 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
         free_directions=problem.free_directions, equilibria=tuple(equilibria), grid=grid,
         finite_probe=finite_summary, earnshaw_note=earnshaw_note(problem, equilibria),
         notes=notes, families=tuple(families), symmetry=symmetry)
+
+
+def _stage(progress, name) -> None:
+    """Tell progress that a stage with no count begins (a long run must not look hung)."""
+    if progress is not None:
+        progress(None, None, name)
 
 
 ORDER_ENERGY = 1e-7  # relative: a run of energies with steps this small sorts as one (the

@@ -84,6 +84,27 @@ def test_progress_bar_draws_at_a_terminal_of_no_width(tmp_path):
     assert re.search(r"\d+/\d+ \[", screen), screen[:2000]  # a frame "12/40 [00:01<..."
 
 
+def test_traps_at_a_terminal_names_each_stage_after_the_scan(tmp_path):
+    """The scan's bar ended at 2 s of a 28 s run on a large board and nothing moved after it:
+    each later stage now shows its name and the time so far."""
+    code, screen = at_terminal(_commands(tmp_path)["traps"], cwd=tmp_path)
+    assert code == 0, screen[-2000:]
+    where = [screen.find(f"{stage}: ") for stage in ("scan", "equilibria", "finite size", "escapes")]
+    assert min(where) >= 0 and where == sorted(where), screen[:3000]  # each shown, in order
+    assert re.search(r"finite size: working, \d\d:\d\d", screen), screen[:3000]
+
+
+def test_stages_reach_a_progress_callback_in_order():
+    from trapscape.physics.analysis.run import load_analysis
+
+    seen = []
+    load_analysis(str(SAMPLES / "bead_chip.toml")).traps(
+        progress=lambda done, total, stage=None: seen.append((done is None, stage)))
+    later = [stage for counted, stage in seen if counted]
+    assert later == ["equilibria", "finite size", "escapes"]
+    assert seen[0] == (False, "scan") and seen.index((True, "equilibria")) > 0
+
+
 @pytest.mark.parametrize("command", ["check", "traps", "hold"])
 def test_command_in_a_pipe_prints_no_progress(command, tmp_path):
     code, out, err = in_pipe(_commands(tmp_path)[command], cwd=tmp_path)

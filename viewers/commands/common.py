@@ -137,7 +137,8 @@ def show_progress(args) -> bool:
 def progress(args, unit="pt", desc=None):
     """A progress callback ``update(done, total, stage=None)``: a bar on stderr at a terminal;
     off a terminal (a log, a pipe) a plain line every PROGRESS_LINE_SECONDS; None with --quiet.
-    The bar is closed on the way out."""
+    done None: a stage with no count begins, shown by its name and the time so far. The bar is
+    closed on the way out."""
     if getattr(args, "quiet", False):
         yield None
         return
@@ -148,7 +149,14 @@ def progress(args, unit="pt", desc=None):
 
     bar = tqdm(file=sys.stderr, unit=unit, desc=desc, leave=False, **_bar_size())
 
+    counted = bar.bar_format
+
     def update(done, total, stage=None):
+        if done is None:
+            bar.bar_format = "{desc}working, {elapsed}"
+            bar.set_description(f"{stage}" if stage else (desc or ""))
+            return
+        bar.bar_format = counted
         bar.total = total
         if stage is not None:
             bar.set_description(stage)
@@ -185,6 +193,9 @@ def _progress_lines(desc, clock=time.monotonic):
         if now - last[0] < PROGRESS_LINE_SECONDS:
             return
         last[0] = now
+        if done is None:  # a stage with no count
+            print(f"trapscape: {stage or desc}, {now - start:.0f} s", file=sys.stderr, flush=True)
+            return
         share = f"{100 * done / total:.0f}% ({done}/{total})" if total else f"{done}"
         print(f"trapscape: {stage or desc} {share}, {now - start:.0f} s", file=sys.stderr,
               flush=True)
