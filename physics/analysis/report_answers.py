@@ -33,7 +33,8 @@ def family_answers(analysis, report, units: DisplayUnits, samples: LineSamples) 
     list of str
         Empty when nothing holds the probe (the headline then says so).
     """
-    held = [f for f in report.families if rests(report.equilibria[f.representative])]
+    held = [f for f in report.families
+            if rests(report.equilibria[f.representative], report.marginal_ratio)]
     held.sort(key=lambda f: -(f.escape_force_N[1] if f.escape_force_N else 0.0))
     sentences = [family_sentence(analysis, report, f, units, samples)
                  for f in held[:MOST_ANSWERS]]

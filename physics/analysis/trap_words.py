@@ -220,7 +220,7 @@ def headline_equilibrium(report):
     """
     if report is None or not report.equilibria:
         return None
-    for chosen in ([e for e in report.equilibria if rests(e)],
+    for chosen in ([e for e in report.equilibria if rests(e, report.marginal_ratio)],
                    [e for e in report.equilibria if e.classification == "marginal"]):
         if chosen:
             return chosen[firmest([(_finite(e.escape.force_N if e.escape else None), i)
@@ -272,7 +272,7 @@ def headline_sentence(report, scene, units=None) -> str:
     force_words = units.force_text
     kind = scene.constraint.kind
     path = {"line": " on its guide line", "plane": " on its guide plane"}.get(kind, "")
-    if not rests(eq):
+    if not rests(eq, report.marginal_ratio):
         return (f"{probe} has no stable rest point{path}; the closest to one is a "
                 f"{eq.classification} equilibrium at {where}.")
     on = f", resting on {eq.contact.surface}" if eq.contact else ""

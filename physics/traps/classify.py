@@ -81,13 +81,15 @@ def classify(eigenvalues, marginal_ratio: float = MARGINAL_RATIO) -> str:
     return "saddle"
 
 
-def rests(eq) -> bool:
+def rests(eq, marginal_ratio: float = MARGINAL_RATIO) -> bool:
     """Whether a probe put at the equilibrium stays: stable, or marginal with no direction in
     which its energy falls (a circle of contacts in an axisymmetric scene).
 
     Parameters
     ----------
     eq : Equilibrium
+    marginal_ratio : float
+        The one it was classified with (TrapTolerances.marginal_ratio; TrapReport carries it).
 
     Returns
     -------
@@ -97,7 +99,7 @@ def rests(eq) -> bool:
         return eq.classification == "stable"
     stiffness = [k for k in eq.stiffness_N_per_m if k is not None]
     top = max((abs(k) for k in stiffness), default=0.0)
-    return top > 0.0 and min(stiffness) > -MARGINAL_RATIO * top
+    return top > 0.0 and min(stiffness) > -marginal_ratio * top
 
 
 def frequencies(stiffness, mass: float) -> tuple:

@@ -52,7 +52,7 @@ def contact_equilibria(problem, grid, symmetry=None) -> list:
         contact = Contact(surface=names[i], normal_force_N=float(pressed[i]), normal=normals[i])
         eq = make_equilibrium(problem, Sample(points[i], U[i], F[i], B[i]),
                               LocalHessian(tangents[i], K_t[i]), contact=contact)
-        if rests(eq):
+        if rests(eq, problem.tolerances.marginal_ratio):
             found.append(eq)
     return found
 

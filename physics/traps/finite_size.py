@@ -369,7 +369,7 @@ def resolve_contacts(problem, finite, equilibria, symmetry=None) -> tuple:
         contact = Contact(surface=names[i], normal_force_N=float(pressed[i]), normal=normals[i])
         new = make_equilibrium(problem, Sample(x[i], U[i], F[i], B[i]),
                                LocalHessian(tangents[i], K_t[i]), contact=contact, note=eq.note)
-        if rests(new):
+        if rests(new, problem.tolerances.marginal_ratio):
             resolved.append(_shifted(new, eq))
     return resolved, lifted, starts
 

@@ -324,6 +324,8 @@ class TrapReport:
     finite_probe : FiniteProbe
     earnshaw_note : str or None
     notes : tuple of str
+    marginal_ratio : float
+        The ratio the equilibria were classified with (classify.rests needs it).
     caution : str
     families : tuple of Family
         One per family, in the order of their first members.
@@ -339,6 +341,7 @@ class TrapReport:
     finite_probe: FiniteProbe
     earnshaw_note: str | None
     notes: tuple
+    marginal_ratio: float
     caution: str = CAUTION
     families: tuple = ()
     symmetry: object = None

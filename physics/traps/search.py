@@ -95,7 +95,8 @@ def find_traps(field_model, scene, progress=None, finite_probe: bool | None = No
         probe_kind=problem.law.kind, constraint_kind=problem.constraint_kind,
         free_directions=problem.free_directions, equilibria=tuple(equilibria), grid=grid,
         finite_probe=finite_summary, earnshaw_note=earnshaw_note(problem, equilibria),
-        notes=notes, families=tuple(families), symmetry=symmetry)
+        notes=notes, families=tuple(families), symmetry=symmetry,
+        marginal_ratio=problem.tolerances.marginal_ratio)
 
 
 def _stage(progress, name) -> None:

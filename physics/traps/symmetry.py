@@ -443,5 +443,16 @@ def scene_symmetry(problem) -> Symmetry:
 
 
 def orbit_of(symmetry, spacing: float):
-    """The symmetry's Symmetry.orbit for a grid step (m), or None without a symmetry."""
+    """The symmetry's Symmetry.orbit for a grid step, or None without a symmetry.
+
+    Parameters
+    ----------
+    symmetry : Symmetry or None
+    spacing : float
+        The search's grid step, m.
+
+    Returns
+    -------
+    callable or None
+    """
     return symmetry.orbit(spacing) if symmetry is not None else None

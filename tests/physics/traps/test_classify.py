@@ -1,5 +1,7 @@
 """Classification on its own: known Hessians in, class, stiffnesses, directions and frequencies
 out (physics/traps/classify.py; the rules of DESIGN.md, Physics)."""
+from dataclasses import replace
+
 import numpy as np
 import pytest
 
@@ -150,3 +152,16 @@ def test_equal_stiffnesses_are_reported_along_the_world_axes_of_their_plane():
     assert got[2] == pytest.approx(tilt.T[2], abs=1e-12)
     # stiffnesses apart by more than the tie keep their eigenvectors
     assert axes_in_ties(np.array([0.1, 0.2, 0.4]), turn.T) == pytest.approx(turn.T, abs=1e-15)
+
+
+def test_rests_decides_with_the_ratio_the_equilibrium_was_classified_with(line_problem):
+    # a marginal direction that falls by 2e-6 of the largest stiffness: beyond the design ratio
+    # (1e-6) the probe slides off; with a ratio of 1e-5 that fall is within the marginal share
+    frame = np.eye(3)[:2]
+    eq = make_equilibrium(line_problem, sample_at((0, 0, 0)),
+                          LocalHessian(frame, np.diag([-2e-6, 1.0])))
+    assert eq.classification == "saddle" and not rests(eq)
+    loose = replace(line_problem, tolerances=replace(line_problem.tolerances, marginal_ratio=1e-5))
+    eq = make_equilibrium(loose, sample_at((0, 0, 0)), LocalHessian(frame, np.diag([-2e-6, 1.0])))
+    assert eq.classification == "marginal"
+    assert rests(eq, 1e-5) and not rests(eq, MARGINAL_RATIO)
