@@ -154,7 +154,7 @@ def progress(args, unit="pt", desc=None):
     def update(done, total, stage=None):
         if done is None:
             bar.bar_format = "{desc}working, {elapsed}"
-            bar.set_description(f"{stage}" if stage else (desc or ""))
+            bar.set_description(stage or desc or "")
             return
         bar.bar_format = counted
         bar.total = total
