@@ -126,9 +126,35 @@ def main(argv=None) -> int:
     except BrokenPipeError:  # e.g. piped into `head`: the reader has what it wanted
         sys.stderr.close()
         return 0
-    except KeyboardInterrupt:
+    except KeyboardInterrupt as stop:
         print("trapscape: interrupted", file=sys.stderr)
+        _release_quietly(stop)
         return 130
+
+
+def _release_quietly(stop: BaseException) -> None:
+    """Free what the interrupted frames held, with finalizer errors silenced.
+
+    An interrupt can land inside a library's constructor (numba compiling a kernel on first
+    use), leaving an object whose ``__del__`` fails when freed: "Exception ignored in ..." with a
+    traceback after "interrupted". The user stopped the run; that noise is not theirs.
+
+    Parameters
+    ----------
+    stop : BaseException
+        The interrupt, whose traceback holds the frames.
+    """
+    import gc
+    import traceback
+
+    previous = sys.unraisablehook
+    sys.unraisablehook = lambda unraisable: None
+    try:
+        traceback.clear_frames(stop.__traceback__)
+        stop.__traceback__ = None
+        gc.collect()
+    finally:
+        sys.unraisablehook = previous
 
 
 def use_thread_policy(environ=os.environ) -> bool:

@@ -55,3 +55,27 @@ def test_a_stopped_writer_leaves_the_old_file_or_the_whole_new_one(signum, tmp_p
     if signum != signal.SIGKILL:  # a killed process cannot tidy up; the others do
         assert os.listdir(tmp_path) == ["line.csv"]
         assert process.returncode == 130 and b"Traceback" not in process.stderr.read()
+
+
+class _HalfBuilt:
+    """Like a library object whose constructor was interrupted before it set its handle (numba's
+    compiler on CI, when SIGTERM came while the CSV kernel compiled on first use)."""
+
+    def __init__(self, args):
+        raise KeyboardInterrupt
+
+    def __del__(self):
+        self._handle.close()  # AttributeError: __init__ never set it
+
+
+def test_an_interrupt_inside_a_constructor_prints_one_line_and_no_traceback(monkeypatch, capsys):
+    from trapscape.viewers import cli
+
+    parser = cli.build_parser()
+    monkeypatch.setattr(parser, "parse_args", lambda argv: type("Args", (), {"run": _HalfBuilt}))
+    monkeypatch.setattr(cli, "build_parser", lambda: parser)
+    unraised = []
+    monkeypatch.setattr(sys, "unraisablehook", unraised.append)
+    assert cli.main(["field"]) == 130
+    assert capsys.readouterr().err == "trapscape: interrupted\n"
+    assert unraised == [] and sys.unraisablehook == unraised.append  # silenced, then restored
