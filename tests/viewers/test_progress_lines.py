@@ -30,3 +30,17 @@ def test_a_pipe_gets_the_line_printer(monkeypatch):
     monkeypatch.setattr(common.sys.stderr, "isatty", lambda: False, raising=False)
     with common.progress(argparse.Namespace(quiet=False), desc="field") as update:
         assert callable(update) and update.__qualname__.startswith("_progress_lines")
+
+
+def test_a_long_run_names_each_stage_when_it_begins(capsys):
+    now = [0.0]
+    update = common._progress_lines("traps", clock=lambda: now[0])
+    for clock, done, stage in [(2, 1, "scan"), (4, None, "equilibria"),  # short so far: quiet
+                               (12, None, "equilibria"), (13, None, "equilibria"),
+                               (14, None, "finite size"), (15, None, "escapes"),
+                               (16, None, "escapes"), (27, None, "escapes")]:
+        now[0] = float(clock)
+        update(done, 10 if done else None, stage)
+    assert capsys.readouterr().err.splitlines() == [
+        "trapscape: equilibria, 12 s", "trapscape: finite size, 14 s",
+        "trapscape: escapes, 15 s", "trapscape: escapes, 27 s"]

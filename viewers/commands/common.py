@@ -184,13 +184,18 @@ def _bar_size() -> dict:
 
 def _progress_lines(desc, clock=time.monotonic):
     """update(done, total, stage=None) printing 'trapscape: scan 40% (12/30 pt), 20 s' to stderr
-    at most every PROGRESS_LINE_SECONDS."""
+    at most every PROGRESS_LINE_SECONDS; once the run is that old, a stage with no count is also
+    named when it begins, so a log shows where a long run spent its time."""
     start = clock()
     last = [start]
+    stages = [None]
 
     def update(done, total, stage=None):
         now = clock()
-        if now - last[0] < PROGRESS_LINE_SECONDS:
+        due = now - last[0] >= PROGRESS_LINE_SECONDS
+        begins = done is None and stage != stages[0] and now - start >= PROGRESS_LINE_SECONDS
+        stages[0] = stage if done is None else None
+        if not (due or begins):
             return
         last[0] = now
         if done is None:  # a stage with no count
